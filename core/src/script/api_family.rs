@@ -1,0 +1,278 @@
+//! Script API of families: evaluate a function over a list or grid of variants in parallel,
+//! collect one row per variant (error rows for failures), and hand tables to the runner.
+
+use super::convert::{flatten, lift, script_error, ScriptResult};
+use super::docs::{Domain, FunctionDoc, ParamDoc, ParamKind};
+use super::host::{EngineLimits, HostState, ScriptError};
+use super::{def, Api};
+use crate::error::Error;
+use crate::report::{Field, Table};
+use rayon::prelude::*;
+use rhai::{Array, Dynamic, FnPtr, ImmutableString, Map, NativeCallContext, AST, INT};
+use std::sync::atomic::{AtomicUsize, Ordering};
+use std::sync::Arc;
+
+static FAMILY: FunctionDoc = FunctionDoc {
+    name: "family",
+    domain: Domain::Families,
+    summary: "Evaluates a function for every variant, in parallel; one row per variant, failures become error rows.",
+    params: &[
+        ParamDoc::required("design", ParamKind::Function, "function taking one variant (e.g. Fn(\"design\") or |v| ...)"),
+        ParamDoc::required("variants", ParamKind::List, "array of variants (maps or values), e.g. from grid"),
+    ],
+    keys: &[],
+    returns: "a Table: the variant's fields, then the result's fields",
+    example: "family(|v| #{power: v.voltage * v.current}, grid(#{voltage: [5 * V, 12 * V], current: [1 * A, 2 * A]}))",
+};
+static GRID: FunctionDoc = FunctionDoc {
+    name: "grid",
+    domain: Domain::Families,
+    summary: "Every combination of the given axes, as an array of maps (first key varies slowest).",
+    params: &[ParamDoc::required("axes", ParamKind::Map, "name → array of values")],
+    keys: &[],
+    returns: "array of maps",
+    example: "grid(#{output_voltage: [5 * V, 12 * V], line: [90 * V, 264 * V]})",
+};
+static TABLE: FunctionDoc = FunctionDoc {
+    name: "table",
+    domain: Domain::Families,
+    summary: "A table from an array of maps or records, one row each.",
+    params: &[ParamDoc::required("rows", ParamKind::List, "array of maps or records")],
+    keys: &[],
+    returns: "a Table",
+    example: "table([#{a: 1 * V}, #{a: 2 * V}])",
+};
+static OUTPUT_TABLE: FunctionDoc = FunctionDoc {
+    name: "output_table",
+    domain: Domain::Families,
+    summary: "Hands a table to the runner, which writes it as NAME.csv / NAME.json into --out (scripts never touch files).",
+    params: &[
+        ParamDoc::required("name", ParamKind::Text, "file stem: letters, digits, _ and -"),
+        ParamDoc::required("table", ParamKind::Any, "the Table"),
+    ],
+    keys: &[],
+    returns: "nothing",
+    example: "output_table(\"family\", table([#{a: 1 * V}]))",
+};
+static COLUMN: FunctionDoc = FunctionDoc {
+    name: "column",
+    domain: Domain::Families,
+    summary: "The values of one column of a table (unit () where a row has none).",
+    params: &[
+        ParamDoc::required("table", ParamKind::Any, "the Table"),
+        ParamDoc::required("name", ParamKind::Text, "column name"),
+    ],
+    keys: &[],
+    returns: "array",
+    example: "table([#{a: 1 * V}, #{a: 2 * V}]).column(\"a\")",
+};
+static ROW: FunctionDoc = FunctionDoc {
+    name: "row",
+    domain: Domain::Families,
+    summary: "One row of a table as a map (with an `error` key when that variant failed).",
+    params: &[
+        ParamDoc::required("table", ParamKind::Any, "the Table"),
+        ParamDoc::required("index", ParamKind::Integer, "row number from 0"),
+    ],
+    keys: &[],
+    returns: "map",
+    example: "table([#{a: 1 * V}]).row(0)",
+};
+static TO_CSV: FunctionDoc = FunctionDoc {
+    name: "to_csv",
+    domain: Domain::Families,
+    summary: "A table as CSV text, units in the column headers.",
+    params: &[ParamDoc::required("table", ParamKind::Any, "the Table")],
+    keys: &[],
+    returns: "text",
+    example: "table([#{a: 1 * V}]).to_csv()",
+};
+static TO_JSON: FunctionDoc = FunctionDoc {
+    name: "to_json",
+    domain: Domain::Families,
+    summary: "A table as JSON text: columns with units, rows of numbers in those units.",
+    params: &[ParamDoc::required("table", ParamKind::Any, "the Table")],
+    keys: &[],
+    returns: "text",
+    example: "table([#{a: 1 * V}]).to_json()",
+};
+
+fn variant_fields(v: &Dynamic) -> Vec<Field> {
+    let mut f = Vec::new();
+    flatten("variant", v, &mut f);
+    // maps flatten as variant.key; show the keys themselves
+    for x in &mut f {
+        if let Some(rest) = x.name.strip_prefix("variant.") {
+            x.name = rest.to_string();
+        }
+    }
+    f
+}
+
+fn lib_ast(ctx: &NativeCallContext) -> AST {
+    let mut ast = AST::empty();
+    for m in ctx.iter_namespaces() {
+        ast.combine(AST::new_from_module(m.clone()));
+    }
+    ast
+}
+
+fn run_family(
+    ctx: &NativeCallContext,
+    state: &HostState,
+    limits: &EngineLimits,
+    f: &FnPtr,
+    variants: &Array,
+) -> Table {
+    let engine = ctx.engine();
+    let ast = lib_ast(ctx);
+    let total = variants.len();
+    let done = AtomicUsize::new(0);
+    let progress = state.progress();
+    let results: Vec<Result<Dynamic, String>> = variants
+        .par_iter()
+        .map(|v| {
+            let r = f
+                .call::<Dynamic>(engine, &ast, (v.clone(),))
+                .map_err(|e| ScriptError::from_eval(&e, "", "", limits).message);
+            if let Some(p) = &progress {
+                p(done.fetch_add(1, Ordering::Relaxed) + 1, total);
+            }
+            r
+        })
+        .collect();
+    let mut table = Table::new();
+    for (v, r) in variants.iter().zip(results) {
+        let mut fields = variant_fields(v);
+        match r {
+            Ok(out) => {
+                flatten("", &out, &mut fields);
+                table.push_row(fields);
+            }
+            Err(message) => table.push_error_row(fields, message),
+        }
+    }
+    table
+}
+
+fn grid(axes: &Map, max_rows: usize) -> crate::error::Result<Array> {
+    let mut rows: Vec<Map> = vec![Map::new()];
+    for (name, values) in axes.iter() {
+        let list: Array = match values.read_lock::<Array>() {
+            Some(a) => a.clone(),
+            None => vec![values.clone()],
+        };
+        if list.is_empty() {
+            return Err(Error::invalid(format!("grid axis `{name}` has no values")));
+        }
+        if rows.len().saturating_mul(list.len()) > max_rows {
+            return Err(Error::out_of_range(format!(
+                "the grid would have more than {max_rows} variants (the array size limit)"
+            )));
+        }
+        let mut next = Vec::with_capacity(rows.len() * list.len());
+        for r in &rows {
+            for v in &list {
+                let mut m = r.clone();
+                m.insert(name.clone(), v.clone());
+                next.push(m);
+            }
+        }
+        rows = next;
+    }
+    Ok(rows.into_iter().map(Dynamic::from_map).collect())
+}
+
+fn valid_output_name(name: &str) -> crate::error::Result<()> {
+    if name.is_empty()
+        || name.len() > 64
+        || !name.chars().all(|c| c.is_ascii_alphanumeric() || c == '_' || c == '-')
+    {
+        return Err(Error::invalid(format!(
+            "output name '{name}' must be 1 to 64 letters, digits, '_' or '-' (it becomes a file name)"
+        )));
+    }
+    Ok(())
+}
+
+pub(crate) fn register(api: &mut Api, state: &Arc<HostState>, limits: &EngineLimits) {
+    let e = &mut *api.engine;
+    e.register_type_with_name::<Table>("Table");
+    e.register_fn("to_string", |t: &mut Table| t.to_text());
+    e.register_fn("to_debug", |t: &mut Table| t.to_text());
+    e.register_fn("len", |t: &mut Table| t.len() as INT);
+    e.register_get("rows", |t: &mut Table| t.len() as INT);
+    e.register_get("error_count", |t: &mut Table| t.error_count() as INT);
+    e.register_get("columns", |t: &mut Table| -> Array {
+        t.column_names().iter().map(|n| Dynamic::from(n.clone())).collect()
+    });
+
+    let st = state.clone();
+    let lim = limits.clone();
+    def!(api, &FAMILY, move |ctx: NativeCallContext, f: FnPtr, variants: Array| -> Table {
+        run_family(&ctx, &st, &lim, &f, &variants)
+    });
+    let max_rows = limits.max_array_size;
+    def!(api, &GRID, move |axes: Map| -> ScriptResult<Array> { lift(grid(&axes, max_rows)) });
+    def!(api, &TABLE, |rows: Array| -> Table {
+        let mut t = Table::new();
+        for r in &rows {
+            let mut f = Vec::new();
+            flatten("", r, &mut f);
+            t.push_row(f);
+        }
+        t
+    });
+    let st = state.clone();
+    def!(api, &OUTPUT_TABLE, move |name: ImmutableString, t: Table| -> ScriptResult<()> {
+        lift(valid_output_name(&name))?;
+        st.push_output(name.to_string(), t);
+        Ok(())
+    });
+    def!(api, &COLUMN, |t: &mut Table, name: ImmutableString| -> ScriptResult<Array> {
+        if !t.column_names().iter().any(|n| n == name.as_str()) {
+            let names: Vec<&str> = t.column_names().iter().map(String::as_str).collect();
+            return Err(script_error(Error::unknown(format!(
+                "the table has no column `{name}`{}",
+                super::suggest::did_you_mean(&name, &names)
+            ))));
+        }
+        Ok((0..t.len())
+            .map(|i| t.get(i, &name).map(super::convert::value_to_dynamic).unwrap_or(Dynamic::UNIT))
+            .collect())
+    });
+    def!(api, &ROW, |t: &mut Table, i: INT| -> ScriptResult<Map> {
+        let i = usize::try_from(i).ok().filter(|i| *i < t.len()).ok_or_else(|| {
+            script_error(Error::out_of_range(format!("row {i} is outside the table's {} rows", t.len())))
+        })?;
+        let mut m = Map::new();
+        for n in t.column_names() {
+            if let Some(v) = t.get(i, n) {
+                m.insert(n.as_str().into(), super::convert::value_to_dynamic(v));
+            }
+        }
+        if let Some(e) = t.error(i) {
+            m.insert("error".into(), Dynamic::from(e.to_string()));
+        }
+        Ok(m)
+    });
+    def!(api, &TO_CSV, |t: &mut Table| t.to_csv());
+    def!(api, &TO_JSON, |t: &mut Table| serde_json::to_string_pretty(&t.to_json()).unwrap_or_default());
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn grid_order_and_limits() {
+        let mut axes = Map::new();
+        axes.insert("a".into(), Dynamic::from_array(vec![Dynamic::from_int(1), Dynamic::from_int(2)]));
+        axes.insert("b".into(), Dynamic::from_array(vec![Dynamic::from_int(3), Dynamic::from_int(4), Dynamic::from_int(5)]));
+        let g = grid(&axes, 100).unwrap();
+        assert_eq!(g.len(), 6);
+        assert!(grid(&axes, 5).is_err());
+        assert!(valid_output_name("../x").is_err());
+        assert!(valid_output_name("family_12v").is_ok());
+    }
+}

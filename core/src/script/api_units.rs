@@ -1,0 +1,399 @@
+//! Script API of units: the Quantity and Decibel types, their operators, unit constants,
+//! parsing, conversion and display.
+
+use super::convert::{dynamic_to_quantity, lift, quantity_to_dynamic, ScriptResult};
+use super::docs::{Domain, FunctionDoc, ParamDoc, ParamKind};
+use super::record::ScriptRecord;
+use super::{def, overload, Api};
+use crate::error::Error;
+use crate::units::{parse_quantity, Decibel, DbReference, Quantity, SCRIPT_CONSTANTS};
+use rhai::{Dynamic, Engine, ImmutableString, FLOAT, INT};
+use std::collections::HashMap;
+use std::sync::OnceLock;
+
+const Q: ParamKind = ParamKind::Quantity("any unit");
+
+static QUANTITY: FunctionDoc = FunctionDoc {
+    name: "quantity",
+    domain: Domain::Units,
+    summary: "Reads a quantity from text: \"4.7 uF\", \"4.7µF\", \"100 mΩ\", \"2.2 kohm\", \"1e-3 H\", \"25 °C\".",
+    params: &[ParamDoc::required("text", ParamKind::Text, "a number and a unit")],
+    keys: &[],
+    returns: "the quantity (a plain number when there is no unit)",
+    example: "quantity(\"4.7 µF\")",
+};
+static TO: FunctionDoc = FunctionDoc {
+    name: "to",
+    domain: Domain::Units,
+    summary: "Writes a quantity in a chosen unit (display only).",
+    params: &[
+        ParamDoc::required("value", Q, "the quantity"),
+        ParamDoc::required("unit", ParamKind::Text, "unit text such as \"nF\", \"V/us\", \"°C\""),
+    ],
+    keys: &[],
+    returns: "text, e.g. \"4700 nF\"",
+    example: "(4.7 * uF).to(\"nF\")",
+};
+static VALUE_IN: FunctionDoc = FunctionDoc {
+    name: "value_in",
+    domain: Domain::Units,
+    summary: "The number a quantity has in a chosen unit.",
+    params: &[
+        ParamDoc::required("value", Q, "the quantity"),
+        ParamDoc::required("unit", ParamKind::Text, "unit text such as \"mH\""),
+    ],
+    keys: &[],
+    returns: "a plain number",
+    example: "(1.1 * mH).value_in(\"uH\")",
+};
+static SQRT: FunctionDoc = FunctionDoc {
+    name: "sqrt",
+    domain: Domain::Units,
+    summary: "Square root; the dimension's exponents must be even (√(L·C) works, √V does not).",
+    params: &[ParamDoc::required("value", Q, "quantity or number")],
+    keys: &[],
+    returns: "the root, with halved exponents",
+    example: "sqrt(1 * mH * (100 * nF))",
+};
+static ABS: FunctionDoc = FunctionDoc {
+    name: "abs",
+    domain: Domain::Units,
+    summary: "Magnitude of a quantity.",
+    params: &[ParamDoc::required("value", Q, "quantity")],
+    keys: &[],
+    returns: "the magnitude, same unit",
+    example: "abs(-3 * V)",
+};
+static MIN: FunctionDoc = FunctionDoc {
+    name: "min",
+    domain: Domain::Units,
+    summary: "The smaller of two quantities of the same dimension.",
+    params: &[ParamDoc::required("a", Q, "quantity"), ParamDoc::required("b", Q, "quantity")],
+    keys: &[],
+    returns: "the smaller one",
+    example: "min(3 * V, 2500 * mV)",
+};
+static MAX: FunctionDoc = FunctionDoc {
+    name: "max",
+    domain: Domain::Units,
+    summary: "The larger of two quantities of the same dimension.",
+    params: &[ParamDoc::required("a", Q, "quantity"), ParamDoc::required("b", Q, "quantity")],
+    keys: &[],
+    returns: "the larger one",
+    example: "max(3 * V, 2500 * mV)",
+};
+static CELSIUS: FunctionDoc = FunctionDoc {
+    name: "celsius",
+    domain: Domain::Units,
+    summary: "An absolute temperature from degrees Celsius (differences are written in K).",
+    params: &[ParamDoc::required("degrees", ParamKind::Number, "temperature in °C")],
+    keys: &[],
+    returns: "an absolute temperature, printed in °C",
+    example: "celsius(100) - celsius(25)",
+};
+static DIMENSION_OF: FunctionDoc = FunctionDoc {
+    name: "dimension_of",
+    domain: Domain::Units,
+    summary: "What a quantity measures (\"inductance\") or its base units when it has no name.",
+    params: &[ParamDoc::required("value", Q, "quantity")],
+    keys: &[],
+    returns: "text",
+    example: "dimension_of(12 * V / (2 * A))",
+};
+static DB_AMPLITUDE: FunctionDoc = FunctionDoc {
+    name: "db_from_amplitude_ratio",
+    domain: Domain::Units,
+    summary: "Decibels of a voltage or current ratio: 20·log10(x).",
+    params: &[ParamDoc::required("ratio", ParamKind::Number, "positive ratio")],
+    keys: &[],
+    returns: "dB",
+    example: "db_from_amplitude_ratio(100)",
+};
+static DB_POWER: FunctionDoc = FunctionDoc {
+    name: "db_from_power_ratio",
+    domain: Domain::Units,
+    summary: "Decibels of a power ratio: 10·log10(x).",
+    params: &[ParamDoc::required("ratio", ParamKind::Number, "positive ratio")],
+    keys: &[],
+    returns: "dB",
+    example: "db_from_power_ratio(2)",
+};
+static AMPLITUDE_RATIO: FunctionDoc = FunctionDoc {
+    name: "amplitude_ratio",
+    domain: Domain::Units,
+    summary: "The amplitude ratio of a value in dB: 10^(dB/20).",
+    params: &[ParamDoc::required("decibels", ParamKind::Any, "a ratio in dB")],
+    keys: &[],
+    returns: "a plain number",
+    example: "amplitude_ratio(40 * dB)",
+};
+static LEVEL_DB: FunctionDoc = FunctionDoc {
+    name: "level_db",
+    domain: Domain::Units,
+    summary: "A voltage as dBµV or a current as dBµA: 20·log10(|x| / 1 µ).",
+    params: &[ParamDoc::required("value", ParamKind::Quantity("V or A"), "voltage or current")],
+    keys: &[],
+    returns: "dBµV or dBµA",
+    example: "level_db(1 * mV)",
+};
+static LEVEL_VALUE: FunctionDoc = FunctionDoc {
+    name: "level_value",
+    domain: Domain::Units,
+    summary: "The voltage of a dBµV level or the current of a dBµA level.",
+    params: &[ParamDoc::required("level", ParamKind::Any, "dBµV or dBµA")],
+    keys: &[],
+    returns: "V or A",
+    example: "level_value(66 * dBuV)",
+};
+static FIELDS: FunctionDoc = FunctionDoc {
+    name: "field_names",
+    domain: Domain::Units,
+    summary: "Names of the fields of a result record, in order.",
+    params: &[ParamDoc::required("record", ParamKind::Any, "a result of a calculation")],
+    keys: &[],
+    returns: "array of text",
+    example: "field_names(resistor_divider(#{output_voltage: 12 * V, reference_voltage: 2.5 * V}))",
+};
+static TO_MAP: FunctionDoc = FunctionDoc {
+    name: "to_map",
+    domain: Domain::Units,
+    summary: "A result record as an object map (keys sorted, values with units).",
+    params: &[ParamDoc::required("record", ParamKind::Any, "a result of a calculation")],
+    keys: &[],
+    returns: "map",
+    example: "to_map(resistor_divider(#{output_voltage: 12 * V, reference_voltage: 2.5 * V}))",
+};
+
+fn constants() -> &'static HashMap<&'static str, Dynamic> {
+    static C: OnceLock<HashMap<&'static str, Dynamic>> = OnceLock::new();
+    C.get_or_init(|| {
+        let mut m = HashMap::new();
+        for (name, text) in SCRIPT_CONSTANTS {
+            if let Ok(q) = parse_quantity(&format!("1 {text}"), None) {
+                m.insert(*name, quantity_to_dynamic(q));
+            }
+        }
+        m.insert("dB", Dynamic::from(Decibel::ratio(1.0)));
+        m.insert("dBuV", Dynamic::from(Decibel { value: 1.0, reference: DbReference::MicroVolt }));
+        m.insert("dBuA", Dynamic::from(Decibel { value: 1.0, reference: DbReference::MicroAmpere }));
+        m.insert("pi", Dynamic::from_float(std::f64::consts::PI));
+        m
+    })
+}
+
+/// Names of the unit constants, sorted.
+pub(crate) fn constant_names() -> Vec<&'static str> {
+    let mut v: Vec<&'static str> = constants().keys().copied().collect();
+    v.sort_unstable();
+    v
+}
+
+fn q(d: &Dynamic, name: &str) -> ScriptResult<Quantity> {
+    lift(dynamic_to_quantity(d, name, None))
+}
+
+fn num(x: INT) -> Quantity {
+    Quantity::number(x as f64)
+}
+
+fn flt(x: FLOAT) -> Quantity {
+    Quantity::number(x)
+}
+
+fn to_dyn(r: crate::error::Result<Quantity>) -> ScriptResult<Dynamic> {
+    lift(r).map(quantity_to_dynamic)
+}
+
+fn cmp(a: Quantity, b: Quantity, f: fn(std::cmp::Ordering) -> bool) -> ScriptResult<bool> {
+    lift(a.compare(&b)).map(f)
+}
+
+fn register_quantity_operators(engine: &mut Engine) {
+    engine.register_type_with_name::<Quantity>("Quantity");
+    macro_rules! both_orders {
+        ($op:literal, $f:expr) => {{
+            let f = $f;
+            engine.register_fn($op, move |a: Quantity, b: Quantity| f(a, b));
+            engine.register_fn($op, move |a: Quantity, b: INT| f(a, num(b)));
+            engine.register_fn($op, move |a: INT, b: Quantity| f(num(a), b));
+            engine.register_fn($op, move |a: Quantity, b: FLOAT| f(a, flt(b)));
+            engine.register_fn($op, move |a: FLOAT, b: Quantity| f(flt(a), b));
+        }};
+    }
+    both_orders!("+", |a: Quantity, b: Quantity| to_dyn(a.add(&b)));
+    both_orders!("-", |a: Quantity, b: Quantity| to_dyn(a.sub(&b)));
+    both_orders!("*", |a: Quantity, b: Quantity| -> ScriptResult<Dynamic> { Ok(quantity_to_dynamic(a.mul(&b))) });
+    both_orders!("/", |a: Quantity, b: Quantity| -> ScriptResult<Dynamic> {
+        if b.value() == 0.0 {
+            return Err(super::convert::script_error(Error::invalid(format!(
+                "division by zero: {} / {}",
+                a, b
+            ))));
+        }
+        Ok(quantity_to_dynamic(a.div(&b)))
+    });
+    both_orders!("==", |a: Quantity, b: Quantity| cmp(a, b, |o| o.is_eq()));
+    both_orders!("!=", |a: Quantity, b: Quantity| cmp(a, b, |o| o.is_ne()));
+    both_orders!("<", |a: Quantity, b: Quantity| cmp(a, b, |o| o.is_lt()));
+    both_orders!("<=", |a: Quantity, b: Quantity| cmp(a, b, |o| o.is_le()));
+    both_orders!(">", |a: Quantity, b: Quantity| cmp(a, b, |o| o.is_gt()));
+    both_orders!(">=", |a: Quantity, b: Quantity| cmp(a, b, |o| o.is_ge()));
+    engine.register_fn("-", |a: Quantity| quantity_to_dynamic(a.neg()));
+    engine.register_fn("+", |a: Quantity| a);
+    engine.register_fn("**", |a: Quantity, n: INT| -> ScriptResult<Dynamic> {
+        let n = i32::try_from(n).map_err(|_| super::convert::script_error(Error::out_of_range("exponent too large")))?;
+        Ok(quantity_to_dynamic(a.powi(n)))
+    });
+    engine.register_fn("to_string", |a: &mut Quantity| a.to_string());
+    engine.register_fn("to_debug", |a: &mut Quantity| a.to_string());
+    engine.register_get("value", |a: &mut Quantity| a.value());
+    engine.register_get("unit", |a: &mut Quantity| crate::units::choose_unit(a.value(), a.dimension()).0);
+    engine.register_get("dimension", |a: &mut Quantity| a.dimension().to_string());
+}
+
+fn register_decibel(engine: &mut Engine) {
+    engine.register_type_with_name::<Decibel>("Decibel");
+    engine.register_fn("+", |a: Decibel, b: Decibel| lift(a.add(&b)));
+    engine.register_fn("-", |a: Decibel, b: Decibel| lift(a.sub(&b)));
+    engine.register_fn("-", |a: Decibel| Decibel { value: -a.value, reference: a.reference });
+    engine.register_fn("*", |a: INT, b: Decibel| Decibel { value: a as f64 * b.value, reference: b.reference });
+    engine.register_fn("*", |a: FLOAT, b: Decibel| Decibel { value: a * b.value, reference: b.reference });
+    engine.register_fn("*", |b: Decibel, a: INT| Decibel { value: a as f64 * b.value, reference: b.reference });
+    engine.register_fn("*", |b: Decibel, a: FLOAT| Decibel { value: a * b.value, reference: b.reference });
+    engine.register_fn("<", |a: Decibel, b: Decibel| lift(a.compare(&b)).map(|o| o.is_lt()));
+    engine.register_fn("<=", |a: Decibel, b: Decibel| lift(a.compare(&b)).map(|o| o.is_le()));
+    engine.register_fn(">", |a: Decibel, b: Decibel| lift(a.compare(&b)).map(|o| o.is_gt()));
+    engine.register_fn(">=", |a: Decibel, b: Decibel| lift(a.compare(&b)).map(|o| o.is_ge()));
+    engine.register_fn("==", |a: Decibel, b: Decibel| lift(a.compare(&b)).map(|o| o.is_eq()));
+    engine.register_fn("!=", |a: Decibel, b: Decibel| lift(a.compare(&b)).map(|o| o.is_ne()));
+    engine.register_fn("to_string", |a: &mut Decibel| a.to_string());
+    engine.register_fn("to_debug", |a: &mut Decibel| a.to_string());
+    engine.register_get("value", |a: &mut Decibel| a.value);
+}
+
+fn register_record(engine: &mut Engine) {
+    engine.register_type_with_name::<ScriptRecord>("Record");
+    engine.register_indexer_get(|r: &mut ScriptRecord, name: ImmutableString| -> ScriptResult<Dynamic> {
+        match r.get(name.as_str()) {
+            Some(v) => Ok(super::convert::value_to_dynamic(v)),
+            None => Err(super::convert::script_error(Error::unknown(format!(
+                "{} has no field `{name}`{}",
+                r.kind(),
+                super::suggest::did_you_mean(&name, &r.names())
+            )))),
+        }
+    });
+    engine.register_fn("to_string", |r: &mut ScriptRecord| r.to_text());
+    engine.register_fn("to_debug", |r: &mut ScriptRecord| r.to_text());
+}
+
+pub(crate) fn register(api: &mut Api) {
+    register_quantity_operators(api.engine);
+    register_decibel(api.engine);
+    register_record(api.engine);
+    #[allow(deprecated)] // on_var is marked volatile, not deprecated
+    api.engine.on_var(|name, _, ctx| {
+        match constants().get(name) {
+            Some(v) if !ctx.scope().contains(name) => Ok(Some(v.clone())),
+            _ => Ok(None),
+        }
+    });
+
+    def!(api, &QUANTITY, |s: ImmutableString| -> ScriptResult<Dynamic> {
+        let q = lift(parse_quantity(s.as_str(), None))?;
+        Ok(if q.is_absolute_temperature() { Dynamic::from(q) } else { quantity_to_dynamic(q) })
+    });
+    def!(api, &TO, |v: Dynamic, unit: ImmutableString| -> ScriptResult<String> {
+        lift(q(&v, "value")?.to_unit_string(unit.as_str()))
+    });
+    def!(api, &VALUE_IN, |v: Dynamic, unit: ImmutableString| -> ScriptResult<FLOAT> {
+        lift(q(&v, "value")?.value_in(unit.as_str()))
+    });
+    def!(api, &SQRT, |v: Quantity| to_dyn(v.sqrt()));
+    def!(api, &ABS, |v: Quantity| quantity_to_dynamic(v.abs()));
+    def!(api, &MIN, |a: Dynamic, b: Dynamic| to_dyn(q(&a, "a")?.min(&q(&b, "b")?)).map(|d| keep_temperature(d, &a, &b)));
+    def!(api, &MAX, |a: Dynamic, b: Dynamic| to_dyn(q(&a, "a")?.max(&q(&b, "b")?)).map(|d| keep_temperature(d, &a, &b)));
+    def!(api, &CELSIUS, |t: Dynamic| -> ScriptResult<Quantity> {
+        let x = lift(super::convert::dynamic_to_number(&t, "degrees"))?;
+        Ok(Quantity::celsius(x))
+    });
+    def!(api, &DIMENSION_OF, |v: Dynamic| -> ScriptResult<String> { Ok(q(&v, "value")?.dimension().to_string()) });
+    def!(api, &DB_AMPLITUDE, |x: Dynamic| -> ScriptResult<Decibel> {
+        lift(super::convert::dynamic_to_number(&x, "ratio").and_then(Decibel::from_amplitude_ratio))
+    });
+    def!(api, &DB_POWER, |x: Dynamic| -> ScriptResult<Decibel> {
+        lift(super::convert::dynamic_to_number(&x, "ratio").and_then(Decibel::from_power_ratio))
+    });
+    def!(api, &AMPLITUDE_RATIO, |d: Decibel| -> ScriptResult<FLOAT> {
+        if d.reference != DbReference::Ratio {
+            return Err(super::convert::script_error(Error::dimension(format!(
+                "{d} is a level, not a ratio; use level_value"
+            ))));
+        }
+        Ok(d.amplitude_ratio())
+    });
+    def!(api, &LEVEL_DB, |v: Dynamic| -> ScriptResult<Decibel> { lift(Decibel::level_of(&q(&v, "value")?)) });
+    def!(api, &LEVEL_VALUE, |d: Decibel| -> ScriptResult<Quantity> { lift(d.to_quantity()) });
+    def!(api, &FIELDS, |r: ScriptRecord| -> rhai::Array {
+        r.names().into_iter().map(|n| Dynamic::from(n.to_string())).collect()
+    });
+    def!(api, &TO_MAP, |r: ScriptRecord| -> rhai::Map {
+        r.fields()
+            .iter()
+            .map(|f| (f.name.as_str().into(), super::convert::value_to_dynamic(&f.value)))
+            .collect()
+    });
+    // plain-number overloads so that sqrt/abs/min/max keep working on FLOAT and INT
+    overload!(api, "sqrt", |x: FLOAT| x.sqrt());
+    overload!(api, "sqrt", |x: INT| (x as FLOAT).sqrt());
+}
+
+/// min/max of absolute temperatures stay absolute temperatures.
+fn keep_temperature(d: Dynamic, a: &Dynamic, b: &Dynamic) -> Dynamic {
+    let abs = |x: &Dynamic| x.read_lock::<Quantity>().is_some_and(|q| q.is_absolute_temperature());
+    if abs(a) && abs(b) {
+        if let Some(q) = d.read_lock::<Quantity>() {
+            return Dynamic::from(q.with_absolute_temperature(true));
+        }
+    }
+    d
+}
+
+/// Formats any script value for display at the prompt.
+pub(crate) fn display_value(v: &Dynamic) -> String {
+    if let Some(q) = v.read_lock::<Quantity>() {
+        return q.to_string();
+    }
+    if let Some(d) = v.read_lock::<Decibel>() {
+        return d.to_string();
+    }
+    if let Some(r) = v.read_lock::<ScriptRecord>() {
+        return r.to_text().trim_end().to_string();
+    }
+    if let Some(t) = v.read_lock::<crate::report::Table>() {
+        return t.to_text().trim_end().to_string();
+    }
+    if let Some(c) = v.read_lock::<crate::rules::CheckResult>() {
+        return super::api_rules::check_line(&c);
+    }
+    if let Ok(x) = v.as_float() {
+        return crate::units::format_number(x);
+    }
+    if let Some(m) = v.read_lock::<rhai::Map>() {
+        let w = m.keys().map(|k| k.len()).max().unwrap_or(0);
+        let mut s = String::from("#{\n");
+        for (k, x) in m.iter() {
+            s.push_str(&format!("  {:w$}: {},\n", k.as_str(), display_value(x)));
+        }
+        s.push('}');
+        return s;
+    }
+    if let Some(a) = v.read_lock::<rhai::Array>() {
+        let items: Vec<String> = a.iter().map(display_value).collect();
+        return format!("[{}]", items.join(", "));
+    }
+    if let Some(s) = v.read_lock::<ImmutableString>() {
+        return format!("{:?}", s.as_str());
+    }
+    v.to_string()
+}

@@ -1,0 +1,406 @@
+//! The one configured engine: sandbox limits, a wall-clock budget, print and output sinks.
+
+use super::docs::FunctionDoc;
+use crate::report::Table;
+use rhai::{Dynamic, Engine, EvalAltResult, ParseError, ParseErrorType, Position, Scope, AST};
+use std::fmt;
+use std::sync::atomic::{AtomicU64, Ordering};
+use std::sync::{Arc, Mutex, RwLock};
+use std::time::{Duration, Instant};
+
+/// Limits for untrusted scripts. Every limit is set explicitly so that debug and release
+/// builds, tests and users see the same behaviour; the command line can raise them.
+#[derive(Clone, Debug, PartialEq)]
+pub struct EngineLimits {
+    /// Operations one evaluation may perform (each family variant counts on its own).
+    pub max_operations: u64,
+    /// Depth of nested function calls.
+    pub max_call_levels: usize,
+    /// Depth of nested expressions at the top level.
+    pub max_expr_depth: usize,
+    /// Depth of nested expressions inside functions.
+    pub max_function_expr_depth: usize,
+    /// Longest string, in bytes.
+    pub max_string_size: usize,
+    /// Largest array.
+    pub max_array_size: usize,
+    /// Largest object map.
+    pub max_map_size: usize,
+    /// Variables in one scope.
+    pub max_variables: usize,
+    /// Functions one script may define.
+    pub max_functions: usize,
+    /// Wall-clock time one evaluation may take.
+    pub time_budget: Duration,
+}
+
+impl Default for EngineLimits {
+    fn default() -> Self {
+        Self {
+            max_operations: 200_000_000,
+            max_call_levels: 64,
+            max_expr_depth: 64,
+            max_function_expr_depth: 64,
+            max_string_size: 1 << 20,
+            max_array_size: 1_000_000,
+            max_map_size: 10_000,
+            max_variables: 10_000,
+            max_functions: 10_000,
+            time_budget: Duration::from_secs(60),
+        }
+    }
+}
+
+/// A callback told how many family variants are done out of how many.
+pub type ProgressFn = Arc<dyn Fn(usize, usize) + Send + Sync>;
+/// A callback that receives each line a script prints.
+pub type PrintFn = Arc<dyn Fn(&str) + Send + Sync>;
+
+/// State shared between the host and the functions registered on its engine.
+pub(crate) struct HostState {
+    epoch: Instant,
+    deadline_nanos: AtomicU64,
+    budget: Duration,
+    outputs: Mutex<Vec<(String, Table)>>,
+    printed: Mutex<Vec<String>>,
+    print: RwLock<Option<PrintFn>>,
+    progress: RwLock<Option<ProgressFn>>,
+}
+
+impl HostState {
+    fn new(budget: Duration) -> Self {
+        Self {
+            epoch: Instant::now(),
+            deadline_nanos: AtomicU64::new(0),
+            budget,
+            outputs: Mutex::new(Vec::new()),
+            printed: Mutex::new(Vec::new()),
+            print: RwLock::new(None),
+            progress: RwLock::new(None),
+        }
+    }
+    fn start_clock(&self) {
+        let deadline = self.epoch.elapsed() + self.budget;
+        let nanos = u64::try_from(deadline.as_nanos()).unwrap_or(u64::MAX).max(1);
+        self.deadline_nanos.store(nanos, Ordering::Relaxed);
+    }
+    fn stop_clock(&self) {
+        self.deadline_nanos.store(0, Ordering::Relaxed);
+    }
+    fn over_time(&self) -> bool {
+        let d = self.deadline_nanos.load(Ordering::Relaxed);
+        d != 0 && self.epoch.elapsed().as_nanos() > u128::from(d)
+    }
+    pub(crate) fn push_output(&self, name: String, table: Table) {
+        if let Ok(mut o) = self.outputs.lock() {
+            o.retain(|(n, _)| *n != name);
+            o.push((name, table));
+        }
+    }
+    pub(crate) fn progress(&self) -> Option<ProgressFn> {
+        self.progress.read().ok().and_then(|p| p.clone())
+    }
+    fn print(&self, text: &str) {
+        let sink = self.print.read().ok().and_then(|p| p.clone());
+        match sink {
+            Some(f) => f(text),
+            None => {
+                if let Ok(mut p) = self.printed.lock() {
+                    p.push(text.to_string());
+                }
+            }
+        }
+    }
+}
+
+/// A script error with its place: message, source name, line, column and the source line.
+#[derive(Clone, Debug, PartialEq)]
+pub struct ScriptError {
+    /// The message, lowercase where it comes from gapwise.
+    pub message: String,
+    /// Name of the source (file name, `<prompt>`, `<eval>`).
+    pub source_name: String,
+    /// Line, from 1, if known.
+    pub line: Option<usize>,
+    /// Column, from 1, if known.
+    pub column: Option<usize>,
+    /// The source line, if known.
+    pub source_line: Option<String>,
+    /// True when the input ended inside an open bracket, block or string.
+    pub incomplete: bool,
+}
+
+impl ScriptError {
+    fn locate(message: String, pos: Position, source: &str, source_name: &str) -> Self {
+        let line = pos.line();
+        let column = pos.position();
+        let source_line = line.and_then(|l| source.lines().nth(l.saturating_sub(1)).map(str::to_string));
+        Self {
+            message,
+            source_name: source_name.to_string(),
+            line,
+            column,
+            source_line,
+            incomplete: false,
+        }
+    }
+
+    pub(crate) fn from_parse(e: &ParseError, source: &str, source_name: &str) -> Self {
+        let incomplete = is_incomplete(e, source);
+        let mut s = Self::locate(e.err_type().to_string(), e.position(), source, source_name);
+        s.incomplete = incomplete;
+        s
+    }
+
+    pub(crate) fn from_eval(e: &EvalAltResult, source: &str, source_name: &str, limits: &EngineLimits) -> Self {
+        let mut context = Vec::new();
+        let mut pos = e.position();
+        let mut cur = e;
+        loop {
+            match cur {
+                EvalAltResult::ErrorInFunctionCall(name, _, inner, p) => {
+                    if !name.starts_with("anon$") {
+                        context.push(format!("in `{name}`"));
+                    }
+                    if !p.is_none() {
+                        pos = *p;
+                    }
+                    cur = inner;
+                }
+                EvalAltResult::ErrorInModule(_, inner, _) => cur = inner,
+                _ => break,
+            }
+        }
+        if !cur.position().is_none() {
+            pos = cur.position();
+        }
+        let base = match cur {
+            EvalAltResult::ErrorRuntime(d, _) => d.to_string(),
+            EvalAltResult::ErrorTerminated(d, _) => d.to_string(),
+            EvalAltResult::ErrorTooManyOperations(_) => format!(
+                "script stopped: more than {} operations (raise the limit with --max-operations)",
+                limits.max_operations
+            ),
+            EvalAltResult::ErrorStackOverflow(_) => format!(
+                "script stopped: calls nested deeper than {} levels (raise the limit with --max-call-depth)",
+                limits.max_call_levels
+            ),
+            EvalAltResult::ErrorDataTooLarge(what, _) => format!(
+                "script stopped: {what} exceeds its size limit (strings {} bytes, arrays {} items, maps {} keys)",
+                limits.max_string_size, limits.max_array_size, limits.max_map_size
+            ),
+            EvalAltResult::ErrorTooManyModules(_) | EvalAltResult::ErrorModuleNotFound(..) => {
+                "scripts cannot import modules or files; load a recipe with `gapwise run` or `:load`".to_string()
+            }
+            other => {
+                let text = other.to_string();
+                let suffix = format!(" ({})", other.position());
+                text.strip_suffix(&suffix).map(str::to_string).unwrap_or(text)
+            }
+        };
+        let message = if context.is_empty() {
+            base
+        } else {
+            format!("{base} ({})", context.join(", "))
+        };
+        Self::locate(message, pos, source, source_name)
+    }
+}
+
+fn is_incomplete(e: &ParseError, source: &str) -> bool {
+    match e.err_type() {
+        ParseErrorType::UnexpectedEOF => true,
+        ParseErrorType::MissingToken(..) => {
+            // the parser reached the end of the input while a bracket was open
+            let text = source.trim_end();
+            let last_line = text.lines().count().max(1);
+            let last_len = text.lines().last().map_or(0, |l| l.chars().count());
+            match (e.position().line(), e.position().position()) {
+                (Some(l), _) if l > last_line => true,
+                (Some(l), Some(c)) => l == last_line && c > last_len,
+                (Some(l), None) => l >= last_line,
+                (None, _) => true,
+            }
+        }
+        ParseErrorType::BadInput(rhai::LexError::UnterminatedString) => true,
+        _ => false,
+    }
+}
+
+impl fmt::Display for ScriptError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        writeln!(f, "error: {}", self.message)?;
+        if let (Some(l), Some(src)) = (self.line, &self.source_line) {
+            let col = self.column.unwrap_or(1);
+            writeln!(f, "  --> {}:{}:{}", self.source_name, l, col)?;
+            let gutter = l.to_string().len();
+            writeln!(f, "{:gutter$} |", "")?;
+            writeln!(f, "{l} | {src}")?;
+            write!(f, "{:gutter$} | {}^", "", " ".repeat(col.saturating_sub(1)))?;
+        } else if let Some(l) = self.line {
+            write!(f, "  --> {}:{}", self.source_name, l)?;
+        }
+        Ok(())
+    }
+}
+
+impl std::error::Error for ScriptError {}
+
+/// The scripting host: one engine, built once, immutable after construction, with the
+/// gapwise functions, unit constants and sandbox limits. Runs on one host are sequential
+/// (outputs and printed lines are collected per host); family variants run in parallel.
+pub struct ScriptHost {
+    engine: Engine,
+    state: Arc<HostState>,
+    docs: Vec<&'static FunctionDoc>,
+    limits: EngineLimits,
+}
+
+impl ScriptHost {
+    /// Builds the engine with the given limits: no module imports, no file, network or
+    /// environment access, `eval` disabled, every limit set, a wall-clock budget enforced
+    /// through the progress callback.
+    pub fn new(limits: EngineLimits) -> Self {
+        let state = Arc::new(HostState::new(limits.time_budget));
+        let mut engine = Engine::new_raw();
+        {
+            use rhai::packages::Package;
+            rhai::packages::StandardPackage::new().register_into_engine(&mut engine);
+        }
+        engine.set_module_resolver(rhai::module_resolvers::DummyModuleResolver::new());
+        engine.set_max_modules(0);
+        engine.disable_symbol("eval");
+        engine.set_max_operations(limits.max_operations);
+        engine.set_max_call_levels(limits.max_call_levels);
+        engine.set_max_expr_depths(limits.max_expr_depth, limits.max_function_expr_depth);
+        engine.set_max_string_size(limits.max_string_size);
+        engine.set_max_array_size(limits.max_array_size);
+        engine.set_max_map_size(limits.max_map_size);
+        engine.set_max_variables(limits.max_variables);
+        engine.set_max_functions(limits.max_functions);
+        engine.set_optimization_level(rhai::OptimizationLevel::Simple);
+        let budget = limits.time_budget;
+        let st = state.clone();
+        engine.on_progress(move |ops| {
+            if ops % 4096 == 0 && st.over_time() {
+                Some(Dynamic::from(format!(
+                    "script stopped: time budget of {} s exceeded (raise it with --time-budget)",
+                    budget.as_secs_f64()
+                )))
+            } else {
+                None
+            }
+        });
+        let st = state.clone();
+        engine.on_print(move |s| st.print(s));
+        let st = state.clone();
+        engine.on_debug(move |s, _, pos| st.print(&format!("[debug {pos}] {s}")));
+        let mut docs = Vec::new();
+        super::register_all(&mut engine, &mut docs, &state, &limits);
+        Self {
+            engine,
+            state,
+            docs,
+            limits,
+        }
+    }
+
+    /// The engine, for embedding (compile and call functions directly).
+    pub fn engine(&self) -> &Engine {
+        &self.engine
+    }
+    /// The limits the engine was built with.
+    pub fn limits(&self) -> &EngineLimits {
+        &self.limits
+    }
+    /// Help of every registered function.
+    pub fn docs(&self) -> &[&'static FunctionDoc] {
+        &self.docs
+    }
+    /// Help of one function.
+    pub fn doc(&self, name: &str) -> Option<&'static FunctionDoc> {
+        self.docs.iter().find(|d| d.name == name).copied()
+    }
+    /// Names of the unit constants scripts can use (`V`, `mA`, `uF`, …).
+    pub fn constant_names(&self) -> Vec<&'static str> {
+        super::api_units::constant_names()
+    }
+    /// Sends printed lines to a callback instead of collecting them.
+    pub fn set_print(&self, f: Option<PrintFn>) {
+        if let Ok(mut p) = self.state.print.write() {
+            *p = f;
+        }
+    }
+    /// Sets the callback told about family progress.
+    pub fn set_progress(&self, f: Option<ProgressFn>) {
+        if let Ok(mut p) = self.state.progress.write() {
+            *p = f;
+        }
+    }
+    /// Lines printed since the last call (when no print callback is set).
+    pub fn take_printed(&self) -> Vec<String> {
+        self.state.printed.lock().map(|mut p| std::mem::take(&mut *p)).unwrap_or_default()
+    }
+    /// Tables a script handed to `output_table` since the last call, in order.
+    pub fn take_outputs(&self) -> Vec<(String, Table)> {
+        self.state.outputs.lock().map(|mut o| std::mem::take(&mut *o)).unwrap_or_default()
+    }
+
+    /// Compiles a script; `source_name` appears in error messages.
+    pub fn compile(&self, source: &str, source_name: &str) -> Result<AST, ScriptError> {
+        self.engine
+            .compile(source)
+            .map_err(|e| ScriptError::from_parse(&e, source, source_name))
+    }
+
+    /// Compiles with the variables of a scope known (constants may be folded).
+    pub fn compile_with_scope(&self, scope: &Scope, source: &str, source_name: &str) -> Result<AST, ScriptError> {
+        self.engine
+            .compile_with_scope(scope, source)
+            .map_err(|e| ScriptError::from_parse(&e, source, source_name))
+    }
+
+    /// Runs a compiled script in a scope under the time budget and returns its last value.
+    /// `source` is used to show the failing line.
+    pub fn run(&self, ast: &AST, scope: &mut Scope, source: &str, source_name: &str) -> Result<Dynamic, ScriptError> {
+        self.state.start_clock();
+        let r = self.engine.eval_ast_with_scope::<Dynamic>(scope, ast);
+        self.state.stop_clock();
+        r.map_err(|e| ScriptError::from_eval(&e, source, source_name, &self.limits))
+    }
+
+    /// Compiles and runs a script in a fresh scope.
+    pub fn eval(&self, source: &str, source_name: &str) -> Result<Dynamic, ScriptError> {
+        let ast = self.compile(source, source_name)?;
+        self.run(&ast, &mut Scope::new(), source, source_name)
+    }
+
+    /// Calls a script-defined function of a compiled script under the time budget.
+    pub fn call(&self, ast: &AST, name: &str, args: impl rhai::FuncArgs) -> Result<Dynamic, ScriptError> {
+        self.state.start_clock();
+        let r = self.engine.call_fn::<Dynamic>(&mut Scope::new(), ast, name, args);
+        self.state.stop_clock();
+        r.map_err(|e| ScriptError::from_eval(&e, "", name, &self.limits))
+    }
+
+    /// True when the text is a complete script, false while brackets, blocks or a string
+    /// are still open (the prompt then reads another line). Uses the engine's own parser.
+    pub fn is_complete(&self, source: &str) -> bool {
+        match self.engine.compile(source) {
+            Ok(_) => true,
+            Err(e) => !is_incomplete(&e, source),
+        }
+    }
+
+    /// Formats a script value for display: quantities with units, records one field per
+    /// line, tables aligned.
+    pub fn display(&self, value: &Dynamic) -> String {
+        super::api_units::display_value(value)
+    }
+}
+
+impl Default for ScriptHost {
+    fn default() -> Self {
+        Self::new(EngineLimits::default())
+    }
+}

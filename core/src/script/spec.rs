@@ -1,0 +1,170 @@
+//! Reading object-map arguments (`f(#{ output_voltage: 12 * V })`) into typed values:
+//! unknown keys suggest the nearest valid key, missing keys name themselves and their unit,
+//! defaults come from the same [`ParamDoc`] list the help shows.
+
+use super::convert::{dynamic_to_integer, dynamic_to_number, dynamic_to_quantity, dynamic_to_typed};
+use super::docs::{FunctionDoc, ParamDefault, ParamDoc, ParamKind};
+use super::suggest::did_you_mean;
+use crate::error::{Error, Result};
+use crate::units::{parse_quantity, Quantity, TypedQuantity};
+use rhai::{Dynamic, Map, INT};
+
+/// A checked view of an object-map argument.
+pub struct Spec<'a> {
+    function: &'static str,
+    map: &'a Map,
+    keys: &'static [ParamDoc],
+}
+
+impl<'a> Spec<'a> {
+    /// Checks the map's keys against the function's documented keys.
+    pub fn new(doc: &'static FunctionDoc, map: &'a Map) -> Result<Self> {
+        let names: Vec<&str> = doc.keys.iter().map(|k| k.name).collect();
+        for k in map.keys() {
+            if !names.contains(&k.as_str()) {
+                return Err(Error::unknown(format!(
+                    "{}: unknown key `{k}`{}",
+                    doc.name,
+                    did_you_mean(k, &names)
+                )));
+            }
+        }
+        Ok(Self {
+            function: doc.name,
+            map,
+            keys: doc.keys,
+        })
+    }
+
+    fn doc(&self, key: &str) -> Result<&'static ParamDoc> {
+        self.keys.iter().find(|k| k.name == key).ok_or_else(|| {
+            Error::unknown(format!(
+                "{}: key `{key}` is read but not documented (a gapwise bug; please report it)",
+                self.function
+            ))
+        })
+    }
+
+    fn missing(&self, d: &ParamDoc) -> Error {
+        Error::missing(format!(
+            "{}: missing key `{}` ({}, {})",
+            self.function,
+            d.name,
+            d.summary,
+            d.kind.describe()
+        ))
+    }
+
+    fn context(&self, e: Error) -> Error {
+        e.context(self.function)
+    }
+
+    /// The raw value of a key, or its default text converted, or None when optional.
+    fn raw(&self, key: &str) -> Result<Option<Dynamic>> {
+        let d = self.doc(key)?;
+        if let Some(v) = self.map.get(key) {
+            if v.is_unit() {
+                return Ok(None);
+            }
+            return Ok(Some(v.clone()));
+        }
+        match d.default {
+            ParamDefault::Required => Err(self.missing(d)),
+            ParamDefault::Optional => Ok(None),
+            ParamDefault::Value(text) => Ok(Some(match d.kind {
+                ParamKind::Quantity(_) | ParamKind::Number => {
+                    let q = parse_quantity(text, None).map_err(|e| self.context(e))?;
+                    if q.is_absolute_temperature() {
+                        Dynamic::from(q)
+                    } else {
+                        super::convert::quantity_to_dynamic(q)
+                    }
+                }
+                ParamKind::Integer => Dynamic::from_int(text.parse::<INT>().map_err(|_| {
+                    Error::invalid(format!("bad default '{text}' for `{key}`"))
+                })?),
+                ParamKind::Flag => Dynamic::from_bool(text == "true"),
+                _ => Dynamic::from(text.to_string()),
+            })),
+        }
+    }
+
+    /// A typed quantity; required unless it has a default.
+    pub fn quantity<Q: TypedQuantity>(&self, key: &str) -> Result<Q> {
+        match self.raw(key)? {
+            Some(v) => dynamic_to_typed(&v, key).map_err(|e| self.context(e)),
+            None => Err(self.missing(self.doc(key)?)),
+        }
+    }
+
+    /// A typed quantity that may be absent.
+    pub fn optional_quantity<Q: TypedQuantity>(&self, key: &str) -> Result<Option<Q>> {
+        self.raw(key)?
+            .map(|v| dynamic_to_typed(&v, key).map_err(|e| self.context(e)))
+            .transpose()
+    }
+
+    /// A runtime quantity of any dimension (for rules and generic helpers).
+    pub fn any_quantity(&self, key: &str) -> Result<Quantity> {
+        match self.raw(key)? {
+            Some(v) => dynamic_to_quantity(&v, key, None).map_err(|e| self.context(e)),
+            None => Err(self.missing(self.doc(key)?)),
+        }
+    }
+
+    /// A plain number; INT is accepted.
+    pub fn number(&self, key: &str) -> Result<f64> {
+        match self.raw(key)? {
+            Some(v) => dynamic_to_number(&v, key).map_err(|e| self.context(e)),
+            None => Err(self.missing(self.doc(key)?)),
+        }
+    }
+
+    /// A plain number that may be absent.
+    pub fn optional_number(&self, key: &str) -> Result<Option<f64>> {
+        self.raw(key)?
+            .map(|v| dynamic_to_number(&v, key).map_err(|e| self.context(e)))
+            .transpose()
+    }
+
+    /// A whole number.
+    pub fn integer(&self, key: &str) -> Result<INT> {
+        match self.raw(key)? {
+            Some(v) => dynamic_to_integer(&v, key).map_err(|e| self.context(e)),
+            None => Err(self.missing(self.doc(key)?)),
+        }
+    }
+
+    /// Text.
+    pub fn text(&self, key: &str) -> Result<String> {
+        match self.optional_text(key)? {
+            Some(s) => Ok(s),
+            None => Err(self.missing(self.doc(key)?)),
+        }
+    }
+
+    /// Text that may be absent.
+    pub fn optional_text(&self, key: &str) -> Result<Option<String>> {
+        match self.raw(key)? {
+            None => Ok(None),
+            Some(v) => v.into_immutable_string().map(|s| Some(s.to_string())).map_err(|t| {
+                self.context(Error::invalid(format!("`{key}` must be text, got a value of type {t}")))
+            }),
+        }
+    }
+
+    /// true / false.
+    pub fn flag(&self, key: &str) -> Result<bool> {
+        match self.raw(key)? {
+            None => Err(self.missing(self.doc(key)?)),
+            Some(v) => v.as_bool().map_err(|t| {
+                self.context(Error::invalid(format!("`{key}` must be true or false, got a value of type {t}")))
+            }),
+        }
+    }
+
+    /// The raw script value of a key (arrays, maps, functions), if present.
+    pub fn value(&self, key: &str) -> Result<Option<Dynamic>> {
+        self.raw(key)
+    }
+}

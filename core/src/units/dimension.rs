@@ -1,0 +1,242 @@
+//! Dimensions as exponents of the seven SI base quantities.
+
+use serde::{Deserialize, Serialize};
+use std::fmt;
+
+/// Names of the base dimensions, in the order of [`Dimension::exponents`].
+pub const BASE_SYMBOLS: [&str; 7] = ["m", "kg", "s", "A", "K", "mol", "cd"];
+
+/// The dimension of a quantity: exponents of length, mass, time, electric current,
+/// thermodynamic temperature, amount of substance and luminous intensity (SI order).
+#[derive(Clone, Copy, PartialEq, Eq, Hash, Debug, Default, Serialize, Deserialize)]
+pub struct Dimension {
+    /// Exponents of m, kg, s, A, K, mol, cd.
+    pub exponents: [i8; 7],
+}
+
+macro_rules! dims {
+    ($($(#[$doc:meta])* $name:ident = [$($e:expr),*];)*) => {
+        $( $(#[$doc])* pub const $name: Dimension = Dimension { exponents: [$($e),*] }; )*
+    };
+}
+
+impl Dimension {
+    dims! {
+        /// Dimensionless (a plain number).
+        NONE = [0, 0, 0, 0, 0, 0, 0];
+        /// Length (m).
+        LENGTH = [1, 0, 0, 0, 0, 0, 0];
+        /// Area (m²).
+        AREA = [2, 0, 0, 0, 0, 0, 0];
+        /// Volume (m³).
+        VOLUME = [3, 0, 0, 0, 0, 0, 0];
+        /// Area product, window area times core area (m⁴).
+        AREA_PRODUCT = [4, 0, 0, 0, 0, 0, 0];
+        /// Mass (kg).
+        MASS = [0, 1, 0, 0, 0, 0, 0];
+        /// Time (s).
+        TIME = [0, 0, 1, 0, 0, 0, 0];
+        /// Frequency (Hz).
+        FREQUENCY = [0, 0, -1, 0, 0, 0, 0];
+        /// Electric current (A).
+        CURRENT = [0, 0, 0, 1, 0, 0, 0];
+        /// Temperature (K).
+        TEMPERATURE = [0, 0, 0, 0, 1, 0, 0];
+        /// Electric potential (V).
+        VOLTAGE = [2, 1, -3, -1, 0, 0, 0];
+        /// Power (W).
+        POWER = [2, 1, -3, 0, 0, 0, 0];
+        /// Energy (J).
+        ENERGY = [2, 1, -2, 0, 0, 0, 0];
+        /// Electric charge (C).
+        CHARGE = [0, 0, 1, 1, 0, 0, 0];
+        /// Resistance (Ω).
+        RESISTANCE = [2, 1, -3, -2, 0, 0, 0];
+        /// Conductance (S).
+        CONDUCTANCE = [-2, -1, 3, 2, 0, 0, 0];
+        /// Capacitance (F).
+        CAPACITANCE = [-2, -1, 4, 2, 0, 0, 0];
+        /// Inductance (H).
+        INDUCTANCE = [2, 1, -2, -2, 0, 0, 0];
+        /// Magnetic flux (Wb).
+        FLUX = [2, 1, -2, -1, 0, 0, 0];
+        /// Magnetic flux density (T).
+        FLUX_DENSITY = [0, 1, -2, -1, 0, 0, 0];
+        /// Magnetic field strength (A/m).
+        FIELD_STRENGTH = [-1, 0, 0, 1, 0, 0, 0];
+        /// Permeability (H/m).
+        PERMEABILITY = [1, 1, -2, -2, 0, 0, 0];
+        /// Resistivity (Ω·m).
+        RESISTIVITY = [3, 1, -3, -2, 0, 0, 0];
+        /// Current density (A/m²).
+        CURRENT_DENSITY = [-2, 0, 0, 1, 0, 0, 0];
+        /// Power density by volume (W/m³).
+        POWER_DENSITY = [-1, 1, -3, 0, 0, 0, 0];
+        /// Power density by area (W/m²).
+        POWER_PER_AREA = [0, 1, -3, 0, 0, 0, 0];
+        /// Thermal resistance (K/W).
+        THERMAL_RESISTANCE = [-2, -1, 3, 0, 1, 0, 0];
+        /// Slew rate (V/s).
+        SLEW_RATE = [2, 1, -4, -1, 0, 0, 0];
+        /// Current slew rate (A/s).
+        CURRENT_SLEW_RATE = [0, 0, -1, 1, 0, 0, 0];
+        /// Force (N).
+        FORCE = [1, 1, -2, 0, 0, 0, 0];
+        /// Pressure (Pa).
+        PRESSURE = [-1, 1, -2, 0, 0, 0, 0];
+        /// Velocity (m/s).
+        VELOCITY = [1, 0, -1, 0, 0, 0, 0];
+        /// Amount of substance (mol).
+        AMOUNT = [0, 0, 0, 0, 0, 1, 0];
+        /// Luminous intensity (cd).
+        LUMINOUS_INTENSITY = [0, 0, 0, 0, 0, 0, 1];
+    }
+
+    /// True for a plain number.
+    pub fn is_dimensionless(self) -> bool {
+        self.exponents == [0; 7]
+    }
+
+    /// The dimension of a product.
+    #[must_use]
+    pub fn mul(self, other: Dimension) -> Dimension {
+        let mut e = self.exponents;
+        for (a, b) in e.iter_mut().zip(other.exponents) {
+            *a = a.saturating_add(b);
+        }
+        Dimension { exponents: e }
+    }
+
+    /// The dimension of a quotient.
+    #[must_use]
+    pub fn div(self, other: Dimension) -> Dimension {
+        self.mul(other.powi(-1))
+    }
+
+    /// The dimension raised to an integer power.
+    #[must_use]
+    pub fn powi(self, n: i32) -> Dimension {
+        let mut e = self.exponents;
+        for a in e.iter_mut() {
+            *a = (i32::from(*a) * n).clamp(i32::from(i8::MIN), i32::from(i8::MAX)) as i8;
+        }
+        Dimension { exponents: e }
+    }
+
+    /// The dimension of a square root, if every exponent is even.
+    pub fn sqrt(self) -> Option<Dimension> {
+        if self.exponents.iter().any(|e| e % 2 != 0) {
+            return None;
+        }
+        let mut e = self.exponents;
+        for a in e.iter_mut() {
+            *a /= 2;
+        }
+        Some(Dimension { exponents: e })
+    }
+
+    /// A short name of what this dimension measures ("voltage", "inductance", …), if it has one.
+    pub fn name(self) -> Option<&'static str> {
+        NAMES.iter().find(|(d, _)| *d == self).map(|(_, n)| *n)
+    }
+
+    /// The dimension written in base units, e.g. `m²·kg·s⁻³·A⁻¹`; empty when dimensionless.
+    pub fn base_units(self) -> String {
+        let mut parts = Vec::new();
+        for (sym, e) in BASE_SYMBOLS.iter().zip(self.exponents) {
+            match e {
+                0 => {}
+                1 => parts.push((*sym).to_string()),
+                _ => parts.push(format!("{sym}{}", superscript(e))),
+            }
+        }
+        parts.join("·")
+    }
+}
+
+const NAMES: &[(Dimension, &str)] = &[
+    (Dimension::NONE, "number"),
+    (Dimension::LENGTH, "length"),
+    (Dimension::AREA, "area"),
+    (Dimension::VOLUME, "volume"),
+    (Dimension::AREA_PRODUCT, "area product"),
+    (Dimension::MASS, "mass"),
+    (Dimension::TIME, "time"),
+    (Dimension::FREQUENCY, "frequency"),
+    (Dimension::CURRENT, "current"),
+    (Dimension::TEMPERATURE, "temperature"),
+    (Dimension::VOLTAGE, "voltage"),
+    (Dimension::POWER, "power"),
+    (Dimension::ENERGY, "energy"),
+    (Dimension::CHARGE, "charge"),
+    (Dimension::RESISTANCE, "resistance"),
+    (Dimension::CONDUCTANCE, "conductance"),
+    (Dimension::CAPACITANCE, "capacitance"),
+    (Dimension::INDUCTANCE, "inductance"),
+    (Dimension::FLUX, "magnetic flux"),
+    (Dimension::FLUX_DENSITY, "flux density"),
+    (Dimension::FIELD_STRENGTH, "magnetic field strength"),
+    (Dimension::PERMEABILITY, "permeability"),
+    (Dimension::RESISTIVITY, "resistivity"),
+    (Dimension::CURRENT_DENSITY, "current density"),
+    (Dimension::POWER_DENSITY, "power density"),
+    (Dimension::POWER_PER_AREA, "power per area"),
+    (Dimension::THERMAL_RESISTANCE, "thermal resistance"),
+    (Dimension::SLEW_RATE, "voltage slew rate"),
+    (Dimension::CURRENT_SLEW_RATE, "current slew rate"),
+    (Dimension::FORCE, "force"),
+    (Dimension::PRESSURE, "pressure"),
+    (Dimension::VELOCITY, "velocity"),
+    (Dimension::AMOUNT, "amount of substance"),
+    (Dimension::LUMINOUS_INTENSITY, "luminous intensity"),
+];
+
+/// Writes an integer exponent in superscript digits (`-3` → `⁻³`).
+pub fn superscript(n: i8) -> String {
+    let digits = ['⁰', '¹', '²', '³', '⁴', '⁵', '⁶', '⁷', '⁸', '⁹'];
+    let mut s = String::new();
+    if n < 0 {
+        s.push('⁻');
+    }
+    for c in n.unsigned_abs().to_string().chars() {
+        s.push(digits[c.to_digit(10).unwrap_or(0) as usize]);
+    }
+    s
+}
+
+impl fmt::Display for Dimension {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self.name() {
+            Some(n) => f.write_str(n),
+            None => write!(f, "{}", self.base_units()),
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn derived_dimensions_compose() {
+        // volt-seconds per ampere is an inductance (definition of the henry, SI brochure)
+        assert_eq!(
+            Dimension::VOLTAGE
+                .mul(Dimension::TIME)
+                .div(Dimension::CURRENT),
+            Dimension::INDUCTANCE
+        );
+        // watt per ampere is a volt
+        assert_eq!(Dimension::POWER.div(Dimension::CURRENT), Dimension::VOLTAGE);
+        // 1/sqrt(LC) is a frequency
+        let lc = Dimension::INDUCTANCE.mul(Dimension::CAPACITANCE);
+        assert_eq!(lc.sqrt().map(|d| d.powi(-1)), Some(Dimension::FREQUENCY));
+        assert_eq!(Dimension::VOLTAGE.sqrt(), None);
+    }
+
+    #[test]
+    fn base_units_text() {
+        assert_eq!(Dimension::VOLTAGE.base_units(), "m²·kg·s⁻³·A⁻¹");
+        assert_eq!(Dimension::NONE.base_units(), "");
+    }
+}

@@ -1,0 +1,146 @@
+//! Writing quantities: engineering prefixes, about four significant digits, derived units.
+
+use super::catalog::{display_unit, WRITE_PREFIXES};
+use super::dimension::Dimension;
+use super::quantity::CELSIUS_OFFSET;
+
+/// Significant digits used when writing numbers.
+pub const SIGNIFICANT_DIGITS: i32 = 4;
+
+/// Rounds to `digits` significant digits.
+pub fn round_significant(x: f64, digits: i32) -> f64 {
+    if x == 0.0 || !x.is_finite() {
+        return x;
+    }
+    let magnitude = x.abs().log10().floor() as i32;
+    let shift = digits - 1 - magnitude;
+    if shift > 300 || shift < -300 {
+        return x;
+    }
+    let factor = 10f64.powi(shift);
+    (x * factor).round() / factor
+}
+
+/// Writes a plain number with about four significant digits: `0.8`, `1234`, `1.5e-9`.
+/// Scientific notation is used below 0.001 and from one million up.
+pub fn format_number(x: f64) -> String {
+    if x.is_nan() {
+        return "NaN".into();
+    }
+    if x.is_infinite() {
+        return if x > 0.0 { "inf".into() } else { "-inf".into() };
+    }
+    let r = round_significant(x, SIGNIFICANT_DIGITS);
+    if r == 0.0 {
+        return "0".into();
+    }
+    let a = r.abs();
+    if !(1e-3..1e6).contains(&a) {
+        let s = format!("{:.*e}", (SIGNIFICANT_DIGITS - 1) as usize, r);
+        // trim mantissa zeros: 1.500e-9 -> 1.5e-9
+        if let Some((m, e)) = s.split_once('e') {
+            return format!("{}e{}", trim_zeros(m), e);
+        }
+        return s;
+    }
+    let magnitude = a.log10().floor() as i32;
+    let decimals = (SIGNIFICANT_DIGITS - 1 - magnitude).max(0) as usize;
+    trim_zeros(&format!("{r:.decimals$}"))
+}
+
+fn trim_zeros(s: &str) -> String {
+    if s.contains('.') {
+        s.trim_end_matches('0').trim_end_matches('.').to_string()
+    } else {
+        s.to_string()
+    }
+}
+
+/// The symbol gapwise writes for a dimension without prefix (`V`, `H`, `m²`, or base units).
+pub fn unit_symbol(dimension: Dimension) -> String {
+    match display_unit(dimension) {
+        Some(u) if u.prefixed => u.symbol.to_string(),
+        Some(u) => u
+            .choices
+            .iter()
+            .find(|c| c.1 == 1.0)
+            .or(u.choices.first())
+            .map(|c| c.0.to_string())
+            .unwrap_or_default(),
+        None => dimension.base_units(),
+    }
+}
+
+/// Chooses the unit to write `value` in: returns (symbol, scale) so that `value / scale`
+/// is what is printed. Prefixed units keep the number in 1 … 999.9.
+pub fn choose_unit(value: f64, dimension: Dimension) -> (String, f64) {
+    let Some(u) = display_unit(dimension) else {
+        return (dimension.base_units(), 1.0);
+    };
+    let a = round_significant(value, SIGNIFICANT_DIGITS).abs();
+    if u.prefixed {
+        let p = if a == 0.0 || !a.is_finite() {
+            WRITE_PREFIXES.iter().find(|p| p.factor == 1.0)
+        } else {
+            WRITE_PREFIXES
+                .iter()
+                .rev()
+                .find(|p| a >= p.factor * (1.0 - 1e-12))
+                .or(WRITE_PREFIXES.first())
+        };
+        let p = p.copied().unwrap_or(WRITE_PREFIXES[5]);
+        (format!("{}{}", p.symbol, u.symbol), p.factor)
+    } else {
+        let c = if a == 0.0 || !a.is_finite() {
+            u.choices.iter().find(|c| c.1 == 1.0).or(u.choices.first())
+        } else {
+            u.choices
+                .iter()
+                .find(|c| a >= c.1 * (1.0 - 1e-12))
+                .or(u.choices.last())
+        };
+        c.map(|c| (c.0.to_string(), c.1))
+            .unwrap_or_else(|| (dimension.base_units(), 1.0))
+    }
+}
+
+/// Writes a quantity given in coherent SI: `18 W`, `4.7 µF`, `25 °C`, `0.8` (dimensionless).
+pub fn format_quantity(value: f64, dimension: Dimension, absolute_temperature: bool) -> String {
+    if absolute_temperature {
+        return format!("{} °C", format_number(value - CELSIUS_OFFSET));
+    }
+    if dimension.is_dimensionless() {
+        return format_number(value);
+    }
+    let (symbol, scale) = choose_unit(value, dimension);
+    format!("{} {}", format_number(value / scale), symbol)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn numbers() {
+        assert_eq!(format_number(18.0), "18");
+        assert_eq!(format_number(0.8), "0.8");
+        assert_eq!(format_number(1234.5678), "1235");
+        assert_eq!(format_number(1.5e-9), "1.5e-9");
+        assert_eq!(format_number(-2.0), "-2");
+        assert_eq!(format_number(2.5e7), "2.5e7");
+    }
+
+    #[test]
+    fn quantities() {
+        let f = |v, d| format_quantity(v, d, false);
+        assert_eq!(f(4.7e-6, Dimension::CAPACITANCE), "4.7 µF");
+        assert_eq!(f(0.9999999, Dimension::VOLTAGE), "1 V");
+        assert_eq!(f(999.96, Dimension::VOLTAGE), "1 kV");
+        assert_eq!(f(65e3, Dimension::FREQUENCY), "65 kHz");
+        assert_eq!(f(0.1, Dimension::RESISTANCE), "100 mΩ");
+        assert_eq!(f(24e-6, Dimension::AREA), "24 mm²");
+        assert_eq!(f(6e6, Dimension::CURRENT_DENSITY), "6 A/mm²");
+        assert_eq!(f(0.0, Dimension::VOLTAGE), "0 V");
+        assert_eq!(format_quantity(298.15, Dimension::TEMPERATURE, true), "25 °C");
+    }
+}
