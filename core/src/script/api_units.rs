@@ -164,6 +164,32 @@ static TO_MAP: FunctionDoc = FunctionDoc {
     example: "to_map(resistor_divider(#{output_voltage: 12 * V, reference_voltage: 2.5 * V}))",
 };
 
+static ASSERT: FunctionDoc = FunctionDoc {
+    name: "assert",
+    domain: Domain::Units,
+    summary: "Stops the script with the message when the condition is false (recipes end in asserts).",
+    params: &[
+        ParamDoc::required("condition", ParamKind::Flag, "what must hold"),
+        ParamDoc::required("message", ParamKind::Text, "what failed"),
+    ],
+    keys: &[],
+    returns: "nothing",
+    example: "assert(12 * V > 5 * V, \"ordering\")",
+};
+static ASSERT_NEAR: FunctionDoc = FunctionDoc {
+    name: "assert_near",
+    domain: Domain::Units,
+    summary: "Stops the script unless two quantities agree within a relative tolerance.",
+    params: &[
+        ParamDoc::required("actual", ParamKind::Quantity("any unit"), "computed value"),
+        ParamDoc::required("expected", ParamKind::Quantity("same unit"), "expected value"),
+        ParamDoc::required("tolerance", ParamKind::Number, "relative, e.g. 0.01 for 1 %"),
+    ],
+    keys: &[],
+    returns: "nothing",
+    example: "assert_near(1 * mH, 1000 * uH, 1e-9)",
+};
+
 fn constants() -> &'static HashMap<&'static str, Dynamic> {
     static C: OnceLock<HashMap<&'static str, Dynamic>> = OnceLock::new();
     C.get_or_init(|| {
@@ -342,6 +368,28 @@ pub(crate) fn register(api: &mut Api) {
             .iter()
             .map(|f| (f.name.as_str().into(), super::convert::value_to_dynamic(&f.value)))
             .collect()
+    });
+    def!(api, &ASSERT, |ok: bool, message: ImmutableString| -> ScriptResult<()> {
+        if ok {
+            Ok(())
+        } else {
+            Err(super::convert::script_error(Error::invalid(format!("assertion failed: {message}"))))
+        }
+    });
+    def!(api, &ASSERT_NEAR, |a: Dynamic, b: Dynamic, tol: Dynamic| -> ScriptResult<()> {
+        let a = q(&a, "actual")?;
+        let b = q(&b, "expected")?;
+        let tol = lift(super::convert::dynamic_to_number(&tol, "tolerance"))?;
+        lift(a.compare(&b))?;
+        let scale = a.value().abs().max(b.value().abs());
+        if (a.value() - b.value()).abs() <= tol * scale {
+            Ok(())
+        } else {
+            Err(super::convert::script_error(Error::invalid(format!(
+                "assertion failed: {a} is not within {} % of {b}",
+                crate::units::format_number(tol * 100.0)
+            ))))
+        }
     });
     // plain-number overloads so that sqrt/abs/min/max keep working on FLOAT and INT
     overload!(api, "sqrt", |x: FLOAT| x.sqrt());

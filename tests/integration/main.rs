@@ -1,0 +1,10 @@
+//! Integration tests of gapwise, one binary with a module per area.
+//! Each check of a computed value names its source beside it.
+
+mod common;
+mod recipes;
+mod sandbox;
+mod script;
+mod units;
+mod passives;
+mod wires;

@@ -1,0 +1,132 @@
+//! The script surface: operators, constants, conversions, errors with places, records, families.
+
+use super::common::{eval, eval_err, host};
+
+#[test]
+fn prompt_examples_from_the_foundation_issue() {
+    assert_eq!(eval("12 * V * (1.5 * A)"), "18 W");
+    assert_eq!(eval("(4.7 * uF).to(\"nF\")"), "\"4700 nF\"");
+    let e = eval_err("1 * mH + 1 * A");
+    assert!(
+        e.message.contains("cannot add 1 mH (inductance) and 1 A (current)"),
+        "{}",
+        e.message
+    );
+    assert_eq!(e.line, Some(1));
+}
+
+#[test]
+fn ints_and_floats_mix_both_ways() {
+    assert_eq!(eval("12 * V"), "12 V");
+    assert_eq!(eval("V * 12"), "12 V");
+    assert_eq!(eval("2.5 * mA"), "2.5 mA");
+    assert_eq!(eval("mA * 2.5"), "2.5 mA");
+    assert_eq!(eval("10 * V / (2 * V)"), "5");
+    assert_eq!(eval("(10 * V / (2 * V)) + 1"), "6");
+    assert_eq!(eval("(3 * mm) ** 2"), "9 mm²");
+    assert_eq!(eval("sqrt(1 * uH * (1 * uF))"), "1 µs");
+    assert_eq!(eval("min(3 * V, 2500 * mV)"), "2.5 V");
+    assert_eq!(eval("abs(-3 * V)"), "3 V");
+    assert_eq!(eval("celsius(100) - celsius(25)"), "75 K");
+    assert_eq!(eval("quantity(\"100 mΩ\")"), "100 mΩ");
+    assert_eq!(eval("12 * V > 5000 * mV"), "true");
+}
+
+#[test]
+fn user_variables_shadow_unit_constants() {
+    assert_eq!(eval("let m = 3; m * 2"), "6");
+    assert_eq!(eval("fn f(x) { x * V } f(2)"), "2 V");
+    assert_eq!(eval("fn g(m) { m + 1 } g(1)"), "2");
+}
+
+#[test]
+fn dimension_errors_name_both_sides() {
+    let e = eval_err("5 * V < 2 * A");
+    assert!(e.message.contains("5 V (voltage)") && e.message.contains("2 A (current)"), "{}", e.message);
+    let e = eval_err("sqrt(4 * V)");
+    assert!(e.message.contains("odd exponent"), "{}", e.message);
+    let e = eval_err("let x = 1;\nlet y = 2 * V + 3;");
+    assert_eq!(e.line, Some(2));
+    let shown = e.to_string();
+    assert!(shown.contains("2 | let y = 2 * V + 3;") && shown.contains('^'), "{shown}");
+}
+
+#[test]
+fn decibels_stay_apart_from_ratios() {
+    assert_eq!(eval("level_db(1 * mV)"), "60 dBµV");
+    assert_eq!(eval("level_db(1 * mV) - 6 * dB"), "54 dBµV");
+    assert_eq!(eval("66 * dBuV - 60 * dBuV"), "6 dB");
+    assert!(eval_err("60 * dBuV + 60 * dBuV").message.contains("cannot add two levels"));
+}
+
+#[test]
+fn object_maps_check_their_keys() {
+    let e = eval_err("resistor_divider(#{output_voltag: 12 * V, reference_voltage: 2.5 * V})");
+    assert!(e.message.contains("unknown key `output_voltag`; did you mean `output_voltage`?"), "{}", e.message);
+    let e = eval_err("resistor_divider(#{reference_voltage: 2.5 * V})");
+    assert!(e.message.contains("missing key `output_voltage`") && e.message.contains("V"), "{}", e.message);
+    let e = eval_err("resistor_divider(#{output_voltage: 12, reference_voltage: 2.5 * V})");
+    assert!(e.message.contains("write a unit"), "{}", e.message);
+    // integers are accepted where a plain number is expected
+    assert!(eval("let r = rule_book(); r.add_rule(#{id: \"x\", description: \"d\", limit: 1 * V, warn_margin: 0}); r.check(\"x\", 0.5 * V).status") == "\"pass\"");
+}
+
+#[test]
+fn records_read_as_properties() {
+    let out = eval("let d = resistor_divider(#{output_voltage: 12 * V, reference_voltage: 2.5 * V}); d.lower_resistor");
+    assert!(out.ends_with("Ω"), "{out}");
+    let e = eval_err("let d = resistor_divider(#{output_voltage: 12 * V, reference_voltage: 2.5 * V}); d.lower_resistr");
+    assert!(e.message.contains("did you mean `lower_resistor`"), "{}", e.message);
+}
+
+#[test]
+fn family_keeps_going_after_a_failing_variant() {
+    let h = host();
+    let src = r#"
+        fn design(v) {
+            if v.output_voltage > 40 * V { throw "output voltage too high for this recipe"; }
+            #{ power: v.output_voltage * v.output_current }
+        }
+        let t = family(Fn("design"), grid(#{output_voltage: [5 * V, 12 * V, 48 * V], output_current: [1 * A]}));
+        output_table("family", t);
+        t
+    "#;
+    let v = h.eval(src, "<test>").unwrap();
+    let t = v.read_lock::<gapwise::report::Table>().unwrap().clone();
+    assert_eq!(t.len(), 3);
+    assert_eq!(t.error_count(), 1);
+    assert!(t.error(2).unwrap().contains("too high"));
+    let csv = t.to_csv();
+    assert!(csv.starts_with("output_current [A],output_voltage [V],power [W],error"), "{csv}");
+    let outs = h.take_outputs();
+    assert_eq!(outs.len(), 1);
+    assert_eq!(outs[0].0, "family");
+}
+
+#[test]
+fn closures_and_scalar_variants_work_in_families() {
+    let out = eval("let k = 2; family(|x| x * k, [1 * V, 2 * V]).column(\"value\")");
+    assert_eq!(out, "[2 V, 4 V]");
+}
+
+#[test]
+fn every_registered_function_has_help() {
+    let h = host();
+    let builtin = ["to_string", "to_debug", "len"];
+    for sig in h.engine().gen_fn_signatures(false) {
+        let n = sig.split('(').next().unwrap_or("").trim().to_string();
+        let identifier = n.chars().next().is_some_and(|c| c.is_ascii_alphabetic() || c == '_')
+            && n.chars().all(|c| c.is_ascii_alphanumeric() || c == '_');
+        if !identifier || builtin.contains(&n.as_str()) {
+            continue;
+        }
+        assert!(h.doc(&n).is_some(), "function `{n}` has no FunctionDoc");
+    }
+    for d in h.docs() {
+        assert!(!d.summary.is_empty() && !d.example.is_empty(), "{} lacks summary or example", d.name);
+        // every example runs
+        if let Err(e) = h.eval(&format!("let rules = rule_book(); rules.add_rule(#{{id: \"switch_voltage\", description: \"x\", limit: 552.5 * V}}); {}", d.example), "<example>") {
+            panic!("example of {} fails: {}\n{e}", d.name, d.example);
+        }
+    }
+}
