@@ -29,7 +29,9 @@ pub fn eval_err(source: &str) -> ScriptError {
 /// Evaluates a script returning a quantity, as a runtime quantity.
 pub fn eval_quantity(source: &str) -> Quantity {
     let h = host();
-    let v = h.eval(source, "<test>").unwrap_or_else(|e| panic!("{source}\n{e}"));
+    let v = h
+        .eval(source, "<test>")
+        .unwrap_or_else(|e| panic!("{source}\n{e}"));
     if let Some(q) = v.read_lock::<Quantity>() {
         return *q;
     }
@@ -43,7 +45,15 @@ pub fn eval_quantity(source: &str) -> Quantity {
 #[track_caller]
 pub fn check_near(actual: Quantity, expected: &str, rel: f64) {
     let e = parse_quantity(expected, None).expect("expected value parses");
-    assert_eq!(actual.dimension(), e.dimension(), "dimension of {actual} vs {expected}");
+    assert_eq!(
+        actual.dimension(),
+        e.dimension(),
+        "dimension of {actual} vs {expected}"
+    );
     let err = (actual.value() - e.value()).abs() / e.value().abs().max(f64::MIN_POSITIVE);
-    assert!(err <= rel, "{actual} differs from {expected} by {:.3e} (allowed {rel:e})", err);
+    assert!(
+        err <= rel,
+        "{actual} differs from {expected} by {:.3e} (allowed {rel:e})",
+        err
+    );
 }

@@ -2,9 +2,9 @@
 //! Each check of a computed value names its source beside it.
 
 mod common;
+mod passives;
 mod recipes;
 mod sandbox;
 mod script;
 mod units;
-mod passives;
 mod wires;

@@ -33,7 +33,10 @@ fn nearest_values_at_the_prompt() {
     assert_eq!(eval("nearest_preferred(4.8 * kohm, \"E24\")"), "4.7 kΩ");
     assert_eq!(eval("preferred_at_or_above(4.8 * kohm, \"E24\")"), "5.1 kΩ");
     assert_eq!(eval("preferred_at_or_below(4.8 * uF, \"E6\")"), "4.7 µF");
-    assert_eq!(eval("preferred_values_between(1 * kohm, 2 * kohm, \"E12\")"), "[1 kΩ, 1.2 kΩ, 1.5 kΩ, 1.8 kΩ]");
+    assert_eq!(
+        eval("preferred_values_between(1 * kohm, 2 * kohm, \"E12\")"),
+        "[1 kΩ, 1.2 kΩ, 1.5 kΩ, 1.8 kΩ]"
+    );
 }
 
 #[test]
@@ -49,11 +52,31 @@ fn divider_meets_its_own_equation() {
 #[test]
 fn reactance_and_resonance() {
     // X_L = 2π·f·L: 1 mH at 65 kHz is 408.4 Ω (Erickson & Maksimović 2020, ch. 8 impedance)
-    check_near(eval_quantity("inductive_reactance(1 * mH, 65 * kHz)"), "408.41 ohm", 1e-4);
+    check_near(
+        eval_quantity("inductive_reactance(1 * mH, 65 * kHz)"),
+        "408.41 ohm",
+        1e-4,
+    );
     // X_C = 1/(2π·f·C): 100 nF at 150 kHz is 10.61 Ω
-    check_near(eval_quantity("capacitive_reactance(100 * nF, 150 * kHz)"), "10.610 ohm", 1e-4);
+    check_near(
+        eval_quantity("capacitive_reactance(100 * nF, 150 * kHz)"),
+        "10.610 ohm",
+        1e-4,
+    );
     // f0 = 1/(2π·√(LC)): 1 µH with 100 µF resonates at 15.92 kHz
-    check_near(eval_quantity("lc_resonant_frequency(1 * uH, 100 * uF)"), "15.915 kHz", 1e-4);
-    check_near(eval_quantity("lc_characteristic_impedance(1 * uH, 100 * uF)"), "0.1 ohm", 1e-9);
-    check_near(eval_quantity("capacitance_for_resonance(1 * uH, 15.9155 * kHz)"), "100 uF", 1e-4);
+    check_near(
+        eval_quantity("lc_resonant_frequency(1 * uH, 100 * uF)"),
+        "15.915 kHz",
+        1e-4,
+    );
+    check_near(
+        eval_quantity("lc_characteristic_impedance(1 * uH, 100 * uF)"),
+        "0.1 ohm",
+        1e-9,
+    );
+    check_near(
+        eval_quantity("capacitance_for_resonance(1 * uH, 15.9155 * kHz)"),
+        "100 uF",
+        1e-4,
+    );
 }

@@ -14,7 +14,11 @@ fn small_host() -> ScriptHost {
 #[test]
 fn endless_loop_stops_at_the_operation_limit() {
     let e = small_host().eval("loop {}", "<test>").unwrap_err();
-    assert!(e.message.contains("more than 2000000 operations"), "{}", e.message);
+    assert!(
+        e.message.contains("more than 2000000 operations"),
+        "{}",
+        e.message
+    );
 }
 
 #[test]
@@ -30,19 +34,25 @@ fn endless_loop_stops_at_the_time_budget() {
 
 #[test]
 fn deep_recursion_stops_at_the_call_depth() {
-    let e = small_host().eval("fn f(n) { f(n + 1) } f(0)", "<test>").unwrap_err();
+    let e = small_host()
+        .eval("fn f(n) { f(n + 1) } f(0)", "<test>")
+        .unwrap_err();
     assert!(e.message.contains("nested deeper than"), "{}", e.message);
 }
 
 #[test]
 fn huge_string_stops_at_the_size_limit() {
-    let e = small_host().eval("let s = \"x\"; loop { s += s; }", "<test>").unwrap_err();
+    let e = small_host()
+        .eval("let s = \"x\"; loop { s += s; }", "<test>")
+        .unwrap_err();
     assert!(e.message.contains("size limit"), "{}", e.message);
 }
 
 #[test]
 fn imports_are_refused() {
-    let e = small_host().eval("import \"secrets\" as s; s::x", "<test>").unwrap_err();
+    let e = small_host()
+        .eval("import \"secrets\" as s; s::x", "<test>")
+        .unwrap_err();
     assert!(e.message.contains("cannot import"), "{}", e.message);
 }
 
@@ -55,7 +65,10 @@ fn eval_is_not_available() {
 fn runaway_variant_in_a_family_becomes_an_error_row() {
     let h = small_host();
     let v = h
-        .eval("family(|n| { if n == 2 { loop {} } n * V }, [1, 2, 3])", "<test>")
+        .eval(
+            "family(|n| { if n == 2 { loop {} } n * V }, [1, 2, 3])",
+            "<test>",
+        )
         .unwrap();
     let t = v.read_lock::<gapwise::report::Table>().unwrap().clone();
     assert_eq!(t.len(), 3);

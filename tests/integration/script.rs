@@ -8,7 +8,8 @@ fn prompt_examples_from_the_foundation_issue() {
     assert_eq!(eval("(4.7 * uF).to(\"nF\")"), "\"4700 nF\"");
     let e = eval_err("1 * mH + 1 * A");
     assert!(
-        e.message.contains("cannot add 1 mH (inductance) and 1 A (current)"),
+        e.message
+            .contains("cannot add 1 mH (inductance) and 1 A (current)"),
         "{}",
         e.message
     );
@@ -42,13 +43,20 @@ fn user_variables_shadow_unit_constants() {
 #[test]
 fn dimension_errors_name_both_sides() {
     let e = eval_err("5 * V < 2 * A");
-    assert!(e.message.contains("5 V (voltage)") && e.message.contains("2 A (current)"), "{}", e.message);
+    assert!(
+        e.message.contains("5 V (voltage)") && e.message.contains("2 A (current)"),
+        "{}",
+        e.message
+    );
     let e = eval_err("sqrt(4 * V)");
     assert!(e.message.contains("odd exponent"), "{}", e.message);
     let e = eval_err("let x = 1;\nlet y = 2 * V + 3;");
     assert_eq!(e.line, Some(2));
     let shown = e.to_string();
-    assert!(shown.contains("2 | let y = 2 * V + 3;") && shown.contains('^'), "{shown}");
+    assert!(
+        shown.contains("2 | let y = 2 * V + 3;") && shown.contains('^'),
+        "{shown}"
+    );
 }
 
 #[test]
@@ -56,15 +64,26 @@ fn decibels_stay_apart_from_ratios() {
     assert_eq!(eval("level_db(1 * mV)"), "60 dBµV");
     assert_eq!(eval("level_db(1 * mV) - 6 * dB"), "54 dBµV");
     assert_eq!(eval("66 * dBuV - 60 * dBuV"), "6 dB");
-    assert!(eval_err("60 * dBuV + 60 * dBuV").message.contains("cannot add two levels"));
+    assert!(eval_err("60 * dBuV + 60 * dBuV")
+        .message
+        .contains("cannot add two levels"));
 }
 
 #[test]
 fn object_maps_check_their_keys() {
     let e = eval_err("resistor_divider(#{output_voltag: 12 * V, reference_voltage: 2.5 * V})");
-    assert!(e.message.contains("unknown key `output_voltag`; did you mean `output_voltage`?"), "{}", e.message);
+    assert!(
+        e.message
+            .contains("unknown key `output_voltag`; did you mean `output_voltage`?"),
+        "{}",
+        e.message
+    );
     let e = eval_err("resistor_divider(#{reference_voltage: 2.5 * V})");
-    assert!(e.message.contains("missing key `output_voltage`") && e.message.contains("V"), "{}", e.message);
+    assert!(
+        e.message.contains("missing key `output_voltage`") && e.message.contains("V"),
+        "{}",
+        e.message
+    );
     let e = eval_err("resistor_divider(#{output_voltage: 12, reference_voltage: 2.5 * V})");
     assert!(e.message.contains("write a unit"), "{}", e.message);
     // integers are accepted where a plain number is expected
@@ -76,7 +95,11 @@ fn records_read_as_properties() {
     let out = eval("let d = resistor_divider(#{output_voltage: 12 * V, reference_voltage: 2.5 * V}); d.lower_resistor");
     assert!(out.ends_with("Ω"), "{out}");
     let e = eval_err("let d = resistor_divider(#{output_voltage: 12 * V, reference_voltage: 2.5 * V}); d.lower_resistr");
-    assert!(e.message.contains("did you mean `lower_resistor`"), "{}", e.message);
+    assert!(
+        e.message.contains("did you mean `lower_resistor`"),
+        "{}",
+        e.message
+    );
 }
 
 #[test]
@@ -97,7 +120,10 @@ fn family_keeps_going_after_a_failing_variant() {
     assert_eq!(t.error_count(), 1);
     assert!(t.error(2).unwrap().contains("too high"));
     let csv = t.to_csv();
-    assert!(csv.starts_with("output_current [A],output_voltage [V],power [W],error"), "{csv}");
+    assert!(
+        csv.starts_with("output_current [A],output_voltage [V],power [W],error"),
+        "{csv}"
+    );
     let outs = h.take_outputs();
     assert_eq!(outs.len(), 1);
     assert_eq!(outs[0].0, "family");
@@ -115,7 +141,10 @@ fn every_registered_function_has_help() {
     let builtin = ["to_string", "to_debug", "len"];
     for sig in h.engine().gen_fn_signatures(false) {
         let n = sig.split('(').next().unwrap_or("").trim().to_string();
-        let identifier = n.chars().next().is_some_and(|c| c.is_ascii_alphabetic() || c == '_')
+        let identifier = n
+            .chars()
+            .next()
+            .is_some_and(|c| c.is_ascii_alphabetic() || c == '_')
             && n.chars().all(|c| c.is_ascii_alphanumeric() || c == '_');
         if !identifier || builtin.contains(&n.as_str()) {
             continue;
@@ -123,7 +152,11 @@ fn every_registered_function_has_help() {
         assert!(h.doc(&n).is_some(), "function `{n}` has no FunctionDoc");
     }
     for d in h.docs() {
-        assert!(!d.summary.is_empty() && !d.example.is_empty(), "{} lacks summary or example", d.name);
+        assert!(
+            !d.summary.is_empty() && !d.example.is_empty(),
+            "{} lacks summary or example",
+            d.name
+        );
         // every example runs
         if let Err(e) = h.eval(&format!("let rules = rule_book(); rules.add_rule(#{{id: \"switch_voltage\", description: \"x\", limit: 552.5 * V}}); {}", d.example), "<example>") {
             panic!("example of {} fails: {}\n{e}", d.name, d.example);

@@ -94,7 +94,11 @@ fn derived_units_print_as_engineers_write_them() {
         ("5e9 V/s", "5 GV/s"),
     ];
     for (input, shown) in cases {
-        assert_eq!(parse_quantity(input, None).unwrap().to_string(), shown, "{input}");
+        assert_eq!(
+            parse_quantity(input, None).unwrap().to_string(),
+            shown,
+            "{input}"
+        );
     }
 }
 

@@ -1,13 +1,17 @@
 //! Copper, skin depth and wire sizes against published values.
 
-use super::common::{check_near, eval_quantity};
 use super::common::eval;
+use super::common::{check_near, eval_quantity};
 
 #[test]
 fn skin_depth_in_copper_at_20_c() {
     // δ = 66.2/√f mm for copper at 20 °C (Kazimierczuk, High-Frequency Magnetic Components,
     // 2nd ed. 2014, ch. 3; value recalled from memory), IACS resistivity per IEC 60028
-    for (f, expected_mm) in [(50e3, 66.2 / 50e3f64.sqrt()), (100e3, 66.2 / 100e3f64.sqrt()), (200e3, 66.2 / 200e3f64.sqrt())] {
+    for (f, expected_mm) in [
+        (50e3, 66.2 / 50e3f64.sqrt()),
+        (100e3, 66.2 / 100e3f64.sqrt()),
+        (200e3, 66.2 / 200e3f64.sqrt()),
+    ] {
         let q = eval_quantity(&format!("skin_depth({f} * Hz, celsius(20))"));
         check_near(q, &format!("{expected_mm} mm"), 0.003);
     }
@@ -23,7 +27,14 @@ fn skin_depth_in_copper_at_100_c() {
 #[test]
 fn awg_diameters() {
     // ASTM B258, Table 1 (value recalled from memory): bare diameters in inches
-    for (gauge, inches) in [(-3, 0.4600), (10, 0.1019), (20, 0.0320), (24, 0.0201), (30, 0.0100), (36, 0.0050)] {
+    for (gauge, inches) in [
+        (-3, 0.4600),
+        (10, 0.1019),
+        (20, 0.0320),
+        (24, 0.0201),
+        (30, 0.0100),
+        (36, 0.0050),
+    ] {
         let q = eval_quantity(&format!("awg_diameter({gauge})"));
         check_near(q, &format!("{} mm", inches * 25.4), 0.003);
     }

@@ -32,7 +32,10 @@ pub fn copper_resistivity(temperature: ThermodynamicTemperature) -> Result<Elect
     let lo = crate::units::Quantity::celsius(T_LOW_C).to_typed("temperature")?;
     let hi = crate::units::Quantity::celsius(T_HIGH_C).to_typed("temperature")?;
     let t = within("temperature", temperature, lo, hi)?;
-    Ok(si(COPPER_RESISTIVITY_20C * (1.0 + COPPER_TEMPERATURE_COEFFICIENT * (celsius(t) - 20.0))))
+    Ok(si(COPPER_RESISTIVITY_20C
+        * (1.0
+            + COPPER_TEMPERATURE_COEFFICIENT
+                * (celsius(t) - 20.0))))
 }
 
 /// Skin depth in copper: δ = √(ρ(T) / (π·f·µ0)).

@@ -8,6 +8,6 @@ pub use conductor::{
     VACUUM_PERMEABILITY,
 };
 pub use wire::{
-    awg_area, awg_diameter, metric_wire_diameters, metric_wire_at_or_above, wire_dc_resistance,
+    awg_area, awg_diameter, metric_wire_at_or_above, metric_wire_diameters, wire_dc_resistance,
     AWG_RANGE,
 };

@@ -78,7 +78,8 @@ pub fn resistor_divider(spec: &DividerSpec) -> Result<Divider> {
             best = Some((err, dist, rl, ru));
         }
     }
-    let (_, _, rl, ru) = best.ok_or_else(|| Error::infeasible("no preferred value near the wanted lower resistor"))?;
+    let (_, _, rl, ru) =
+        best.ok_or_else(|| Error::infeasible("no preferred value near the wanted lower resistor"))?;
     let v = vref * (1.0 + ru / rl) + iref * ru;
     let i_low = vref / rl;
     let i_up = i_low + iref;

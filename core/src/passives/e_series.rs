@@ -180,7 +180,9 @@ pub(crate) fn values_between(low: f64, high: f64, series: ESeries) -> Result<Vec
         )));
     }
     if high / low > 1e12 {
-        return Err(Error::out_of_range("a range of preferred values may span at most 12 decades"));
+        return Err(Error::out_of_range(
+            "a range of preferred values may span at most 12 decades",
+        ));
     }
     let mut out = Vec::new();
     let d0 = low.log10().floor() as i32;
@@ -216,7 +218,11 @@ pub fn preferred_at_or_below<Q: TypedQuantity>(value: Q, series: ESeries) -> Res
 }
 
 /// Every preferred value from `low` to `high`, inclusive (IEC 60063:2015).
-pub fn preferred_values_between<Q: TypedQuantity>(low: Q, high: Q, series: ESeries) -> Result<Vec<Q>> {
+pub fn preferred_values_between<Q: TypedQuantity>(
+    low: Q,
+    high: Q,
+    series: ESeries,
+) -> Result<Vec<Q>> {
     Ok(values_between(low.si_value(), high.si_value(), series)?
         .into_iter()
         .map(Q::from_si)

@@ -8,6 +8,7 @@ pub use table::{Column, Table};
 pub use value::{Field, Record, Value};
 
 /// The caution every design report carries.
-pub const SAFETY_CAUTION: &str = "Caution: mains voltages are lethal. gapwise results are design aids only; \
+pub const SAFETY_CAUTION: &str =
+    "Caution: mains voltages are lethal. gapwise results are design aids only; \
 the current edition of the applicable standard, local codes and a qualified person decide. \
 Verify every design by measurement and a hipot test.";

@@ -148,7 +148,9 @@ impl Table {
     fn cell_text(col: &Column, v: &Option<Value>) -> String {
         match v {
             None => String::new(),
-            Some(Value::Quantity(q)) if !col.unit.is_empty() && q.is_absolute_temperature() == col.celsius => {
+            Some(Value::Quantity(q))
+                if !col.unit.is_empty() && q.is_absolute_temperature() == col.celsius =>
+            {
                 Self::cell_number(col, &Value::Quantity(*q))
                     .map(format_number)
                     .unwrap_or_default()
@@ -173,7 +175,12 @@ impl Table {
         let mut cells: Vec<Vec<String>> = self
             .rows
             .iter()
-            .map(|r| cols.iter().zip(r).map(|(c, v)| Self::cell_text(c, v)).collect())
+            .map(|r| {
+                cols.iter()
+                    .zip(r)
+                    .map(|(c, v)| Self::cell_text(c, v))
+                    .collect()
+            })
             .collect();
         if self.has_errors() {
             headers.push("error".into());
@@ -193,7 +200,9 @@ impl Table {
             .collect();
         let numeric: Vec<bool> = (0..headers.len())
             .map(|i| {
-                cells.iter().all(|r| r[i].is_empty() || r[i].parse::<f64>().is_ok())
+                cells
+                    .iter()
+                    .all(|r| r[i].is_empty() || r[i].parse::<f64>().is_ok())
             })
             .collect();
         let line = |items: &[String], out: &mut String| {
@@ -310,10 +319,16 @@ mod tests {
         let mut t = Table::new();
         t.push_row(vec![
             Field::new("output_voltage", Quantity::new(5.0, Dimension::VOLTAGE)),
-            Field::new("primary_inductance", Quantity::new(1.1e-3, Dimension::INDUCTANCE)),
+            Field::new(
+                "primary_inductance",
+                Quantity::new(1.1e-3, Dimension::INDUCTANCE),
+            ),
         ]);
         t.push_error_row(
-            vec![Field::new("output_voltage", Quantity::new(48.0, Dimension::VOLTAGE))],
+            vec![Field::new(
+                "output_voltage",
+                Quantity::new(48.0, Dimension::VOLTAGE),
+            )],
             "duty cycle, limit exceeded",
         );
         let csv = t.to_csv();

@@ -109,13 +109,19 @@ impl Rule {
         limit: Quantity,
         warn_margin: f64,
     ) -> Result<Self> {
-        if id.is_empty() || !id.chars().all(|c| c.is_ascii_lowercase() || c.is_ascii_digit() || c == '_') {
+        if id.is_empty()
+            || !id
+                .chars()
+                .all(|c| c.is_ascii_lowercase() || c.is_ascii_digit() || c == '_')
+        {
             return Err(Error::invalid(format!(
                 "rule id '{id}' must be snake_case (lowercase letters, digits, underscores)"
             )));
         }
         if !limit.value().is_finite() {
-            return Err(Error::invalid(format!("rule `{id}`: limit must be finite, got {limit}")));
+            return Err(Error::invalid(format!(
+                "rule `{id}`: limit must be finite, got {limit}"
+            )));
         }
         if !(0.0..=1.0).contains(&warn_margin) {
             return Err(Error::out_of_range(format!(
@@ -203,7 +209,11 @@ pub fn checks_table(results: &[CheckResult]) -> Table {
 
 /// The worst status of a list of checks (`pass` for none).
 pub fn worst_status(results: &[CheckResult]) -> Status {
-    results.iter().map(|r| r.status).max().unwrap_or(Status::Pass)
+    results
+        .iter()
+        .map(|r| r.status)
+        .max()
+        .unwrap_or(Status::Pass)
 }
 
 /// An ordered set of rules, with limits a recipe may override by id.
@@ -230,7 +240,10 @@ impl RuleBook {
     }
     /// The rule with an id.
     pub fn get(&self, id: &str) -> Result<&Rule> {
-        self.rules.iter().find(|r| r.id == id).ok_or_else(|| self.unknown(id))
+        self.rules
+            .iter()
+            .find(|r| r.id == id)
+            .ok_or_else(|| self.unknown(id))
     }
     fn unknown(&self, id: &str) -> Error {
         let names: Vec<&str> = self.rules.iter().map(|r| r.id.as_str()).collect();
@@ -251,7 +264,9 @@ impl RuleBook {
             )));
         }
         if !limit.value().is_finite() {
-            return Err(Error::invalid(format!("rule `{id}`: limit must be finite, got {limit}")));
+            return Err(Error::invalid(format!(
+                "rule `{id}`: limit must be finite, got {limit}"
+            )));
         }
         r.limit = limit;
         Ok(())
@@ -286,8 +301,16 @@ mod tests {
         let mut b = RuleBook::new();
         b.add(r);
         b.set_limit("drain_voltage_derating", v(600.0)).unwrap();
-        assert_eq!(b.check("drain_voltage_derating", v(560.0)).unwrap().status, Status::Pass);
+        assert_eq!(
+            b.check("drain_voltage_derating", v(560.0)).unwrap().status,
+            Status::Pass
+        );
         let e = b.check("drain_voltage_deratin", v(1.0)).unwrap_err();
-        assert!(e.message().contains("did you mean `drain_voltage_derating`"), "{}", e.message());
+        assert!(
+            e.message()
+                .contains("did you mean `drain_voltage_derating`"),
+            "{}",
+            e.message()
+        );
     }
 }

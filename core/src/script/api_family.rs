@@ -28,7 +28,11 @@ static GRID: FunctionDoc = FunctionDoc {
     name: "grid",
     domain: Domain::Families,
     summary: "Every combination of the given axes, as an array of maps (first key varies slowest).",
-    params: &[ParamDoc::required("axes", ParamKind::Map, "name → array of values")],
+    params: &[ParamDoc::required(
+        "axes",
+        ParamKind::Map,
+        "name → array of values",
+    )],
     keys: &[],
     returns: "array of maps",
     example: "grid(#{output_voltage: [5 * V, 12 * V], line: [90 * V, 264 * V]})",
@@ -37,7 +41,11 @@ static TABLE: FunctionDoc = FunctionDoc {
     name: "table",
     domain: Domain::Families,
     summary: "A table from an array of maps or records, one row each.",
-    params: &[ParamDoc::required("rows", ParamKind::List, "array of maps or records")],
+    params: &[ParamDoc::required(
+        "rows",
+        ParamKind::List,
+        "array of maps or records",
+    )],
     keys: &[],
     returns: "a Table",
     example: "table([#{a: 1 * V}, #{a: 2 * V}])",
@@ -53,6 +61,19 @@ static OUTPUT_TABLE: FunctionDoc = FunctionDoc {
     keys: &[],
     returns: "nothing",
     example: "output_table(\"family\", table([#{a: 1 * V}]))",
+};
+static OUTPUT_TEXT: FunctionDoc = FunctionDoc {
+    name: "output_text",
+    domain: Domain::Families,
+    summary: "Hands a text output (report, SVG plot) to the runner, which writes NAME.EXTENSION into --out.",
+    params: &[
+        ParamDoc::required("name", ParamKind::Text, "file stem: letters, digits, _ and -"),
+        ParamDoc::required("extension", ParamKind::Text, "one of md, html, svg, txt"),
+        ParamDoc::required("text", ParamKind::Text, "the content"),
+    ],
+    keys: &[],
+    returns: "nothing",
+    example: "output_text(\"notes\", \"md\", \"# Notes\")",
 };
 static COLUMN: FunctionDoc = FunctionDoc {
     name: "column",
@@ -186,7 +207,9 @@ fn grid(axes: &Map, max_rows: usize) -> crate::error::Result<Array> {
 fn valid_output_name(name: &str) -> crate::error::Result<()> {
     if name.is_empty()
         || name.len() > 64
-        || !name.chars().all(|c| c.is_ascii_alphanumeric() || c == '_' || c == '-')
+        || !name
+            .chars()
+            .all(|c| c.is_ascii_alphanumeric() || c == '_' || c == '-')
     {
         return Err(Error::invalid(format!(
             "output name '{name}' must be 1 to 64 letters, digits, '_' or '-' (it becomes a file name)"
@@ -204,16 +227,24 @@ pub(crate) fn register(api: &mut Api, state: &Arc<HostState>, limits: &EngineLim
     e.register_get("rows", |t: &mut Table| t.len() as INT);
     e.register_get("error_count", |t: &mut Table| t.error_count() as INT);
     e.register_get("columns", |t: &mut Table| -> Array {
-        t.column_names().iter().map(|n| Dynamic::from(n.clone())).collect()
+        t.column_names()
+            .iter()
+            .map(|n| Dynamic::from(n.clone()))
+            .collect()
     });
 
     let st = state.clone();
     let lim = limits.clone();
-    def!(api, &FAMILY, move |ctx: NativeCallContext, f: FnPtr, variants: Array| -> Table {
+    def!(api, &FAMILY, move |ctx: NativeCallContext,
+                             f: FnPtr,
+                             variants: Array|
+          -> Table {
         run_family(&ctx, &st, &lim, &f, &variants)
     });
     let max_rows = limits.max_array_size;
-    def!(api, &GRID, move |axes: Map| -> ScriptResult<Array> { lift(grid(&axes, max_rows)) });
+    def!(api, &GRID, move |axes: Map| -> ScriptResult<Array> {
+        lift(grid(&axes, max_rows))
+    });
     def!(api, &TABLE, |rows: Array| -> Table {
         let mut t = Table::new();
         for r in &rows {
@@ -224,12 +255,34 @@ pub(crate) fn register(api: &mut Api, state: &Arc<HostState>, limits: &EngineLim
         t
     });
     let st = state.clone();
-    def!(api, &OUTPUT_TABLE, move |name: ImmutableString, t: Table| -> ScriptResult<()> {
+    def!(api, &OUTPUT_TABLE, move |name: ImmutableString,
+                                   t: Table|
+          -> ScriptResult<()> {
         lift(valid_output_name(&name))?;
         st.push_output(name.to_string(), t);
         Ok(())
     });
-    def!(api, &COLUMN, |t: &mut Table, name: ImmutableString| -> ScriptResult<Array> {
+    let st = state.clone();
+    def!(api, &OUTPUT_TEXT, move |name: ImmutableString,
+                                  extension: ImmutableString,
+                                  text: ImmutableString|
+          -> ScriptResult<()> {
+        lift(valid_output_name(&name))?;
+        if !["md", "html", "svg", "txt"].contains(&extension.as_str()) {
+            return Err(script_error(Error::invalid(format!(
+                "output extension '{extension}' must be one of md, html, svg, txt"
+            ))));
+        }
+        st.push_text(super::host::OutputText {
+            name: name.to_string(),
+            extension: extension.to_string(),
+            text: text.to_string(),
+        });
+        Ok(())
+    });
+    def!(api, &COLUMN, |t: &mut Table,
+                        name: ImmutableString|
+     -> ScriptResult<Array> {
         if !t.column_names().iter().any(|n| n == name.as_str()) {
             let names: Vec<&str> = t.column_names().iter().map(String::as_str).collect();
             return Err(script_error(Error::unknown(format!(
@@ -238,13 +291,23 @@ pub(crate) fn register(api: &mut Api, state: &Arc<HostState>, limits: &EngineLim
             ))));
         }
         Ok((0..t.len())
-            .map(|i| t.get(i, &name).map(super::convert::value_to_dynamic).unwrap_or(Dynamic::UNIT))
+            .map(|i| {
+                t.get(i, &name)
+                    .map(super::convert::value_to_dynamic)
+                    .unwrap_or(Dynamic::UNIT)
+            })
             .collect())
     });
     def!(api, &ROW, |t: &mut Table, i: INT| -> ScriptResult<Map> {
-        let i = usize::try_from(i).ok().filter(|i| *i < t.len()).ok_or_else(|| {
-            script_error(Error::out_of_range(format!("row {i} is outside the table's {} rows", t.len())))
-        })?;
+        let i = usize::try_from(i)
+            .ok()
+            .filter(|i| *i < t.len())
+            .ok_or_else(|| {
+                script_error(Error::out_of_range(format!(
+                    "row {i} is outside the table's {} rows",
+                    t.len()
+                )))
+            })?;
         let mut m = Map::new();
         for n in t.column_names() {
             if let Some(v) = t.get(i, n) {
@@ -257,7 +320,10 @@ pub(crate) fn register(api: &mut Api, state: &Arc<HostState>, limits: &EngineLim
         Ok(m)
     });
     def!(api, &TO_CSV, |t: &mut Table| t.to_csv());
-    def!(api, &TO_JSON, |t: &mut Table| serde_json::to_string_pretty(&t.to_json()).unwrap_or_default());
+    def!(api, &TO_JSON, |t: &mut Table| serde_json::to_string_pretty(
+        &t.to_json()
+    )
+    .unwrap_or_default());
 }
 
 #[cfg(test)]
@@ -267,8 +333,18 @@ mod tests {
     #[test]
     fn grid_order_and_limits() {
         let mut axes = Map::new();
-        axes.insert("a".into(), Dynamic::from_array(vec![Dynamic::from_int(1), Dynamic::from_int(2)]));
-        axes.insert("b".into(), Dynamic::from_array(vec![Dynamic::from_int(3), Dynamic::from_int(4), Dynamic::from_int(5)]));
+        axes.insert(
+            "a".into(),
+            Dynamic::from_array(vec![Dynamic::from_int(1), Dynamic::from_int(2)]),
+        );
+        axes.insert(
+            "b".into(),
+            Dynamic::from_array(vec![
+                Dynamic::from_int(3),
+                Dynamic::from_int(4),
+                Dynamic::from_int(5),
+            ]),
+        );
         let g = grid(&axes, 100).unwrap();
         assert_eq!(g.len(), 6);
         assert!(grid(&axes, 5).is_err());

@@ -7,13 +7,21 @@ use crate::magnetics;
 use crate::units::{Quantity, ThermodynamicTemperature};
 use rhai::{Array, Dynamic};
 
-const TEMPERATURE: ParamDoc = ParamDoc::with_default("temperature", ParamKind::Quantity("°C"), "20 °C", "conductor temperature (celsius(100))");
+const TEMPERATURE: ParamDoc = ParamDoc::with_default(
+    "temperature",
+    ParamKind::Quantity("°C"),
+    "20 °C",
+    "conductor temperature (celsius(100))",
+);
 
 static SKIN: FunctionDoc = FunctionDoc {
     name: "skin_depth",
     domain: Domain::Magnetics,
     summary: "Skin depth in copper, δ = √(ρ(T)/(π·f·µ0)); resistivity per IEC 60028.",
-    params: &[ParamDoc::required("frequency", ParamKind::Quantity("Hz"), "frequency"), TEMPERATURE],
+    params: &[
+        ParamDoc::required("frequency", ParamKind::Quantity("Hz"), "frequency"),
+        TEMPERATURE,
+    ],
     keys: &[],
     returns: "m",
     example: "skin_depth(100 * kHz, celsius(100))",
@@ -40,7 +48,11 @@ static AWG_A: FunctionDoc = FunctionDoc {
     name: "awg_area",
     domain: Domain::Magnetics,
     summary: "Bare copper cross-section of an AWG size (ASTM B258).",
-    params: &[ParamDoc::required("gauge", ParamKind::Integer, "AWG number")],
+    params: &[ParamDoc::required(
+        "gauge",
+        ParamKind::Integer,
+        "AWG number",
+    )],
     keys: &[],
     returns: "m²",
     example: "awg_area(24)",
@@ -78,7 +90,9 @@ static RDC: FunctionDoc = FunctionDoc {
 };
 
 fn room() -> ThermodynamicTemperature {
-    Quantity::celsius(20.0).to_typed("temperature").expect("20 °C is a temperature")
+    Quantity::celsius(20.0)
+        .to_typed("temperature")
+        .expect("20 °C is a temperature")
 }
 
 fn temperature(t: &Dynamic) -> ScriptResult<ThermodynamicTemperature> {
@@ -86,7 +100,9 @@ fn temperature(t: &Dynamic) -> ScriptResult<ThermodynamicTemperature> {
 }
 
 pub(crate) fn register(api: &mut Api) {
-    def!(api, &SKIN, |f: Dynamic, t: Dynamic| -> ScriptResult<Quantity> {
+    def!(api, &SKIN, |f: Dynamic,
+                      t: Dynamic|
+     -> ScriptResult<Quantity> {
         let f = lift(dynamic_to_typed(&f, "frequency"))?;
         lift(magnetics::skin_depth(f, temperature(&t)?)).map(Quantity::from_typed)
     });
@@ -101,24 +117,34 @@ pub(crate) fn register(api: &mut Api) {
         lift(magnetics::copper_resistivity(room())).map(Quantity::from_typed)
     });
     def!(api, &AWG_D, |n: Dynamic| -> ScriptResult<Quantity> {
-        lift(dynamic_to_integer(&n, "gauge").and_then(magnetics::awg_diameter)).map(Quantity::from_typed)
+        lift(dynamic_to_integer(&n, "gauge").and_then(magnetics::awg_diameter))
+            .map(Quantity::from_typed)
     });
     def!(api, &AWG_A, |n: Dynamic| -> ScriptResult<Quantity> {
-        lift(dynamic_to_integer(&n, "gauge").and_then(magnetics::awg_area)).map(Quantity::from_typed)
+        lift(dynamic_to_integer(&n, "gauge").and_then(magnetics::awg_area))
+            .map(Quantity::from_typed)
     });
     def!(api, &METRIC, |d: Dynamic| -> ScriptResult<Quantity> {
         let d = lift(dynamic_to_typed(&d, "diameter"))?;
         lift(magnetics::metric_wire_at_or_above(d)).map(Quantity::from_typed)
     });
     def!(api, &METRIC_ALL, || -> Array {
-        magnetics::metric_wire_diameters().into_iter().map(|d| Dynamic::from(Quantity::from_typed(d))).collect()
+        magnetics::metric_wire_diameters()
+            .into_iter()
+            .map(|d| Dynamic::from(Quantity::from_typed(d)))
+            .collect()
     });
-    def!(api, &RDC, |d: Dynamic, l: Dynamic, t: Dynamic| -> ScriptResult<Quantity> {
+    def!(api, &RDC, |d: Dynamic,
+                     l: Dynamic,
+                     t: Dynamic|
+     -> ScriptResult<Quantity> {
         let d = lift(dynamic_to_typed(&d, "diameter"))?;
         let l = lift(dynamic_to_typed(&l, "length"))?;
         lift(magnetics::wire_dc_resistance(d, l, temperature(&t)?)).map(Quantity::from_typed)
     });
-    overload!(api, "wire_dc_resistance", |d: Dynamic, l: Dynamic| -> ScriptResult<Quantity> {
+    overload!(api, "wire_dc_resistance", |d: Dynamic,
+                                          l: Dynamic|
+     -> ScriptResult<Quantity> {
         let d = lift(dynamic_to_typed(&d, "diameter"))?;
         let l = lift(dynamic_to_typed(&l, "length"))?;
         lift(magnetics::wire_dc_resistance(d, l, room())).map(Quantity::from_typed)

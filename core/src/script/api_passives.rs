@@ -1,6 +1,8 @@
 //! Script API of passives: preferred values, dividers, reactance and resonance.
 
-use super::convert::{dynamic_to_quantity, dynamic_to_typed, lift, quantity_to_dynamic, ScriptResult};
+use super::convert::{
+    dynamic_to_quantity, dynamic_to_typed, lift, quantity_to_dynamic, ScriptResult,
+};
 use super::docs::{Domain, FunctionDoc, ParamDoc, ParamKind};
 use super::record::ScriptRecord;
 use super::spec::Spec;
@@ -9,13 +11,21 @@ use crate::passives::{self, DividerSpec, ESeries};
 use crate::units::{Quantity, TypedQuantity};
 use rhai::{Array, Dynamic, ImmutableString, Map};
 
-const SERIES: ParamDoc = ParamDoc::with_default("series", ParamKind::Text, "E24", "IEC 60063 series, E3 … E192");
+const SERIES: ParamDoc = ParamDoc::with_default(
+    "series",
+    ParamKind::Text,
+    "E24",
+    "IEC 60063 series, E3 … E192",
+);
 
 static NEAREST: FunctionDoc = FunctionDoc {
     name: "nearest_preferred",
     domain: Domain::Passives,
     summary: "The IEC 60063 preferred value nearest by ratio; keeps the unit.",
-    params: &[ParamDoc::required("value", ParamKind::Quantity("any unit"), "wanted value"), SERIES],
+    params: &[
+        ParamDoc::required("value", ParamKind::Quantity("any unit"), "wanted value"),
+        SERIES,
+    ],
     keys: &[],
     returns: "the preferred value",
     example: "nearest_preferred(4.8 * kohm, \"E24\")",
@@ -24,7 +34,10 @@ static ABOVE: FunctionDoc = FunctionDoc {
     name: "preferred_at_or_above",
     domain: Domain::Passives,
     summary: "The smallest IEC 60063 preferred value not below the given one.",
-    params: &[ParamDoc::required("value", ParamKind::Quantity("any unit"), "wanted value"), SERIES],
+    params: &[
+        ParamDoc::required("value", ParamKind::Quantity("any unit"), "wanted value"),
+        SERIES,
+    ],
     keys: &[],
     returns: "the preferred value",
     example: "preferred_at_or_above(4.8 * uF, \"E6\")",
@@ -33,7 +46,10 @@ static BELOW: FunctionDoc = FunctionDoc {
     name: "preferred_at_or_below",
     domain: Domain::Passives,
     summary: "The largest IEC 60063 preferred value not above the given one.",
-    params: &[ParamDoc::required("value", ParamKind::Quantity("any unit"), "wanted value"), SERIES],
+    params: &[
+        ParamDoc::required("value", ParamKind::Quantity("any unit"), "wanted value"),
+        SERIES,
+    ],
     keys: &[],
     returns: "the preferred value",
     example: "preferred_at_or_below(4.8 * uF, \"E6\")",
@@ -166,19 +182,50 @@ fn two<A: TypedQuantity, B: TypedQuantity, R: TypedQuantity>(
 }
 
 pub(crate) fn register(api: &mut Api) {
-    use crate::passives::e_series::{at_or_above_value, at_or_below_value, nearest_value, values_between};
-    def!(api, &NEAREST, |v: Dynamic, s: ImmutableString| preferred(&v, &s, nearest_value));
-    overload!(api, "nearest_preferred", |v: Dynamic| preferred(&v, "E24", nearest_value));
-    def!(api, &ABOVE, |v: Dynamic, s: ImmutableString| preferred(&v, &s, at_or_above_value));
-    overload!(api, "preferred_at_or_above", |v: Dynamic| preferred(&v, "E24", at_or_above_value));
-    def!(api, &BELOW, |v: Dynamic, s: ImmutableString| preferred(&v, &s, at_or_below_value));
-    overload!(api, "preferred_at_or_below", |v: Dynamic| preferred(&v, "E24", at_or_below_value));
-    def!(api, &BETWEEN, |lo: Dynamic, hi: Dynamic, s: ImmutableString| -> ScriptResult<Array> {
+    use crate::passives::e_series::{
+        at_or_above_value, at_or_below_value, nearest_value, values_between,
+    };
+    def!(api, &NEAREST, |v: Dynamic, s: ImmutableString| preferred(
+        &v,
+        &s,
+        nearest_value
+    ));
+    overload!(api, "nearest_preferred", |v: Dynamic| preferred(
+        &v,
+        "E24",
+        nearest_value
+    ));
+    def!(api, &ABOVE, |v: Dynamic, s: ImmutableString| preferred(
+        &v,
+        &s,
+        at_or_above_value
+    ));
+    overload!(api, "preferred_at_or_above", |v: Dynamic| preferred(
+        &v,
+        "E24",
+        at_or_above_value
+    ));
+    def!(api, &BELOW, |v: Dynamic, s: ImmutableString| preferred(
+        &v,
+        &s,
+        at_or_below_value
+    ));
+    overload!(api, "preferred_at_or_below", |v: Dynamic| preferred(
+        &v,
+        "E24",
+        at_or_below_value
+    ));
+    def!(api, &BETWEEN, |lo: Dynamic,
+                         hi: Dynamic,
+                         s: ImmutableString|
+     -> ScriptResult<Array> {
         let lo = lift(dynamic_to_quantity(&lo, "low", None))?;
         let hi = lift(dynamic_to_quantity(&hi, "high", None))?;
         lift(lo.compare(&hi))?;
         let v = lift(values_between(lo.value(), hi.value(), series(&s)?))?;
-        Ok(v.into_iter().map(|x| quantity_to_dynamic(Quantity::new(x, lo.dimension()))).collect())
+        Ok(v.into_iter()
+            .map(|x| quantity_to_dynamic(Quantity::new(x, lo.dimension())))
+            .collect())
     });
     def!(api, &DIVIDER, |m: Map| -> ScriptResult<ScriptRecord> {
         let s = lift(Spec::new(&DIVIDER, &m))?;
@@ -194,10 +241,46 @@ pub(crate) fn register(api: &mut Api) {
         let d = lift(passives::resistor_divider(&spec))?;
         Ok(ScriptRecord::from_record("resistor_divider", &d))
     });
-    def!(api, &XL, |l: Dynamic, f: Dynamic| two(&l, "inductance", &f, "frequency", passives::inductive_reactance));
-    def!(api, &XC, |c: Dynamic, f: Dynamic| two(&c, "capacitance", &f, "frequency", passives::capacitive_reactance));
-    def!(api, &F0, |l: Dynamic, c: Dynamic| two(&l, "inductance", &c, "capacitance", passives::lc_resonant_frequency));
-    def!(api, &Z0, |l: Dynamic, c: Dynamic| two(&l, "inductance", &c, "capacitance", passives::lc_characteristic_impedance));
-    def!(api, &C_FOR, |l: Dynamic, f: Dynamic| two(&l, "inductance", &f, "frequency", passives::capacitance_for_resonance));
-    def!(api, &L_FOR, |c: Dynamic, f: Dynamic| two(&c, "capacitance", &f, "frequency", passives::inductance_for_resonance));
+    def!(api, &XL, |l: Dynamic, f: Dynamic| two(
+        &l,
+        "inductance",
+        &f,
+        "frequency",
+        passives::inductive_reactance
+    ));
+    def!(api, &XC, |c: Dynamic, f: Dynamic| two(
+        &c,
+        "capacitance",
+        &f,
+        "frequency",
+        passives::capacitive_reactance
+    ));
+    def!(api, &F0, |l: Dynamic, c: Dynamic| two(
+        &l,
+        "inductance",
+        &c,
+        "capacitance",
+        passives::lc_resonant_frequency
+    ));
+    def!(api, &Z0, |l: Dynamic, c: Dynamic| two(
+        &l,
+        "inductance",
+        &c,
+        "capacitance",
+        passives::lc_characteristic_impedance
+    ));
+    def!(api, &C_FOR, |l: Dynamic, f: Dynamic| two(
+        &l,
+        "inductance",
+        &f,
+        "frequency",
+        passives::capacitance_for_resonance
+    ));
+    def!(api, &L_FOR, |c: Dynamic, f: Dynamic| two(
+        &c,
+        "capacitance",
+        &f,
+        "frequency",
+        passives::inductance_for_resonance
+    ));
 }

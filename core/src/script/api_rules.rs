@@ -2,17 +2,20 @@
 
 use super::convert::{dynamic_to_quantity, lift, script_error, ScriptResult};
 use super::docs::{Domain, FunctionDoc, ParamDoc, ParamKind};
+use super::host::HostState;
 use super::spec::Spec;
 use super::{def, Api};
 use crate::error::Error;
 use crate::report::Table;
 use crate::rules::{checks_table, worst_status, CheckResult, Comparison, Rule, RuleBook, Status};
 use rhai::{Array, Dynamic, ImmutableString, Map};
+use std::sync::Arc;
 
 static RULE_BOOK: FunctionDoc = FunctionDoc {
     name: "rule_book",
     domain: Domain::Rules,
-    summary: "An empty book of design rules; add rules with add_rule, override limits with set_limit.",
+    summary:
+        "An empty book of design rules; add rules with add_rule, override limits with set_limit.",
     params: &[],
     keys: &[],
     returns: "a RuleBook",
@@ -57,7 +60,11 @@ static CHECK: FunctionDoc = FunctionDoc {
     params: &[
         ParamDoc::required("book", ParamKind::Any, "the RuleBook"),
         ParamDoc::required("id", ParamKind::Text, "rule id"),
-        ParamDoc::required("value", ParamKind::Quantity("the rule's unit"), "the computed value"),
+        ParamDoc::required(
+            "value",
+            ParamKind::Quantity("the rule's unit"),
+            "the computed value",
+        ),
     ],
     keys: &[],
     returns: "a CheckResult with fields id, status, value, limit, margin",
@@ -79,7 +86,11 @@ static CHECKS_TABLE: FunctionDoc = FunctionDoc {
     name: "checks_table",
     domain: Domain::Rules,
     summary: "A table with one row per check result.",
-    params: &[ParamDoc::required("checks", ParamKind::List, "array of CheckResult")],
+    params: &[ParamDoc::required(
+        "checks",
+        ParamKind::List,
+        "array of CheckResult",
+    )],
     keys: &[],
     returns: "a Table",
     example: "checks_table([rules.check(\"switch_voltage\", 480 * V)])",
@@ -88,7 +99,11 @@ static WORST: FunctionDoc = FunctionDoc {
     name: "worst_status",
     domain: Domain::Rules,
     summary: "The worst status of an array of check results: \"fail\", \"warn\" or \"pass\".",
-    params: &[ParamDoc::required("checks", ParamKind::List, "array of CheckResult")],
+    params: &[ParamDoc::required(
+        "checks",
+        ParamKind::List,
+        "array of CheckResult",
+    )],
     keys: &[],
     returns: "text",
     example: "worst_status([rules.check(\"switch_voltage\", 480 * V)])",
@@ -111,24 +126,39 @@ pub(crate) fn check_line(c: &CheckResult) -> String {
 fn checks_from_array(a: &Array) -> ScriptResult<Vec<CheckResult>> {
     a.iter()
         .map(|d| {
-            d.read_lock::<CheckResult>().map(|c| c.clone()).ok_or_else(|| {
-                script_error(Error::invalid(format!(
-                    "expected an array of check results, found a value of type {}",
-                    d.type_name()
-                )))
-            })
+            d.read_lock::<CheckResult>()
+                .map(|c| c.clone())
+                .ok_or_else(|| {
+                    script_error(Error::invalid(format!(
+                        "expected an array of check results, found a value of type {}",
+                        d.type_name()
+                    )))
+                })
         })
         .collect()
 }
 
-pub(crate) fn register(api: &mut Api) {
+fn failed(checks: &[CheckResult]) -> usize {
+    checks.iter().filter(|c| c.status == Status::Fail).count()
+}
+
+pub(crate) fn register(api: &mut Api, state: &Arc<HostState>) {
     let e = &mut *api.engine;
     e.register_type_with_name::<RuleBook>("RuleBook");
     e.register_type_with_name::<CheckResult>("CheckResult");
     e.register_fn("to_string", |b: &mut RuleBook| {
         b.rules()
             .iter()
-            .map(|r| format!("{}: {} {} ({}) [{}]", r.id, r.comparison.as_str(), r.limit, r.description, r.reference))
+            .map(|r| {
+                format!(
+                    "{}: {} {} ({}) [{}]",
+                    r.id,
+                    r.comparison.as_str(),
+                    r.limit,
+                    r.description,
+                    r.reference
+                )
+            })
             .collect::<Vec<_>>()
             .join("\n")
     });
@@ -136,13 +166,19 @@ pub(crate) fn register(api: &mut Api) {
     e.register_fn("to_debug", |c: &mut CheckResult| check_line(c));
     e.register_get("id", |c: &mut CheckResult| c.id.clone());
     e.register_get("status", |c: &mut CheckResult| c.status.to_string());
-    e.register_get("value", |c: &mut CheckResult| super::convert::quantity_to_dynamic(c.value));
-    e.register_get("limit", |c: &mut CheckResult| super::convert::quantity_to_dynamic(c.limit));
+    e.register_get("value", |c: &mut CheckResult| {
+        super::convert::quantity_to_dynamic(c.value)
+    });
+    e.register_get("limit", |c: &mut CheckResult| {
+        super::convert::quantity_to_dynamic(c.limit)
+    });
     e.register_get("margin", |c: &mut CheckResult| c.margin);
     e.register_get("passed", |c: &mut CheckResult| c.status != Status::Fail);
 
     def!(api, &RULE_BOOK, RuleBook::new);
-    def!(api, &ADD_RULE, |book: &mut RuleBook, m: Map| -> ScriptResult<()> {
+    def!(api, &ADD_RULE, |book: &mut RuleBook,
+                          m: Map|
+     -> ScriptResult<()> {
         let s = lift(Spec::new(&ADD_RULE, &m))?;
         let rule = lift((|| {
             Rule::new(
@@ -157,22 +193,50 @@ pub(crate) fn register(api: &mut Api) {
         book.add(rule);
         Ok(())
     });
-    def!(api, &SET_LIMIT, |book: &mut RuleBook, id: ImmutableString, limit: Dynamic| -> ScriptResult<()> {
+    def!(api, &SET_LIMIT, |book: &mut RuleBook,
+                           id: ImmutableString,
+                           limit: Dynamic|
+     -> ScriptResult<()> {
         let l = lift(dynamic_to_quantity(&limit, "limit", None))?;
         lift(book.set_limit(id.as_str(), l))
     });
-    def!(api, &CHECK, |book: &mut RuleBook, id: ImmutableString, value: Dynamic| -> ScriptResult<CheckResult> {
+    // Failed checks are counted once, where they are made (check, check_all); the runner's
+    // strict mode reads the count. Domain functions that evaluate rules count through
+    // `count_failed_checks`.
+    let st = state.clone();
+    def!(api, &CHECK, move |book: &mut RuleBook,
+                            id: ImmutableString,
+                            value: Dynamic|
+          -> ScriptResult<CheckResult> {
         let v = lift(dynamic_to_quantity(&value, "value", None))?;
-        lift(book.check(id.as_str(), v))
+        let c = lift(book.check(id.as_str(), v))?;
+        st.note_failed_checks(failed(std::slice::from_ref(&c)));
+        Ok(c)
     });
-    def!(api, &CHECK_ALL, |book: &mut RuleBook, values: Map| -> ScriptResult<Table> {
+    let st = state.clone();
+    def!(api, &CHECK_ALL, move |book: &mut RuleBook,
+                                values: Map|
+          -> ScriptResult<Table> {
         let mut out = Vec::new();
         for (id, v) in values.iter() {
             let q = lift(dynamic_to_quantity(v, id, None))?;
             out.push(lift(book.check(id, q))?);
         }
+        st.note_failed_checks(failed(&out));
         Ok(checks_table(&out))
     });
-    def!(api, &CHECKS_TABLE, |a: Array| -> ScriptResult<Table> { Ok(checks_table(&checks_from_array(&a)?)) });
-    def!(api, &WORST, |a: Array| -> ScriptResult<String> { Ok(worst_status(&checks_from_array(&a)?).to_string()) });
+    def!(api, &CHECKS_TABLE, |a: Array| -> ScriptResult<Table> {
+        Ok(checks_table(&checks_from_array(&a)?))
+    });
+    def!(api, &WORST, |a: Array| -> ScriptResult<String> {
+        Ok(worst_status(&checks_from_array(&a)?).to_string())
+    });
+}
+
+/// For domain bindings that evaluate rules natively: turns check results into a script array
+/// and counts the failures for the runner's strict mode.
+#[allow(dead_code)] // used by domain bindings as they arrive
+pub(crate) fn checks_to_array(state: &HostState, checks: Vec<CheckResult>) -> Array {
+    state.note_failed_checks(failed(&checks));
+    checks.into_iter().map(Dynamic::from).collect()
 }

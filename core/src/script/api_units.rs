@@ -6,7 +6,7 @@ use super::docs::{Domain, FunctionDoc, ParamDoc, ParamKind};
 use super::record::ScriptRecord;
 use super::{def, overload, Api};
 use crate::error::Error;
-use crate::units::{parse_quantity, Decibel, DbReference, Quantity, SCRIPT_CONSTANTS};
+use crate::units::{parse_quantity, DbReference, Decibel, Quantity, SCRIPT_CONSTANTS};
 use rhai::{Dynamic, Engine, ImmutableString, FLOAT, INT};
 use std::collections::HashMap;
 use std::sync::OnceLock;
@@ -28,7 +28,11 @@ static TO: FunctionDoc = FunctionDoc {
     summary: "Writes a quantity in a chosen unit (display only).",
     params: &[
         ParamDoc::required("value", Q, "the quantity"),
-        ParamDoc::required("unit", ParamKind::Text, "unit text such as \"nF\", \"V/us\", \"°C\""),
+        ParamDoc::required(
+            "unit",
+            ParamKind::Text,
+            "unit text such as \"nF\", \"V/us\", \"°C\"",
+        ),
     ],
     keys: &[],
     returns: "text, e.g. \"4700 nF\"",
@@ -68,7 +72,10 @@ static MIN: FunctionDoc = FunctionDoc {
     name: "min",
     domain: Domain::Units,
     summary: "The smaller of two quantities of the same dimension.",
-    params: &[ParamDoc::required("a", Q, "quantity"), ParamDoc::required("b", Q, "quantity")],
+    params: &[
+        ParamDoc::required("a", Q, "quantity"),
+        ParamDoc::required("b", Q, "quantity"),
+    ],
     keys: &[],
     returns: "the smaller one",
     example: "min(3 * V, 2500 * mV)",
@@ -77,7 +84,10 @@ static MAX: FunctionDoc = FunctionDoc {
     name: "max",
     domain: Domain::Units,
     summary: "The larger of two quantities of the same dimension.",
-    params: &[ParamDoc::required("a", Q, "quantity"), ParamDoc::required("b", Q, "quantity")],
+    params: &[
+        ParamDoc::required("a", Q, "quantity"),
+        ParamDoc::required("b", Q, "quantity"),
+    ],
     keys: &[],
     returns: "the larger one",
     example: "max(3 * V, 2500 * mV)",
@@ -86,7 +96,11 @@ static CELSIUS: FunctionDoc = FunctionDoc {
     name: "celsius",
     domain: Domain::Units,
     summary: "An absolute temperature from degrees Celsius (differences are written in K).",
-    params: &[ParamDoc::required("degrees", ParamKind::Number, "temperature in °C")],
+    params: &[ParamDoc::required(
+        "degrees",
+        ParamKind::Number,
+        "temperature in °C",
+    )],
     keys: &[],
     returns: "an absolute temperature, printed in °C",
     example: "celsius(100) - celsius(25)",
@@ -104,7 +118,11 @@ static DB_AMPLITUDE: FunctionDoc = FunctionDoc {
     name: "db_from_amplitude_ratio",
     domain: Domain::Units,
     summary: "Decibels of a voltage or current ratio: 20·log10(x).",
-    params: &[ParamDoc::required("ratio", ParamKind::Number, "positive ratio")],
+    params: &[ParamDoc::required(
+        "ratio",
+        ParamKind::Number,
+        "positive ratio",
+    )],
     keys: &[],
     returns: "dB",
     example: "db_from_amplitude_ratio(100)",
@@ -113,7 +131,11 @@ static DB_POWER: FunctionDoc = FunctionDoc {
     name: "db_from_power_ratio",
     domain: Domain::Units,
     summary: "Decibels of a power ratio: 10·log10(x).",
-    params: &[ParamDoc::required("ratio", ParamKind::Number, "positive ratio")],
+    params: &[ParamDoc::required(
+        "ratio",
+        ParamKind::Number,
+        "positive ratio",
+    )],
     keys: &[],
     returns: "dB",
     example: "db_from_power_ratio(2)",
@@ -122,7 +144,11 @@ static AMPLITUDE_RATIO: FunctionDoc = FunctionDoc {
     name: "amplitude_ratio",
     domain: Domain::Units,
     summary: "The amplitude ratio of a value in dB: 10^(dB/20).",
-    params: &[ParamDoc::required("decibels", ParamKind::Any, "a ratio in dB")],
+    params: &[ParamDoc::required(
+        "decibels",
+        ParamKind::Any,
+        "a ratio in dB",
+    )],
     keys: &[],
     returns: "a plain number",
     example: "amplitude_ratio(40 * dB)",
@@ -131,7 +157,11 @@ static LEVEL_DB: FunctionDoc = FunctionDoc {
     name: "level_db",
     domain: Domain::Units,
     summary: "A voltage as dBµV or a current as dBµA: 20·log10(|x| / 1 µ).",
-    params: &[ParamDoc::required("value", ParamKind::Quantity("V or A"), "voltage or current")],
+    params: &[ParamDoc::required(
+        "value",
+        ParamKind::Quantity("V or A"),
+        "voltage or current",
+    )],
     keys: &[],
     returns: "dBµV or dBµA",
     example: "level_db(1 * mV)",
@@ -149,7 +179,11 @@ static FIELDS: FunctionDoc = FunctionDoc {
     name: "field_names",
     domain: Domain::Units,
     summary: "Names of the fields of a result record, in order.",
-    params: &[ParamDoc::required("record", ParamKind::Any, "a result of a calculation")],
+    params: &[ParamDoc::required(
+        "record",
+        ParamKind::Any,
+        "a result of a calculation",
+    )],
     keys: &[],
     returns: "array of text",
     example: "field_names(resistor_divider(#{output_voltage: 12 * V, reference_voltage: 2.5 * V}))",
@@ -158,7 +192,11 @@ static TO_MAP: FunctionDoc = FunctionDoc {
     name: "to_map",
     domain: Domain::Units,
     summary: "A result record as an object map (keys sorted, values with units).",
-    params: &[ParamDoc::required("record", ParamKind::Any, "a result of a calculation")],
+    params: &[ParamDoc::required(
+        "record",
+        ParamKind::Any,
+        "a result of a calculation",
+    )],
     keys: &[],
     returns: "map",
     example: "to_map(resistor_divider(#{output_voltage: 12 * V, reference_voltage: 2.5 * V}))",
@@ -167,7 +205,8 @@ static TO_MAP: FunctionDoc = FunctionDoc {
 static ASSERT: FunctionDoc = FunctionDoc {
     name: "assert",
     domain: Domain::Units,
-    summary: "Stops the script with the message when the condition is false (recipes end in asserts).",
+    summary:
+        "Stops the script with the message when the condition is false (recipes end in asserts).",
     params: &[
         ParamDoc::required("condition", ParamKind::Flag, "what must hold"),
         ParamDoc::required("message", ParamKind::Text, "what failed"),
@@ -182,8 +221,16 @@ static ASSERT_NEAR: FunctionDoc = FunctionDoc {
     summary: "Stops the script unless two quantities agree within a relative tolerance.",
     params: &[
         ParamDoc::required("actual", ParamKind::Quantity("any unit"), "computed value"),
-        ParamDoc::required("expected", ParamKind::Quantity("same unit"), "expected value"),
-        ParamDoc::required("tolerance", ParamKind::Number, "relative, e.g. 0.01 for 1 %"),
+        ParamDoc::required(
+            "expected",
+            ParamKind::Quantity("same unit"),
+            "expected value",
+        ),
+        ParamDoc::required(
+            "tolerance",
+            ParamKind::Number,
+            "relative, e.g. 0.01 for 1 %",
+        ),
     ],
     keys: &[],
     returns: "nothing",
@@ -200,8 +247,20 @@ fn constants() -> &'static HashMap<&'static str, Dynamic> {
             }
         }
         m.insert("dB", Dynamic::from(Decibel::ratio(1.0)));
-        m.insert("dBuV", Dynamic::from(Decibel { value: 1.0, reference: DbReference::MicroVolt }));
-        m.insert("dBuA", Dynamic::from(Decibel { value: 1.0, reference: DbReference::MicroAmpere }));
+        m.insert(
+            "dBuV",
+            Dynamic::from(Decibel {
+                value: 1.0,
+                reference: DbReference::MicroVolt,
+            }),
+        );
+        m.insert(
+            "dBuA",
+            Dynamic::from(Decibel {
+                value: 1.0,
+                reference: DbReference::MicroAmpere,
+            }),
+        );
         m.insert("pi", Dynamic::from_float(std::f64::consts::PI));
         m
     })
@@ -248,7 +307,9 @@ fn register_quantity_operators(engine: &mut Engine) {
     }
     both_orders!("+", |a: Quantity, b: Quantity| to_dyn(a.add(&b)));
     both_orders!("-", |a: Quantity, b: Quantity| to_dyn(a.sub(&b)));
-    both_orders!("*", |a: Quantity, b: Quantity| -> ScriptResult<Dynamic> { Ok(quantity_to_dynamic(a.mul(&b))) });
+    both_orders!("*", |a: Quantity, b: Quantity| -> ScriptResult<Dynamic> {
+        Ok(quantity_to_dynamic(a.mul(&b)))
+    });
     both_orders!("/", |a: Quantity, b: Quantity| -> ScriptResult<Dynamic> {
         if b.value() == 0.0 {
             return Err(super::convert::script_error(Error::invalid(format!(
@@ -267,13 +328,16 @@ fn register_quantity_operators(engine: &mut Engine) {
     engine.register_fn("-", |a: Quantity| quantity_to_dynamic(a.neg()));
     engine.register_fn("+", |a: Quantity| a);
     engine.register_fn("**", |a: Quantity, n: INT| -> ScriptResult<Dynamic> {
-        let n = i32::try_from(n).map_err(|_| super::convert::script_error(Error::out_of_range("exponent too large")))?;
+        let n = i32::try_from(n)
+            .map_err(|_| super::convert::script_error(Error::out_of_range("exponent too large")))?;
         Ok(quantity_to_dynamic(a.powi(n)))
     });
     engine.register_fn("to_string", |a: &mut Quantity| a.to_string());
     engine.register_fn("to_debug", |a: &mut Quantity| a.to_string());
     engine.register_get("value", |a: &mut Quantity| a.value());
-    engine.register_get("unit", |a: &mut Quantity| crate::units::choose_unit(a.value(), a.dimension()).0);
+    engine.register_get("unit", |a: &mut Quantity| {
+        crate::units::choose_unit(a.value(), a.dimension()).0
+    });
     engine.register_get("dimension", |a: &mut Quantity| a.dimension().to_string());
 }
 
@@ -281,17 +345,44 @@ fn register_decibel(engine: &mut Engine) {
     engine.register_type_with_name::<Decibel>("Decibel");
     engine.register_fn("+", |a: Decibel, b: Decibel| lift(a.add(&b)));
     engine.register_fn("-", |a: Decibel, b: Decibel| lift(a.sub(&b)));
-    engine.register_fn("-", |a: Decibel| Decibel { value: -a.value, reference: a.reference });
-    engine.register_fn("*", |a: INT, b: Decibel| Decibel { value: a as f64 * b.value, reference: b.reference });
-    engine.register_fn("*", |a: FLOAT, b: Decibel| Decibel { value: a * b.value, reference: b.reference });
-    engine.register_fn("*", |b: Decibel, a: INT| Decibel { value: a as f64 * b.value, reference: b.reference });
-    engine.register_fn("*", |b: Decibel, a: FLOAT| Decibel { value: a * b.value, reference: b.reference });
-    engine.register_fn("<", |a: Decibel, b: Decibel| lift(a.compare(&b)).map(|o| o.is_lt()));
-    engine.register_fn("<=", |a: Decibel, b: Decibel| lift(a.compare(&b)).map(|o| o.is_le()));
-    engine.register_fn(">", |a: Decibel, b: Decibel| lift(a.compare(&b)).map(|o| o.is_gt()));
-    engine.register_fn(">=", |a: Decibel, b: Decibel| lift(a.compare(&b)).map(|o| o.is_ge()));
-    engine.register_fn("==", |a: Decibel, b: Decibel| lift(a.compare(&b)).map(|o| o.is_eq()));
-    engine.register_fn("!=", |a: Decibel, b: Decibel| lift(a.compare(&b)).map(|o| o.is_ne()));
+    engine.register_fn("-", |a: Decibel| Decibel {
+        value: -a.value,
+        reference: a.reference,
+    });
+    engine.register_fn("*", |a: INT, b: Decibel| Decibel {
+        value: a as f64 * b.value,
+        reference: b.reference,
+    });
+    engine.register_fn("*", |a: FLOAT, b: Decibel| Decibel {
+        value: a * b.value,
+        reference: b.reference,
+    });
+    engine.register_fn("*", |b: Decibel, a: INT| Decibel {
+        value: a as f64 * b.value,
+        reference: b.reference,
+    });
+    engine.register_fn("*", |b: Decibel, a: FLOAT| Decibel {
+        value: a * b.value,
+        reference: b.reference,
+    });
+    engine.register_fn("<", |a: Decibel, b: Decibel| {
+        lift(a.compare(&b)).map(|o| o.is_lt())
+    });
+    engine.register_fn("<=", |a: Decibel, b: Decibel| {
+        lift(a.compare(&b)).map(|o| o.is_le())
+    });
+    engine.register_fn(">", |a: Decibel, b: Decibel| {
+        lift(a.compare(&b)).map(|o| o.is_gt())
+    });
+    engine.register_fn(">=", |a: Decibel, b: Decibel| {
+        lift(a.compare(&b)).map(|o| o.is_ge())
+    });
+    engine.register_fn("==", |a: Decibel, b: Decibel| {
+        lift(a.compare(&b)).map(|o| o.is_eq())
+    });
+    engine.register_fn("!=", |a: Decibel, b: Decibel| {
+        lift(a.compare(&b)).map(|o| o.is_ne())
+    });
     engine.register_fn("to_string", |a: &mut Decibel| a.to_string());
     engine.register_fn("to_debug", |a: &mut Decibel| a.to_string());
     engine.register_get("value", |a: &mut Decibel| a.value);
@@ -299,16 +390,18 @@ fn register_decibel(engine: &mut Engine) {
 
 fn register_record(engine: &mut Engine) {
     engine.register_type_with_name::<ScriptRecord>("Record");
-    engine.register_indexer_get(|r: &mut ScriptRecord, name: ImmutableString| -> ScriptResult<Dynamic> {
-        match r.get(name.as_str()) {
-            Some(v) => Ok(super::convert::value_to_dynamic(v)),
-            None => Err(super::convert::script_error(Error::unknown(format!(
-                "{} has no field `{name}`{}",
-                r.kind(),
-                super::suggest::did_you_mean(&name, &r.names())
-            )))),
-        }
-    });
+    engine.register_indexer_get(
+        |r: &mut ScriptRecord, name: ImmutableString| -> ScriptResult<Dynamic> {
+            match r.get(name.as_str()) {
+                Some(v) => Ok(super::convert::value_to_dynamic(v)),
+                None => Err(super::convert::script_error(Error::unknown(format!(
+                    "{} has no field `{name}`{}",
+                    r.kind(),
+                    super::suggest::did_you_mean(&name, &r.names())
+                )))),
+            }
+        },
+    );
     engine.register_fn("to_string", |r: &mut ScriptRecord| r.to_text());
     engine.register_fn("to_debug", |r: &mut ScriptRecord| r.to_text());
 }
@@ -318,32 +411,51 @@ pub(crate) fn register(api: &mut Api) {
     register_decibel(api.engine);
     register_record(api.engine);
     #[allow(deprecated)] // on_var is marked volatile, not deprecated
-    api.engine.on_var(|name, _, ctx| {
-        match constants().get(name) {
+    api.engine
+        .on_var(|name, _, ctx| match constants().get(name) {
             Some(v) if !ctx.scope().contains(name) => Ok(Some(v.clone())),
             _ => Ok(None),
-        }
-    });
+        });
 
-    def!(api, &QUANTITY, |s: ImmutableString| -> ScriptResult<Dynamic> {
-        let q = lift(parse_quantity(s.as_str(), None))?;
-        Ok(if q.is_absolute_temperature() { Dynamic::from(q) } else { quantity_to_dynamic(q) })
-    });
-    def!(api, &TO, |v: Dynamic, unit: ImmutableString| -> ScriptResult<String> {
+    def!(
+        api,
+        &QUANTITY,
+        |s: ImmutableString| -> ScriptResult<Dynamic> {
+            let q = lift(parse_quantity(s.as_str(), None))?;
+            Ok(if q.is_absolute_temperature() {
+                Dynamic::from(q)
+            } else {
+                quantity_to_dynamic(q)
+            })
+        }
+    );
+    def!(api, &TO, |v: Dynamic,
+                    unit: ImmutableString|
+     -> ScriptResult<String> {
         lift(q(&v, "value")?.to_unit_string(unit.as_str()))
     });
-    def!(api, &VALUE_IN, |v: Dynamic, unit: ImmutableString| -> ScriptResult<FLOAT> {
+    def!(api, &VALUE_IN, |v: Dynamic,
+                          unit: ImmutableString|
+     -> ScriptResult<FLOAT> {
         lift(q(&v, "value")?.value_in(unit.as_str()))
     });
     def!(api, &SQRT, |v: Quantity| to_dyn(v.sqrt()));
     def!(api, &ABS, |v: Quantity| quantity_to_dynamic(v.abs()));
-    def!(api, &MIN, |a: Dynamic, b: Dynamic| to_dyn(q(&a, "a")?.min(&q(&b, "b")?)).map(|d| keep_temperature(d, &a, &b)));
-    def!(api, &MAX, |a: Dynamic, b: Dynamic| to_dyn(q(&a, "a")?.max(&q(&b, "b")?)).map(|d| keep_temperature(d, &a, &b)));
+    def!(api, &MIN, |a: Dynamic, b: Dynamic| to_dyn(
+        q(&a, "a")?.min(&q(&b, "b")?)
+    )
+    .map(|d| keep_temperature(d, &a, &b)));
+    def!(api, &MAX, |a: Dynamic, b: Dynamic| to_dyn(
+        q(&a, "a")?.max(&q(&b, "b")?)
+    )
+    .map(|d| keep_temperature(d, &a, &b)));
     def!(api, &CELSIUS, |t: Dynamic| -> ScriptResult<Quantity> {
         let x = lift(super::convert::dynamic_to_number(&t, "degrees"))?;
         Ok(Quantity::celsius(x))
     });
-    def!(api, &DIMENSION_OF, |v: Dynamic| -> ScriptResult<String> { Ok(q(&v, "value")?.dimension().to_string()) });
+    def!(api, &DIMENSION_OF, |v: Dynamic| -> ScriptResult<String> {
+        Ok(q(&v, "value")?.dimension().to_string())
+    });
     def!(api, &DB_AMPLITUDE, |x: Dynamic| -> ScriptResult<Decibel> {
         lift(super::convert::dynamic_to_number(&x, "ratio").and_then(Decibel::from_amplitude_ratio))
     });
@@ -358,25 +470,44 @@ pub(crate) fn register(api: &mut Api) {
         }
         Ok(d.amplitude_ratio())
     });
-    def!(api, &LEVEL_DB, |v: Dynamic| -> ScriptResult<Decibel> { lift(Decibel::level_of(&q(&v, "value")?)) });
-    def!(api, &LEVEL_VALUE, |d: Decibel| -> ScriptResult<Quantity> { lift(d.to_quantity()) });
+    def!(api, &LEVEL_DB, |v: Dynamic| -> ScriptResult<Decibel> {
+        lift(Decibel::level_of(&q(&v, "value")?))
+    });
+    def!(api, &LEVEL_VALUE, |d: Decibel| -> ScriptResult<Quantity> {
+        lift(d.to_quantity())
+    });
     def!(api, &FIELDS, |r: ScriptRecord| -> rhai::Array {
-        r.names().into_iter().map(|n| Dynamic::from(n.to_string())).collect()
+        r.names()
+            .into_iter()
+            .map(|n| Dynamic::from(n.to_string()))
+            .collect()
     });
     def!(api, &TO_MAP, |r: ScriptRecord| -> rhai::Map {
         r.fields()
             .iter()
-            .map(|f| (f.name.as_str().into(), super::convert::value_to_dynamic(&f.value)))
+            .map(|f| {
+                (
+                    f.name.as_str().into(),
+                    super::convert::value_to_dynamic(&f.value),
+                )
+            })
             .collect()
     });
-    def!(api, &ASSERT, |ok: bool, message: ImmutableString| -> ScriptResult<()> {
+    def!(api, &ASSERT, |ok: bool,
+                        message: ImmutableString|
+     -> ScriptResult<()> {
         if ok {
             Ok(())
         } else {
-            Err(super::convert::script_error(Error::invalid(format!("assertion failed: {message}"))))
+            Err(super::convert::script_error(Error::invalid(format!(
+                "assertion failed: {message}"
+            ))))
         }
     });
-    def!(api, &ASSERT_NEAR, |a: Dynamic, b: Dynamic, tol: Dynamic| -> ScriptResult<()> {
+    def!(api, &ASSERT_NEAR, |a: Dynamic,
+                             b: Dynamic,
+                             tol: Dynamic|
+     -> ScriptResult<()> {
         let a = q(&a, "actual")?;
         let b = q(&b, "expected")?;
         let tol = lift(super::convert::dynamic_to_number(&tol, "tolerance"))?;
@@ -398,7 +529,10 @@ pub(crate) fn register(api: &mut Api) {
 
 /// min/max of absolute temperatures stay absolute temperatures.
 fn keep_temperature(d: Dynamic, a: &Dynamic, b: &Dynamic) -> Dynamic {
-    let abs = |x: &Dynamic| x.read_lock::<Quantity>().is_some_and(|q| q.is_absolute_temperature());
+    let abs = |x: &Dynamic| {
+        x.read_lock::<Quantity>()
+            .is_some_and(|q| q.is_absolute_temperature())
+    };
     if abs(a) && abs(b) {
         if let Some(q) = d.read_lock::<Quantity>() {
             return Dynamic::from(q.with_absolute_temperature(true));

@@ -34,7 +34,11 @@ pub fn quantity_to_dynamic(q: Quantity) -> Dynamic {
 
 /// Reads a script value as a runtime quantity: a Quantity, an INT or FLOAT (a plain number),
 /// or text such as "4.7 uF". `name` is used in the error.
-pub fn dynamic_to_quantity(d: &Dynamic, name: &str, expected: Option<Dimension>) -> crate::error::Result<Quantity> {
+pub fn dynamic_to_quantity(
+    d: &Dynamic,
+    name: &str,
+    expected: Option<Dimension>,
+) -> crate::error::Result<Quantity> {
     if let Some(q) = d.read_lock::<Quantity>() {
         return Ok(*q);
     }
@@ -90,7 +94,9 @@ pub fn dynamic_to_integer(d: &Dynamic, name: &str) -> crate::error::Result<INT> 
     if x.fract() == 0.0 && x.abs() < 9e15 {
         Ok(x as INT)
     } else {
-        Err(Error::invalid(format!("`{name}` must be a whole number, got {x}")))
+        Err(Error::invalid(format!(
+            "`{name}` must be a whole number, got {x}"
+        )))
     }
 }
 
@@ -159,7 +165,11 @@ pub fn flatten(name: &str, d: &Dynamic, out: &mut Vec<Field>) {
     }
     if let Some(v) = dynamic_to_value(d) {
         out.push(Field {
-            name: if name.is_empty() { "value".into() } else { name.to_string() },
+            name: if name.is_empty() {
+                "value".into()
+            } else {
+                name.to_string()
+            },
             value: v,
         });
     }

@@ -116,15 +116,35 @@ pub struct ParamDoc {
 impl ParamDoc {
     /// A required parameter.
     pub const fn required(name: &'static str, kind: ParamKind, summary: &'static str) -> Self {
-        Self { name, kind, default: ParamDefault::Required, summary }
+        Self {
+            name,
+            kind,
+            default: ParamDefault::Required,
+            summary,
+        }
     }
     /// An optional parameter.
     pub const fn optional(name: &'static str, kind: ParamKind, summary: &'static str) -> Self {
-        Self { name, kind, default: ParamDefault::Optional, summary }
+        Self {
+            name,
+            kind,
+            default: ParamDefault::Optional,
+            summary,
+        }
     }
     /// A parameter with a default, given as text.
-    pub const fn with_default(name: &'static str, kind: ParamKind, default: &'static str, summary: &'static str) -> Self {
-        Self { name, kind, default: ParamDefault::Value(default), summary }
+    pub const fn with_default(
+        name: &'static str,
+        kind: ParamKind,
+        default: &'static str,
+        summary: &'static str,
+    ) -> Self {
+        Self {
+            name,
+            kind,
+            default: ParamDefault::Value(default),
+            summary,
+        }
     }
 }
 
@@ -160,7 +180,13 @@ impl FunctionDoc {
             ParamDefault::Optional => ", optional".into(),
             ParamDefault::Value(v) => format!(", default {v}"),
         };
-        format!("{} [{}{}]: {}", p.name, p.kind.describe(), default, p.summary)
+        format!(
+            "{} [{}{}]: {}",
+            p.name,
+            p.kind.describe(),
+            default,
+            p.summary
+        )
     }
 
     /// Help as plain text for the prompt.

@@ -62,6 +62,8 @@ pub(crate) struct HostState {
     deadline_nanos: AtomicU64,
     budget: Duration,
     outputs: Mutex<Vec<(String, Table)>>,
+    texts: Mutex<Vec<OutputText>>,
+    failed_checks: std::sync::atomic::AtomicUsize,
     printed: Mutex<Vec<String>>,
     print: RwLock<Option<PrintFn>>,
     progress: RwLock<Option<ProgressFn>>,
@@ -74,6 +76,8 @@ impl HostState {
             deadline_nanos: AtomicU64::new(0),
             budget,
             outputs: Mutex::new(Vec::new()),
+            texts: Mutex::new(Vec::new()),
+            failed_checks: std::sync::atomic::AtomicUsize::new(0),
             printed: Mutex::new(Vec::new()),
             print: RwLock::new(None),
             progress: RwLock::new(None),
@@ -81,7 +85,9 @@ impl HostState {
     }
     fn start_clock(&self) {
         let deadline = self.epoch.elapsed() + self.budget;
-        let nanos = u64::try_from(deadline.as_nanos()).unwrap_or(u64::MAX).max(1);
+        let nanos = u64::try_from(deadline.as_nanos())
+            .unwrap_or(u64::MAX)
+            .max(1);
         self.deadline_nanos.store(nanos, Ordering::Relaxed);
     }
     fn stop_clock(&self) {
@@ -97,6 +103,15 @@ impl HostState {
             o.push((name, table));
         }
     }
+    pub(crate) fn push_text(&self, text: OutputText) {
+        if let Ok(mut o) = self.texts.lock() {
+            o.retain(|t| !(t.name == text.name && t.extension == text.extension));
+            o.push(text);
+        }
+    }
+    pub(crate) fn note_failed_checks(&self, n: usize) {
+        self.failed_checks.fetch_add(n, Ordering::Relaxed);
+    }
     pub(crate) fn progress(&self) -> Option<ProgressFn> {
         self.progress.read().ok().and_then(|p| p.clone())
     }
@@ -111,6 +126,17 @@ impl HostState {
             }
         }
     }
+}
+
+/// A text output a script handed to the runner (a report, an SVG plot).
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct OutputText {
+    /// File stem.
+    pub name: String,
+    /// File extension without the dot (`svg`, `md`, `html`, `txt`).
+    pub extension: String,
+    /// The content.
+    pub text: String,
 }
 
 /// A script error with its place: message, source name, line, column and the source line.
@@ -134,7 +160,8 @@ impl ScriptError {
     fn locate(message: String, pos: Position, source: &str, source_name: &str) -> Self {
         let line = pos.line();
         let column = pos.position();
-        let source_line = line.and_then(|l| source.lines().nth(l.saturating_sub(1)).map(str::to_string));
+        let source_line =
+            line.and_then(|l| source.lines().nth(l.saturating_sub(1)).map(str::to_string));
         Self {
             message,
             source_name: source_name.to_string(),
@@ -152,7 +179,12 @@ impl ScriptError {
         s
     }
 
-    pub(crate) fn from_eval(e: &EvalAltResult, source: &str, source_name: &str, limits: &EngineLimits) -> Self {
+    pub(crate) fn from_eval(
+        e: &EvalAltResult,
+        source: &str,
+        source_name: &str,
+        limits: &EngineLimits,
+    ) -> Self {
         let mut context = Vec::new();
         let mut pos = e.position();
         let mut cur = e;
@@ -339,11 +371,32 @@ impl ScriptHost {
     }
     /// Lines printed since the last call (when no print callback is set).
     pub fn take_printed(&self) -> Vec<String> {
-        self.state.printed.lock().map(|mut p| std::mem::take(&mut *p)).unwrap_or_default()
+        self.state
+            .printed
+            .lock()
+            .map(|mut p| std::mem::take(&mut *p))
+            .unwrap_or_default()
     }
     /// Tables a script handed to `output_table` since the last call, in order.
     pub fn take_outputs(&self) -> Vec<(String, Table)> {
-        self.state.outputs.lock().map(|mut o| std::mem::take(&mut *o)).unwrap_or_default()
+        self.state
+            .outputs
+            .lock()
+            .map(|mut o| std::mem::take(&mut *o))
+            .unwrap_or_default()
+    }
+
+    /// Text outputs (reports, plots) a script handed to `output_text` since the last call.
+    pub fn take_texts(&self) -> Vec<OutputText> {
+        self.state
+            .texts
+            .lock()
+            .map(|mut o| std::mem::take(&mut *o))
+            .unwrap_or_default()
+    }
+    /// Failed design-rule checks seen since the last call (for the runner's strict mode).
+    pub fn take_failed_checks(&self) -> usize {
+        self.state.failed_checks.swap(0, Ordering::Relaxed)
     }
 
     /// Compiles a script; `source_name` appears in error messages.
@@ -354,7 +407,12 @@ impl ScriptHost {
     }
 
     /// Compiles with the variables of a scope known (constants may be folded).
-    pub fn compile_with_scope(&self, scope: &Scope, source: &str, source_name: &str) -> Result<AST, ScriptError> {
+    pub fn compile_with_scope(
+        &self,
+        scope: &Scope,
+        source: &str,
+        source_name: &str,
+    ) -> Result<AST, ScriptError> {
         self.engine
             .compile_with_scope(scope, source)
             .map_err(|e| ScriptError::from_parse(&e, source, source_name))
@@ -362,7 +420,13 @@ impl ScriptHost {
 
     /// Runs a compiled script in a scope under the time budget and returns its last value.
     /// `source` is used to show the failing line.
-    pub fn run(&self, ast: &AST, scope: &mut Scope, source: &str, source_name: &str) -> Result<Dynamic, ScriptError> {
+    pub fn run(
+        &self,
+        ast: &AST,
+        scope: &mut Scope,
+        source: &str,
+        source_name: &str,
+    ) -> Result<Dynamic, ScriptError> {
         self.state.start_clock();
         let r = self.engine.eval_ast_with_scope::<Dynamic>(scope, ast);
         self.state.stop_clock();
@@ -376,9 +440,16 @@ impl ScriptHost {
     }
 
     /// Calls a script-defined function of a compiled script under the time budget.
-    pub fn call(&self, ast: &AST, name: &str, args: impl rhai::FuncArgs) -> Result<Dynamic, ScriptError> {
+    pub fn call(
+        &self,
+        ast: &AST,
+        name: &str,
+        args: impl rhai::FuncArgs,
+    ) -> Result<Dynamic, ScriptError> {
         self.state.start_clock();
-        let r = self.engine.call_fn::<Dynamic>(&mut Scope::new(), ast, name, args);
+        let r = self
+            .engine
+            .call_fn::<Dynamic>(&mut Scope::new(), ast, name, args);
         self.state.stop_clock();
         r.map_err(|e| ScriptError::from_eval(&e, "", name, &self.limits))
     }

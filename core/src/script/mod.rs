@@ -17,7 +17,7 @@ pub mod spec;
 pub mod suggest;
 
 pub use docs::{Domain, FunctionDoc, ParamDefault, ParamDoc, ParamKind};
-pub use host::{EngineLimits, PrintFn, ProgressFn, ScriptError, ScriptHost};
+pub use host::{EngineLimits, OutputText, PrintFn, ProgressFn, ScriptError, ScriptHost};
 pub use record::ScriptRecord;
 pub use spec::Spec;
 
@@ -72,7 +72,7 @@ pub(crate) fn register_all(
     let mut api = Api { engine, docs };
     api_units::register(&mut api);
     api_family::register(&mut api, state, limits);
-    api_rules::register(&mut api);
+    api_rules::register(&mut api, state);
     api_passives::register(&mut api);
     api_magnetics::register(&mut api);
 }

@@ -33,7 +33,10 @@ impl ScriptRecord {
     }
     /// The value of a field.
     pub fn get(&self, name: &str) -> Option<&Value> {
-        self.fields.iter().find(|f| f.name == name).map(|f| &f.value)
+        self.fields
+            .iter()
+            .find(|f| f.name == name)
+            .map(|f| &f.value)
     }
     /// Field names, in order.
     pub fn names(&self) -> Vec<&str> {

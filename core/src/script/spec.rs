@@ -2,7 +2,9 @@
 //! unknown keys suggest the nearest valid key, missing keys name themselves and their unit,
 //! defaults come from the same [`ParamDoc`] list the help shows.
 
-use super::convert::{dynamic_to_integer, dynamic_to_number, dynamic_to_quantity, dynamic_to_typed};
+use super::convert::{
+    dynamic_to_integer, dynamic_to_number, dynamic_to_quantity, dynamic_to_typed,
+};
 use super::docs::{FunctionDoc, ParamDefault, ParamDoc, ParamKind};
 use super::suggest::did_you_mean;
 use crate::error::{Error, Result};
@@ -80,9 +82,10 @@ impl<'a> Spec<'a> {
                         super::convert::quantity_to_dynamic(q)
                     }
                 }
-                ParamKind::Integer => Dynamic::from_int(text.parse::<INT>().map_err(|_| {
-                    Error::invalid(format!("bad default '{text}' for `{key}`"))
-                })?),
+                ParamKind::Integer => Dynamic::from_int(
+                    text.parse::<INT>()
+                        .map_err(|_| Error::invalid(format!("bad default '{text}' for `{key}`")))?,
+                ),
                 ParamKind::Flag => Dynamic::from_bool(text == "true"),
                 _ => Dynamic::from(text.to_string()),
             })),
@@ -147,9 +150,14 @@ impl<'a> Spec<'a> {
     pub fn optional_text(&self, key: &str) -> Result<Option<String>> {
         match self.raw(key)? {
             None => Ok(None),
-            Some(v) => v.into_immutable_string().map(|s| Some(s.to_string())).map_err(|t| {
-                self.context(Error::invalid(format!("`{key}` must be text, got a value of type {t}")))
-            }),
+            Some(v) => v
+                .into_immutable_string()
+                .map(|s| Some(s.to_string()))
+                .map_err(|t| {
+                    self.context(Error::invalid(format!(
+                        "`{key}` must be text, got a value of type {t}"
+                    )))
+                }),
         }
     }
 
@@ -158,7 +166,9 @@ impl<'a> Spec<'a> {
         match self.raw(key)? {
             None => Err(self.missing(self.doc(key)?)),
             Some(v) => v.as_bool().map_err(|t| {
-                self.context(Error::invalid(format!("`{key}` must be true or false, got a value of type {t}")))
+                self.context(Error::invalid(format!(
+                    "`{key}` must be true or false, got a value of type {t}"
+                )))
             }),
         }
     }

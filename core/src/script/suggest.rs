@@ -24,7 +24,9 @@ pub fn nearest<'a>(name: &str, candidates: &[&'a str]) -> Option<&'a str> {
     candidates
         .iter()
         .map(|c| (edit_distance(name, c), *c))
-        .filter(|(d, c)| *d <= limit || (name.len() >= 4 && (c.contains(name) || name.contains(*c))))
+        .filter(|(d, c)| {
+            *d <= limit || (name.len() >= 4 && (c.contains(name) || name.contains(*c)))
+        })
         .min_by_key(|(d, _)| *d)
         .map(|(_, c)| c)
 }
@@ -45,7 +47,10 @@ mod tests {
     fn distances() {
         assert_eq!(edit_distance("kitten", "sitting"), 3);
         assert_eq!(nearest("vout", &["output_voltage", "vouts"]), Some("vouts"));
-        assert_eq!(nearest("output_votlage", &["output_voltage", "output_current"]), Some("output_voltage"));
+        assert_eq!(
+            nearest("output_votlage", &["output_voltage", "output_current"]),
+            Some("output_voltage")
+        );
         assert_eq!(nearest("zzz", &["output_voltage"]), None);
     }
 }

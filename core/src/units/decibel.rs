@@ -110,8 +110,14 @@ impl Decibel {
     pub fn add(&self, other: &Decibel) -> Result<Decibel> {
         use DbReference::Ratio;
         match (self.reference, other.reference) {
-            (a, Ratio) => Ok(Decibel { value: self.value + other.value, reference: a }),
-            (Ratio, b) => Ok(Decibel { value: self.value + other.value, reference: b }),
+            (a, Ratio) => Ok(Decibel {
+                value: self.value + other.value,
+                reference: a,
+            }),
+            (Ratio, b) => Ok(Decibel {
+                value: self.value + other.value,
+                reference: b,
+            }),
             _ => Err(Error::dimension(format!(
                 "cannot add two levels ({self} and {other}); add a ratio in dB to a level"
             ))),
@@ -121,9 +127,14 @@ impl Decibel {
     pub fn sub(&self, other: &Decibel) -> Result<Decibel> {
         use DbReference::Ratio;
         match (self.reference, other.reference) {
-            (a, Ratio) => Ok(Decibel { value: self.value - other.value, reference: a }),
+            (a, Ratio) => Ok(Decibel {
+                value: self.value - other.value,
+                reference: a,
+            }),
             (a, b) if a == b => Ok(Decibel::ratio(self.value - other.value)),
-            _ => Err(Error::dimension(format!("cannot subtract {other} from {self}"))),
+            _ => Err(Error::dimension(format!(
+                "cannot subtract {other} from {self}"
+            ))),
         }
     }
     /// Compares two values of the same reference.
@@ -157,7 +168,12 @@ mod tests {
         let l = Decibel::level_of(&Quantity::new(1e-3, Dimension::VOLTAGE)).unwrap();
         assert!((l.value - 60.0).abs() < 1e-12);
         assert_eq!(l.to_string(), "60 dBµV");
-        let m = l.sub(&Decibel { value: 56.0, reference: DbReference::MicroVolt }).unwrap();
+        let m = l
+            .sub(&Decibel {
+                value: 56.0,
+                reference: DbReference::MicroVolt,
+            })
+            .unwrap();
         assert_eq!(m.reference, DbReference::Ratio);
         assert!(l.add(&l).is_err());
         assert!(Decibel::from_amplitude_ratio(-1.0).is_err());

@@ -141,6 +141,9 @@ mod tests {
         assert_eq!(f(24e-6, Dimension::AREA), "24 mm²");
         assert_eq!(f(6e6, Dimension::CURRENT_DENSITY), "6 A/mm²");
         assert_eq!(f(0.0, Dimension::VOLTAGE), "0 V");
-        assert_eq!(format_quantity(298.15, Dimension::TEMPERATURE, true), "25 °C");
+        assert_eq!(
+            format_quantity(298.15, Dimension::TEMPERATURE, true),
+            "25 °C"
+        );
     }
 }

@@ -43,7 +43,10 @@ fn lookup_symbol(term: &str) -> Option<(f64, Dimension)> {
     }
     for p in READ_PREFIXES {
         if let Some(rest) = term.strip_prefix(p.symbol) {
-            if let Some(u) = NAMED_UNITS.iter().find(|u| u.symbol == rest && u.prefixable) {
+            if let Some(u) = NAMED_UNITS
+                .iter()
+                .find(|u| u.symbol == rest && u.prefixable)
+            {
                 return Some((p.factor * u.scale, u.dimension));
             }
         }
@@ -55,7 +58,9 @@ fn lookup_symbol(term: &str) -> Option<(f64, Dimension)> {
 fn split_exponent(term: &str, whole: &str) -> Result<(String, i32)> {
     if let Some((sym, exp)) = term.split_once('^') {
         let e: i32 = exp.trim().parse().map_err(|_| {
-            Error::parse(format!("bad exponent '{exp}' in unit '{whole}'; write e.g. mm^2"))
+            Error::parse(format!(
+                "bad exponent '{exp}' in unit '{whole}'; write e.g. mm^2"
+            ))
         })?;
         return Ok((sym.trim().to_string(), e));
     }
@@ -240,9 +245,7 @@ pub fn parse_quantity(text: &str, expected: Option<Dimension>) -> Result<Quantit
         return Err(Error::parse(format!("'{t}' is not a finite number")));
     }
     let rest = rest.trim();
-    let expected_text = |d: Dimension| {
-        format!("{} ({})", d, super::format::unit_symbol(d))
-    };
+    let expected_text = |d: Dimension| format!("{} ({})", d, super::format::unit_symbol(d));
     if rest.is_empty() && letter_code {
         return match expected {
             Some(d) if !d.is_dimensionless() => Ok(Quantity::new(value, d)),
@@ -280,7 +283,11 @@ pub fn parse_quantity(text: &str, expected: Option<Dimension>) -> Result<Quantit
                     let u = parsed?;
                     return Err(Error::dimension(format!(
                         "'{t}' is a {}, expected a {}",
-                        if u.celsius { "temperature".to_string() } else { u.dimension.to_string() },
+                        if u.celsius {
+                            "temperature".to_string()
+                        } else {
+                            u.dimension.to_string()
+                        },
                         expected_text(d)
                     )));
                 }
@@ -339,12 +346,24 @@ mod tests {
 
     #[test]
     fn rejected_forms() {
-        for t in ["", "abc", "4.7 uFx", "nan", "inf V", "1e999 V", "4.7 °C/W", "2.2k"] {
+        for t in [
+            "",
+            "abc",
+            "4.7 uFx",
+            "nan",
+            "inf V",
+            "1e999 V",
+            "4.7 °C/W",
+            "2.2k",
+        ] {
             assert!(parse_quantity(t, None).is_err(), "{t}");
         }
         let e = parse_quantity("12", Some(Dimension::VOLTAGE)).unwrap_err();
         assert!(e.message().contains("no unit"), "{}", e.message());
         let e = parse_quantity("4.7 uF", Some(Dimension::VOLTAGE)).unwrap_err();
-        assert_eq!(e.message(), "'4.7 uF' is a capacitance, expected a voltage (V)");
+        assert_eq!(
+            e.message(),
+            "'4.7 uF' is a capacitance, expected a voltage (V)"
+        );
     }
 }

@@ -128,12 +128,18 @@ impl Quantity {
 
     /// Product; dimensions multiply.
     pub fn mul(&self, other: &Quantity) -> Quantity {
-        Quantity::new(self.value * other.value, self.dimension.mul(other.dimension))
+        Quantity::new(
+            self.value * other.value,
+            self.dimension.mul(other.dimension),
+        )
     }
 
     /// Quotient; dimensions divide.
     pub fn div(&self, other: &Quantity) -> Quantity {
-        Quantity::new(self.value / other.value, self.dimension.div(other.dimension))
+        Quantity::new(
+            self.value / other.value,
+            self.dimension.div(other.dimension),
+        )
     }
 
     /// Multiplies by a plain number, keeping the absolute-temperature flag off.
@@ -219,7 +225,11 @@ impl Quantity {
     /// The value written in a chosen unit, e.g. `4700 nF` for `(4.7 µF).to("nF")`.
     pub fn to_unit_string(&self, unit: &str) -> Result<String> {
         let v = self.value_in(unit)?;
-        Ok(format!("{} {}", super::format::format_number(v), unit.trim()))
+        Ok(format!(
+            "{} {}",
+            super::format::format_number(v),
+            unit.trim()
+        ))
     }
 
     /// Converts a `uom` quantity into a runtime quantity.

@@ -65,12 +65,23 @@ mod tests {
 
     #[test]
     fn dimensions_from_types() {
-        assert_eq!(<ElectricPotential as TypedQuantity>::dimension(), Dimension::VOLTAGE);
-        assert_eq!(<Inductance as TypedQuantity>::dimension(), Dimension::INDUCTANCE);
-        assert_eq!(<MagneticFluxDensity as TypedQuantity>::dimension(), Dimension::FLUX_DENSITY);
+        assert_eq!(
+            <ElectricPotential as TypedQuantity>::dimension(),
+            Dimension::VOLTAGE
+        );
+        assert_eq!(
+            <Inductance as TypedQuantity>::dimension(),
+            Dimension::INDUCTANCE
+        );
+        assert_eq!(
+            <MagneticFluxDensity as TypedQuantity>::dimension(),
+            Dimension::FLUX_DENSITY
+        );
         assert!(<ThermodynamicTemperature as TypedQuantity>::is_absolute_temperature());
         assert!(!<TemperatureInterval as TypedQuantity>::is_absolute_temperature());
-        let t = ThermodynamicTemperature::new::<uom::si::thermodynamic_temperature::degree_celsius>(25.0);
+        let t = ThermodynamicTemperature::new::<uom::si::thermodynamic_temperature::degree_celsius>(
+            25.0,
+        );
         assert_eq!(Quantity::from_typed(t).to_string(), "25 °C");
         let q = Quantity::new(2.0, Dimension::VOLTAGE);
         assert!(q.to_typed::<Inductance>("primary_inductance").is_err());
