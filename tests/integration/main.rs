@@ -8,3 +8,4 @@ mod sandbox;
 mod script;
 mod units;
 mod wires;
+mod readme;

@@ -1,0 +1,46 @@
+//! The README stays true: its function reference is generated from the same help metadata
+//! the prompt shows, and the commands it gives name files that exist.
+
+use super::common::host;
+use gapwise::script::docs::reference_markdown;
+use std::path::Path;
+
+const START: &str = "<!-- function-reference:start -->";
+const END: &str = "<!-- function-reference:end -->";
+
+fn readme_path() -> std::path::PathBuf {
+    Path::new(env!("CARGO_MANIFEST_DIR")).join("README.md")
+}
+
+#[test]
+fn function_reference_is_current() {
+    let text = std::fs::read_to_string(readme_path()).expect("README.md exists");
+    let (head, rest) = text.split_once(START).expect("README has the start marker");
+    let (_, tail) = rest.split_once(END).expect("README has the end marker");
+    let generated = reference_markdown(host().docs());
+    let expected = format!("{head}{START}\n\n{generated}{END}{tail}");
+    if text != expected {
+        if std::env::var_os("GAPWISE_UPDATE_README").is_some() {
+            std::fs::write(readme_path(), expected).expect("README.md writable");
+        } else {
+            panic!(
+                "README.md's function reference is stale; regenerate it with \
+                 `GAPWISE_UPDATE_README=1 cargo test -p gapwise --test integration readme` \
+                 or `cargo run -p gapwise-repl -- reference --write README.md`"
+            );
+        }
+    }
+}
+
+#[test]
+fn readme_commands_name_real_files() {
+    let text = std::fs::read_to_string(readme_path()).expect("README.md exists");
+    assert!(text.contains("cargo test --workspace"), "README gives the test command");
+    let run = text
+        .lines()
+        .find(|l| l.trim_start().starts_with("cargo run") && l.contains(" run scripts/"))
+        .expect("README gives the main job command");
+    let script = run.split_whitespace().find(|w| w.starts_with("scripts/")).expect("a recipe");
+    assert!(Path::new(env!("CARGO_MANIFEST_DIR")).join(script).exists(), "{script} exists");
+    assert!(text.contains("Caution"), "README carries the safety caution");
+}
