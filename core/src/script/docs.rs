@@ -214,12 +214,12 @@ impl FunctionDoc {
         let _ = writeln!(s, "#### `{}`\n", self.signature());
         let _ = writeln!(s, "{}\n", self.summary);
         for p in self.params {
-            let _ = writeln!(s, "- `{}`", Self::param_line(p).replacen(' ', "` ", 1));
+            let _ = writeln!(s, "- {}", Self::param_markdown(p));
         }
         if !self.keys.is_empty() {
             let _ = writeln!(s, "- keys of the map:");
             for p in self.keys {
-                let _ = writeln!(s, "  - `{}`", Self::param_line(p).replacen(' ', "` ", 1));
+                let _ = writeln!(s, "  - {}", Self::param_markdown(p));
             }
         }
         let _ = writeln!(s, "- returns: {}", self.returns);
