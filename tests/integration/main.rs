@@ -3,9 +3,9 @@
 
 mod common;
 mod passives;
+mod readme;
 mod recipes;
 mod sandbox;
 mod script;
 mod units;
 mod wires;
-mod readme;

@@ -35,12 +35,24 @@ fn function_reference_is_current() {
 #[test]
 fn readme_commands_name_real_files() {
     let text = std::fs::read_to_string(readme_path()).expect("README.md exists");
-    assert!(text.contains("cargo test --workspace"), "README gives the test command");
+    assert!(
+        text.contains("cargo test --workspace"),
+        "README gives the test command"
+    );
     let run = text
         .lines()
         .find(|l| l.trim_start().starts_with("cargo run") && l.contains(" run scripts/"))
         .expect("README gives the main job command");
-    let script = run.split_whitespace().find(|w| w.starts_with("scripts/")).expect("a recipe");
-    assert!(Path::new(env!("CARGO_MANIFEST_DIR")).join(script).exists(), "{script} exists");
-    assert!(text.contains("Caution"), "README carries the safety caution");
+    let script = run
+        .split_whitespace()
+        .find(|w| w.starts_with("scripts/"))
+        .expect("a recipe");
+    assert!(
+        Path::new(env!("CARGO_MANIFEST_DIR")).join(script).exists(),
+        "{script} exists"
+    );
+    assert!(
+        text.contains("Caution"),
+        "README carries the safety caution"
+    );
 }

@@ -174,19 +174,21 @@ impl FunctionDoc {
         format!("{}({})", self.name, p.join(", "))
     }
 
-    fn param_line(p: &ParamDoc) -> String {
+    fn kind_text(p: &ParamDoc) -> String {
         let default = match p.default {
             ParamDefault::Required => String::new(),
             ParamDefault::Optional => ", optional".into(),
             ParamDefault::Value(v) => format!(", default {v}"),
         };
-        format!(
-            "{} [{}{}]: {}",
-            p.name,
-            p.kind.describe(),
-            default,
-            p.summary
-        )
+        format!("{}{}", p.kind.describe(), default)
+    }
+
+    fn param_line(p: &ParamDoc) -> String {
+        format!("{} [{}]: {}", p.name, Self::kind_text(p), p.summary)
+    }
+
+    fn param_markdown(p: &ParamDoc) -> String {
+        format!("`{}` [{}]: {}", p.name, Self::kind_text(p), p.summary)
     }
 
     /// Help as plain text for the prompt.
@@ -195,12 +197,12 @@ impl FunctionDoc {
         let _ = writeln!(s, "{}  ({})", self.signature(), self.domain.title());
         let _ = writeln!(s, "  {}", self.summary);
         for p in self.params {
-            let _ = writeln!(s, "    {}", Self::param_line(p));
+            let _ = writeln!(s, "    {}", FunctionDoc::param_line(p));
         }
         if !self.keys.is_empty() {
             let _ = writeln!(s, "  keys of the map:");
             for p in self.keys {
-                let _ = writeln!(s, "    {}", Self::param_line(p));
+                let _ = writeln!(s, "    {}", FunctionDoc::param_line(p));
             }
         }
         let _ = writeln!(s, "  returns: {}", self.returns);
@@ -214,12 +216,12 @@ impl FunctionDoc {
         let _ = writeln!(s, "#### `{}`\n", self.signature());
         let _ = writeln!(s, "{}\n", self.summary);
         for p in self.params {
-            let _ = writeln!(s, "- {}", Self::param_markdown(p));
+            let _ = writeln!(s, "- {}", FunctionDoc::param_markdown(p));
         }
         if !self.keys.is_empty() {
             let _ = writeln!(s, "- keys of the map:");
             for p in self.keys {
-                let _ = writeln!(s, "  - {}", Self::param_markdown(p));
+                let _ = writeln!(s, "  - {}", FunctionDoc::param_markdown(p));
             }
         }
         let _ = writeln!(s, "- returns: {}", self.returns);
