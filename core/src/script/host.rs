@@ -293,6 +293,13 @@ impl ScriptHost {
     /// environment access, `eval` disabled, every limit set, a wall-clock budget enforced
     /// through the progress callback.
     pub fn new(limits: EngineLimits) -> Self {
+        Self::with_extensions(limits, |_| {})
+    }
+
+    /// Builds the engine like [`ScriptHost::new`], then lets the embedding program register
+    /// its own functions and types (a company's house calculations) before the engine is
+    /// frozen. Functions added here have no help entry unless the program documents them.
+    pub fn with_extensions(limits: EngineLimits, extend: impl FnOnce(&mut Engine)) -> Self {
         let state = Arc::new(HostState::new(limits.time_budget));
         let mut engine = Engine::new_raw();
         {
@@ -329,6 +336,7 @@ impl ScriptHost {
         engine.on_debug(move |s, _, pos| st.print(&format!("[debug {pos}] {s}")));
         let mut docs = Vec::new();
         super::register_all(&mut engine, &mut docs, &state, &limits);
+        extend(&mut engine);
         Self {
             engine,
             state,

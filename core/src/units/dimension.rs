@@ -97,22 +97,6 @@ impl Dimension {
         self.exponents == [0; 7]
     }
 
-    /// The dimension of a product.
-    #[must_use]
-    pub fn mul(self, other: Dimension) -> Dimension {
-        let mut e = self.exponents;
-        for (a, b) in e.iter_mut().zip(other.exponents) {
-            *a = a.saturating_add(b);
-        }
-        Dimension { exponents: e }
-    }
-
-    /// The dimension of a quotient.
-    #[must_use]
-    pub fn div(self, other: Dimension) -> Dimension {
-        self.mul(other.powi(-1))
-    }
-
     /// The dimension raised to an integer power.
     #[must_use]
     pub fn powi(self, n: i32) -> Dimension {
@@ -151,6 +135,26 @@ impl Dimension {
             }
         }
         parts.join("·")
+    }
+}
+
+impl std::ops::Mul for Dimension {
+    type Output = Dimension;
+    /// The dimension of a product: exponents add.
+    fn mul(self, other: Dimension) -> Dimension {
+        let mut e = self.exponents;
+        for (a, b) in e.iter_mut().zip(other.exponents) {
+            *a = a.saturating_add(b);
+        }
+        Dimension { exponents: e }
+    }
+}
+
+impl std::ops::Div for Dimension {
+    type Output = Dimension;
+    /// The dimension of a quotient: exponents subtract.
+    fn div(self, other: Dimension) -> Dimension {
+        self * other.powi(-1)
     }
 }
 
@@ -221,15 +225,13 @@ mod tests {
     fn derived_dimensions_compose() {
         // volt-seconds per ampere is an inductance (definition of the henry, SI brochure)
         assert_eq!(
-            Dimension::VOLTAGE
-                .mul(Dimension::TIME)
-                .div(Dimension::CURRENT),
+            Dimension::VOLTAGE * Dimension::TIME / Dimension::CURRENT,
             Dimension::INDUCTANCE
         );
         // watt per ampere is a volt
-        assert_eq!(Dimension::POWER.div(Dimension::CURRENT), Dimension::VOLTAGE);
+        assert_eq!(Dimension::POWER / Dimension::CURRENT, Dimension::VOLTAGE);
         // 1/sqrt(LC) is a frequency
-        let lc = Dimension::INDUCTANCE.mul(Dimension::CAPACITANCE);
+        let lc = Dimension::INDUCTANCE * Dimension::CAPACITANCE;
         assert_eq!(lc.sqrt().map(|d| d.powi(-1)), Some(Dimension::FREQUENCY));
         assert_eq!(Dimension::VOLTAGE.sqrt(), None);
     }

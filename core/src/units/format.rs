@@ -14,7 +14,7 @@ pub fn round_significant(x: f64, digits: i32) -> f64 {
     }
     let magnitude = x.abs().log10().floor() as i32;
     let shift = digits - 1 - magnitude;
-    if shift > 300 || shift < -300 {
+    if !(-300..=300).contains(&shift) {
         return x;
     }
     let factor = 10f64.powi(shift);

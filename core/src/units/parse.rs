@@ -132,7 +132,7 @@ pub fn parse_unit(text: &str) -> Result<UnitExpr> {
         })?;
         let exp = if dividing { -exp } else { exp };
         scale *= s.powi(exp);
-        dimension = dimension.mul(d.powi(exp));
+        dimension = dimension * d.powi(exp);
         term.clear();
         Ok(())
     };

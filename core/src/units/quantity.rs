@@ -128,18 +128,12 @@ impl Quantity {
 
     /// Product; dimensions multiply.
     pub fn mul(&self, other: &Quantity) -> Quantity {
-        Quantity::new(
-            self.value * other.value,
-            self.dimension.mul(other.dimension),
-        )
+        Quantity::new(self.value * other.value, self.dimension * other.dimension)
     }
 
     /// Quotient; dimensions divide.
     pub fn div(&self, other: &Quantity) -> Quantity {
-        Quantity::new(
-            self.value / other.value,
-            self.dimension.div(other.dimension),
-        )
+        Quantity::new(self.value / other.value, self.dimension / other.dimension)
     }
 
     /// Multiplies by a plain number, keeping the absolute-temperature flag off.

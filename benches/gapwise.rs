@@ -1,0 +1,140 @@
+//! Benchmarks: native call vs the same call from a compiled script, and families of 10,000
+//! variants on one core and on all cores. Run with `cargo bench`; the numbers go into the
+//! README. A small timing loop of our own keeps the build light: each case is warmed up,
+//! then timed in 7 samples of about 0.3 s, and the median is reported.
+
+use gapwise::passives::lc_resonant_frequency;
+use gapwise::script::{EngineLimits, ScriptHost};
+use gapwise::units::uom_si::{capacitance::microfarad, inductance::microhenry};
+use gapwise::units::{Capacitance, Inductance};
+use rhai::{Scope, AST};
+use std::hint::black_box;
+use std::time::{Duration, Instant};
+
+/// Median time per iteration of `f`, which performs `per_call` iterations per call.
+fn time_per_iteration(name: &str, per_call: u64, mut f: impl FnMut()) -> f64 {
+    let start = Instant::now();
+    let mut calls = 0u64;
+    while start.elapsed() < Duration::from_millis(200) {
+        f();
+        calls += 1;
+    }
+    let calls_per_sample = (calls * 3 / 2).max(1);
+    let mut samples = Vec::new();
+    for _ in 0..7 {
+        let t = Instant::now();
+        for _ in 0..calls_per_sample {
+            f();
+        }
+        samples.push(t.elapsed().as_secs_f64() / (calls_per_sample * per_call) as f64);
+    }
+    samples.sort_by(f64::total_cmp);
+    let median = samples[samples.len() / 2];
+    println!("{name:58} {:>12}", show(median));
+    median
+}
+
+fn show(seconds: f64) -> String {
+    if seconds < 1e-6 {
+        format!("{:.0} ns", seconds * 1e9)
+    } else if seconds < 1e-3 {
+        format!("{:.2} µs", seconds * 1e6)
+    } else {
+        format!("{:.2} ms", seconds * 1e3)
+    }
+}
+
+fn compile(host: &ScriptHost, source: &str) -> AST {
+    host.compile(source, "<bench>")
+        .expect("bench script compiles")
+}
+
+fn run(host: &ScriptHost, ast: &AST, source: &str) {
+    black_box(
+        host.run(ast, &mut Scope::new(), source, "<bench>")
+            .expect("bench script runs"),
+    );
+}
+
+fn call_overhead(host: &ScriptHost) {
+    println!("-- one calculation: native vs script");
+    let l = Inductance::new::<microhenry>(1.0);
+    let c = Capacitance::new::<microfarad>(100.0);
+    time_per_iteration("native lc_resonant_frequency", 1, || {
+        black_box(lc_resonant_frequency(black_box(l), black_box(c)).ok());
+    });
+    const N: u64 = 10_000;
+    let with_call = format!(
+        "let l = 1 * uH; let c = 100 * uF; for i in 0..{N} {{ lc_resonant_frequency(l, c); }}"
+    );
+    let empty = format!("let l = 1 * uH; let c = 100 * uF; for i in 0..{N} {{ l; }}");
+    let a = compile(host, &with_call);
+    let b = compile(host, &empty);
+    let t_call = time_per_iteration(
+        "script loop calling lc_resonant_frequency (per call)",
+        N,
+        || run(host, &a, &with_call),
+    );
+    let t_empty = time_per_iteration("script loop without the call (per iteration)", N, || {
+        run(host, &b, &empty)
+    });
+    println!(
+        "{:58} {:>12}",
+        "=> cost of one call from a script",
+        show((t_call - t_empty).max(0.0))
+    );
+}
+
+fn family(host: &ScriptHost) {
+    println!("-- a family of 10,000 variants of a small recipe");
+    let source = r#"
+        let variants = grid(#{
+            output_voltage: [3.3 * V, 5 * V, 9 * V, 12 * V, 15 * V, 18 * V, 24 * V, 36 * V, 48 * V, 56 * V],
+            output_current: [0.25 * A, 0.5 * A, 0.75 * A, 1 * A, 1.25 * A, 1.5 * A, 2 * A, 2.5 * A, 3 * A, 4 * A],
+            inductance: [1 * uH, 1.5 * uH, 2.2 * uH, 3.3 * uH, 4.7 * uH, 6.8 * uH, 10 * uH, 15 * uH, 22 * uH, 33 * uH],
+            capacitance: [100 * uF, 220 * uF, 330 * uF, 470 * uF, 680 * uF, 1000 * uF, 1500 * uF, 2200 * uF, 3300 * uF, 4700 * uF],
+        });
+        family(|v| #{
+            output_power: v.output_voltage * v.output_current,
+            corner: lc_resonant_frequency(v.inductance, v.capacitance),
+            divider: resistor_divider(#{output_voltage: v.output_voltage, reference_voltage: 1.24 * V}),
+        }, variants)
+    "#;
+    let ast = compile(host, source);
+    let one = rayon::ThreadPoolBuilder::new()
+        .num_threads(1)
+        .build()
+        .expect("pool");
+    let t1 = one.install(|| {
+        time_per_iteration("family, 1 thread (per variant)", 10_000, || {
+            run(host, &ast, source)
+        })
+    });
+    let tn = time_per_iteration("family, all cores (per variant)", 10_000, || {
+        run(host, &ast, source)
+    });
+    println!(
+        "{:58} {:>12.0}",
+        "=> variants per second, 1 thread",
+        1.0 / t1
+    );
+    println!(
+        "{:58} {:>12.0}",
+        "=> variants per second, all cores",
+        1.0 / tn
+    );
+}
+
+fn main() {
+    // `cargo test --benches` passes --bench-less flags; only time under `cargo bench`.
+    if std::env::args().any(|a| a == "--list") {
+        return;
+    }
+    let host = ScriptHost::new(EngineLimits::default());
+    println!(
+        "gapwise benchmarks ({} threads available)",
+        rayon::current_num_threads()
+    );
+    call_overhead(&host);
+    family(&host);
+}
