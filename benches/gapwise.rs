@@ -50,10 +50,10 @@ fn compile(host: &ScriptHost, source: &str) -> AST {
 }
 
 fn run(host: &ScriptHost, ast: &AST, source: &str) {
-    black_box(
-        host.run(ast, &mut Scope::new(), source, "<bench>")
-            .expect("bench script runs"),
-    );
+    let value = host
+        .run(ast, &mut Scope::new(), source, "<bench>")
+        .expect("bench script runs");
+    drop(black_box(value));
 }
 
 fn call_overhead(host: &ScriptHost) {
