@@ -9,7 +9,10 @@ use gapwise::units::{Dimension, Quantity};
 /// A house rule of our fictional company: the stock capacitor voltage rating to buy for a
 /// working voltage, with 25 % headroom, from the ratings kept in stock (invented for the demo).
 fn stock_capacitor_rating(working: Quantity) -> Result<Quantity, Box<rhai::EvalAltResult>> {
-    if working.dimension() != Dimension::VOLTAGE || !(working.value() > 0.0) {
+    if working.dimension() != Dimension::VOLTAGE
+        || !working.value().is_finite()
+        || working.value() <= 0.0
+    {
         return Err(format!("`working_voltage` must be a positive voltage, got {working}").into());
     }
     let needed = working.value() * 1.25;
