@@ -541,8 +541,16 @@ fn keep_temperature(d: Dynamic, a: &Dynamic, b: &Dynamic) -> Dynamic {
     d
 }
 
-/// Formats any script value for display at the prompt.
+/// Formats any script value for display at the prompt; text shows without quotes at the
+/// top level and quoted inside arrays and maps.
 pub(crate) fn display_value(v: &Dynamic) -> String {
+    if let Some(s) = v.read_lock::<ImmutableString>() {
+        return s.to_string();
+    }
+    display_nested(v)
+}
+
+fn display_nested(v: &Dynamic) -> String {
     if let Some(q) = v.read_lock::<Quantity>() {
         return q.to_string();
     }
@@ -565,13 +573,13 @@ pub(crate) fn display_value(v: &Dynamic) -> String {
         let w = m.keys().map(|k| k.len()).max().unwrap_or(0);
         let mut s = String::from("#{\n");
         for (k, x) in m.iter() {
-            s.push_str(&format!("  {:w$}: {},\n", k.as_str(), display_value(x)));
+            s.push_str(&format!("  {:w$}: {},\n", k.as_str(), display_nested(x)));
         }
         s.push('}');
         return s;
     }
     if let Some(a) = v.read_lock::<rhai::Array>() {
-        let items: Vec<String> = a.iter().map(display_value).collect();
+        let items: Vec<String> = a.iter().map(display_nested).collect();
         return format!("[{}]", items.join(", "));
     }
     if let Some(s) = v.read_lock::<ImmutableString>() {
