@@ -4,6 +4,7 @@
 mod common;
 mod passives;
 mod recipes;
+mod safety;
 mod sandbox;
 mod script;
 mod units;
