@@ -399,6 +399,7 @@ fn flyback_working_voltage_and_transformer() {
         reflected_voltage: si(100.0),
         clamp_overshoot: si(60.0),
         secondary_voltage_peak: si(40.0),
+        secondary_voltage_rms: None,
         duty_cycle: 0.2,
         switching_frequency: si(65e3),
     })
@@ -531,4 +532,25 @@ proptest! {
         });
         prop_assert_eq!(k.is_ok(), v * 5.0 > 0.0 && v * 5.0 <= 12000.0);
     }
+}
+
+#[test]
+fn fernbank_isolation_recipe_prints_the_barrier_table() {
+    let path =
+        std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("scripts/fernbank_isolation.rhai");
+    let source = std::fs::read_to_string(&path).expect("recipe exists");
+    let h = host();
+    if let Err(e) = h.eval(&source, "fernbank_isolation.rhai") {
+        panic!("{e}");
+    }
+    let printed = h.take_printed().join("\n");
+    println!("{printed}");
+    assert!(printed.contains(gapwise::SAFETY_CAUTION));
+    assert!(printed.contains("primary_secondary_creepage_printed_board"));
+    assert!(printed.contains("line_neutral_before_fuse"));
+    assert_eq!(
+        h.take_failed_checks(),
+        0,
+        "the demo layout passes every check"
+    );
 }

@@ -23,8 +23,10 @@ pub struct ProvidedInsulation {
     pub thin_sheet_layers: Option<i64>,
 }
 
-/// Warning margin of the isolation checks: a provided distance within 5 % of the requirement
-/// passes with a warning (common practice, no published source).
+/// Warning margin of the checks on measured distances (clearance, creepage): a provided
+/// distance within 5 % of the requirement passes with a warning, leaving room for layout and
+/// measurement tolerance (common practice, no published source). Construction minimums
+/// (distance through insulation, thin-sheet layers) pass without a warning when met exactly.
 pub const ISOLATION_WARN_MARGIN: f64 = 0.05;
 
 fn check(
@@ -34,6 +36,7 @@ fn check(
     required: Quantity,
     provided: Option<Quantity>,
     reference: &str,
+    warn_margin: f64,
 ) -> Result<()> {
     if let Some(p) = provided {
         let rule = Rule::new(
@@ -47,7 +50,7 @@ fn check(
             reference,
             Comparison::AtLeast,
             required,
-            ISOLATION_WARN_MARGIN,
+            warn_margin,
         )?;
         out.push(rule.check(p)?);
     }
@@ -74,6 +77,7 @@ pub fn barrier_checks(
         Quantity::from_typed(r.clearance),
         len("clearance", provided.clearance)?,
         &r.clearance_rule,
+        ISOLATION_WARN_MARGIN,
     )?;
     check(
         &mut out,
@@ -82,6 +86,7 @@ pub fn barrier_checks(
         Quantity::from_typed(r.creepage),
         len("creepage", provided.creepage)?,
         &r.creepage_rule,
+        ISOLATION_WARN_MARGIN,
     )?;
     check(
         &mut out,
@@ -90,6 +95,7 @@ pub fn barrier_checks(
         Quantity::from_typed(r.creepage_printed_board),
         len("creepage_printed_board", provided.creepage_printed_board)?,
         &r.creepage_printed_board_rule,
+        ISOLATION_WARN_MARGIN,
     )?;
     check(
         &mut out,
@@ -101,6 +107,7 @@ pub fn barrier_checks(
             provided.distance_through_insulation,
         )?,
         &r.solid_insulation_rule,
+        0.0,
     )?;
     if let Some(n) = provided.thin_sheet_layers {
         if n < 0 {
@@ -115,6 +122,7 @@ pub fn barrier_checks(
             Quantity::number(r.thin_sheet_layers_any_two_passing as f64),
             Some(Quantity::number(n as f64)),
             &r.solid_insulation_rule,
+            0.0,
         )?;
     }
     Ok(out)

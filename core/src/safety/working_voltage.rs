@@ -17,6 +17,9 @@ pub struct FlybackBarrierSpec {
     pub clamp_overshoot: ElectricPotential,
     /// Peak voltage of the secondary winding relative to the secondary return.
     pub secondary_voltage_peak: ElectricPotential,
+    /// RMS voltage of the secondary winding relative to the secondary return; when absent the
+    /// peak is used (conservative).
+    pub secondary_voltage_rms: Option<ElectricPotential>,
     /// Duty cycle at the highest line (0 … 1), for the RMS value.
     pub duty_cycle: f64,
     /// Switching frequency (the frequency of the working voltage).
@@ -41,8 +44,9 @@ pub struct BarrierWorkingVoltage {
 /// Formula (a conservative sum; common practice, no published source):
 /// - peak = V_bulk + V_reflected + V_overshoot + V_secondary,peak (the switch node at its
 ///   highest against the secondary terminal of opposite swing);
-/// - RMS = max(V_bulk, (V_bulk + V_reflected)·√(1 − D)) + V_secondary,peak: the larger of the
-///   bulk rail and the RMS of the switch-node square wave, plus the secondary as if DC.
+/// - RMS = max(V_bulk, (V_bulk + V_reflected)·√(1 − D)) + V_secondary,rms: the larger of the
+///   bulk rail and the RMS of the switch-node square wave, plus the secondary's RMS (its peak
+///   when no RMS value is given).
 ///
 /// Assumes the measurement convention of IEC 62368-1:2018 5.4.1.8 is approximated by taking the
 /// primary return as the reference; measure the real waveform on the prototype.
@@ -52,10 +56,19 @@ pub fn flyback_working_voltage(spec: &FlybackBarrierSpec) -> Result<BarrierWorki
     let vr = non_negative("reflected_voltage", spec.reflected_voltage)?.value;
     let vo = non_negative("clamp_overshoot", spec.clamp_overshoot)?.value;
     let vs = non_negative("secondary_voltage_peak", spec.secondary_voltage_peak)?.value;
+    let vs_rms = match spec.secondary_voltage_rms {
+        Some(v) => non_negative("secondary_voltage_rms", v)?.value,
+        None => vs,
+    };
+    if vs_rms > vs * (1.0 + 1e-9) {
+        return Err(Error::invalid(
+            "`secondary_voltage_rms` cannot exceed `secondary_voltage_peak`",
+        ));
+    }
     let d = number_within("duty_cycle", spec.duty_cycle, 0.0, 1.0)?;
     let f = positive("switching_frequency", spec.switching_frequency)?;
     let peak = vb + vr + vo + vs;
-    let rms = vb.max((vb + vr) * (1.0 - d).sqrt()) + vs;
+    let rms = vb.max((vb + vr) * (1.0 - d).sqrt()) + vs_rms;
     if !(peak.is_finite() && rms.is_finite()) {
         return Err(Error::invalid("working voltage is not finite"));
     }
@@ -63,7 +76,7 @@ pub fn flyback_working_voltage(spec: &FlybackBarrierSpec) -> Result<BarrierWorki
         working_voltage_peak: si(peak),
         working_voltage_rms: si(rms),
         working_frequency: f,
-        rule: "peak = bulk + reflected + overshoot + secondary; rms = max(bulk, (bulk + reflected)·√(1 − D)) + secondary (conservative sum, common practice, no published source)".into(),
+        rule: "peak = bulk + reflected + overshoot + secondary; rms = max(bulk, (bulk + reflected)·√(1 − D)) + secondary rms (conservative sum, common practice, no published source)".into(),
     })
 }
 

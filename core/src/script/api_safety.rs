@@ -229,6 +229,7 @@ static WORKING: FunctionDoc = FunctionDoc {
         ParamDoc::required("reflected_voltage", ParamKind::Quantity("V"), "reflected output voltage"),
         ParamDoc::with_default("clamp_overshoot", ParamKind::Quantity("V"), "0 V", "leakage spike above the reflected voltage"),
         ParamDoc::required("secondary_voltage_peak", ParamKind::Quantity("V"), "peak secondary winding voltage"),
+        ParamDoc::optional("secondary_voltage_rms", ParamKind::Quantity("V"), "RMS secondary winding voltage; default the peak (conservative)"),
         ParamDoc::required("duty_cycle", ParamKind::Number, "duty cycle at the highest line, 0 … 1"),
         ParamDoc::required("switching_frequency", ParamKind::Quantity("Hz"), "switching frequency"),
     ],
@@ -455,6 +456,7 @@ pub(crate) fn register(api: &mut Api, state: &Arc<HostState>) {
                 reflected_voltage: s.quantity("reflected_voltage")?,
                 clamp_overshoot: s.quantity("clamp_overshoot")?,
                 secondary_voltage_peak: s.quantity("secondary_voltage_peak")?,
+                secondary_voltage_rms: s.optional_quantity("secondary_voltage_rms")?,
                 duty_cycle: s.number("duty_cycle")?,
                 switching_frequency: s.quantity("switching_frequency")?,
             })
