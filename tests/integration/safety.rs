@@ -554,3 +554,61 @@ fn fernbank_isolation_recipe_prints_the_barrier_table() {
         "the demo layout passes every check"
     );
 }
+
+#[test]
+fn other_barriers() {
+    // secondary–earth: category I of its own voltage, IEC 60664-1:2020 Table F.1 50 V row
+    // (330 V; value recalled from memory) → Table F.2 case A PD2 0.2 mm; creepage below 10 V uses
+    // the 10 V row of Table F.5, PD2 0.4 mm (value recalled from memory; the use of the first
+    // row below it is common practice, no published source)
+    let s = barrier_requirements(&BarrierSpec {
+        barrier: Barrier::SecondaryEarth,
+        grade: Basic,
+        working_voltage_peak: si(6.0),
+        working_voltage_rms: si(5.0),
+        ..worked_spec(0.0, Basic)
+    })
+    .unwrap();
+    assert_eq!(s.impulse_voltage_peak.value, 330.0);
+    mm(s.clearance.value * 1e3, 0.2);
+    mm(s.creepage.value * 1e3, 0.4);
+    assert!(s.creepage_rule.contains("10 V row is used"));
+    mm(s.distance_through_insulation.value * 1e3, 0.0);
+    // primary–earth of a class I product at 120 V: OVC II 1.5 kV → 0.5 mm basic (Table F.1,
+    // Table F.2; value recalled from memory); creepage at 120 V between 100 V (1.4 mm) and 125 V
+    // (1.5 mm) in group III, hand interpolation 1.48 mm
+    let p = barrier_requirements(&BarrierSpec {
+        barrier: Barrier::PrimaryEarth,
+        mains_voltage: si(120.0),
+        working_voltage_peak: si(170.0),
+        working_voltage_rms: si(120.0),
+        ..worked_spec(0.0, Basic)
+    })
+    .unwrap();
+    assert_eq!(p.impulse_voltage_peak.value, 1500.0);
+    mm(p.clearance.value * 1e3, 0.5);
+    mm(p.creepage.value * 1e3, 1.48);
+}
+
+#[test]
+fn more_bad_input() {
+    let e = eval_err("clearance_distance(#{impulse_voltage: 2.5 * kV, mains_voltage: 230 * V})");
+    assert!(e.to_string().contains("not both"), "{e}");
+    let e = eval_err("clearance_distance(#{pollution_degree: 2})");
+    assert!(e.to_string().contains("impulse_voltage"), "{e}");
+    let e = eval_err("transformer_insulation(#{barrier: \"line_neutral_before_fuse\", insulation: \"functional\"})");
+    assert!(e.to_string().contains("functional"), "{e}");
+    let e = eval_err("x_discharge_resistor(#{x_capacitance: 100 * nF, mains_voltage: 24 * V})");
+    assert!(e.to_string().contains("no discharge resistor"), "{e}");
+    let e = eval_err("flyback_working_voltage(#{bulk_voltage_peak: 373 * V, reflected_voltage: 100 * V, secondary_voltage_peak: 20 * V, duty_cycle: 1.5, switching_frequency: 65 * kHz})");
+    assert!(e.to_string().contains("duty_cycle"), "{e}");
+    let e = eval_err("barrier_requirements(#{barrier: \"primary_secondary\", working_voltage_peak: 100 * V, working_voltage_rms: 200 * V})");
+    assert!(e.to_string().contains("working_voltage_rms"), "{e}");
+    let e = eval_err("material_group_for_cti(50)");
+    assert!(e.to_string().contains("comparative_tracking_index"), "{e}");
+    let e =
+        eval_err("barrier_checks(#{barrier: \"primary_secondary\", provided_clearance: -1 * mm})");
+    assert!(e.to_string().contains("clearance"), "{e}");
+    // IEC 60664-1:2020 4.8.1.3: CTI 175 is group IIIa (value recalled from memory)
+    assert_eq!(eval("material_group_for_cti(175)"), "\"IIIa\"");
+}
