@@ -117,6 +117,8 @@ fn reinforced_clearance_one_step_up_or_160_percent() {
     assert_eq!(u.value, 4800.0);
     assert!(rule.contains("160 %"));
     mm(clearance(3.0, Inhomogeneous, Two, Reinforced, 0.0), 4.0);
+    // the two rules together are not monotonic: 3.9 kV → 6.24 kV → 8 kV row, 8.0 mm
+    mm(clearance(3.9, Inhomogeneous, Two, Reinforced, 0.0), 8.0);
     // double insulation: basic plus supplementary, hand sum of the same table values
     mm(clearance(2.5, Inhomogeneous, Two, Double, 0.0), 3.0);
     mm(clearance(2.5, Inhomogeneous, Two, Supplementary, 0.0), 1.5);

@@ -103,7 +103,11 @@ pub fn reinforced_withstand_voltage(
 /// voltage; reinforced uses one preferred step higher or 160 % ([`reinforced_withstand_voltage`]);
 /// double insulation is basic plus supplementary, reported as the sum of the two (2 × basic).
 /// The table value (valid up to 2000 m) is multiplied by the altitude factor of Table A.2.
-/// Valid for 0 < U ≤ 12 kV after the reinforced step; above is an error.
+/// Valid for 0 < U ≤ 12 kV after the reinforced step (the 0.33 kV row covers lower voltages);
+/// above is an error.
+/// Note: the two reinforced rules of 5.1.6 are not monotonic together: 3.9 kV basic (not a
+/// preferred value) gives 160 % = 6.24 kV and the 8 kV row, while 4.0 kV basic (preferred) gives
+/// the 6 kV row. gapwise applies the standard's rule as written and says which one it used.
 /// Reference: IEC 60664-1:2020 Table F.2, 5.1.6 and Table A.2 (values recalled from memory).
 pub fn clearance_distance(spec: &ClearanceSpec) -> Result<Clearance> {
     let basic = positive("impulse_voltage", spec.impulse_voltage)?;

@@ -154,6 +154,12 @@ pub fn creepage_distance(spec: &CreepageSpec) -> Result<Creepage> {
             format!("{}: the table value for basic insulation", spec.grade),
         )
     };
+    if spec.pollution_degree == PollutionDegree::Three
+        && spec.material_group == MaterialGroup::IIIb
+        && v > 630.0
+    {
+        rule.push_str("; note: the table does not recommend group IIIb at pollution degree 3 above 630 V (value recalled from memory)");
+    }
     let mut set_by_clearance = false;
     if let Some(c) = spec.minimum_clearance {
         let c = non_negative("minimum_clearance", c)?.value;

@@ -4,7 +4,8 @@
 //!
 //! Provenance: these values were typed from the authors' knowledge of the standards, without a
 //! copy at hand to check them. Every table is therefore marked `value recalled from memory`;
-//! check them against your copy of the current edition before relying on them.
+//! check them against your copy of the current edition before relying on them. The table and
+//! clause numbers given for IEC 62368-1:2018 are recalled from memory as well.
 
 /// Where a table comes from.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
