@@ -31,6 +31,7 @@ pub mod magnetics;
 pub mod passives;
 pub mod report;
 pub mod rules;
+pub mod safety;
 pub mod script;
 pub mod units;
 

@@ -5,6 +5,7 @@ mod common;
 mod passives;
 mod readme;
 mod recipes;
+mod safety;
 mod sandbox;
 mod script;
 mod units;

@@ -8,6 +8,7 @@ mod api_family;
 mod api_magnetics;
 mod api_passives;
 mod api_rules;
+mod api_safety;
 mod api_units;
 pub mod convert;
 pub mod docs;
@@ -75,4 +76,5 @@ pub(crate) fn register_all(
     api_rules::register(&mut api, state);
     api_passives::register(&mut api);
     api_magnetics::register(&mut api);
+    api_safety::register(&mut api, state);
 }
