@@ -87,28 +87,25 @@ pub fn reference(write: Option<&Path>, limits: EngineLimits) -> Result<(), Failu
     }
 }
 
-/// Replaces the lines between the start and end markers with `content` (markers kept).
+/// Replaces the text between the start and end markers with a blank line and `content`
+/// (markers kept), the layout the README test expects.
 pub fn replace_between_markers(text: &str, content: &str) -> anyhow::Result<String> {
-    let lines: Vec<&str> = text.split_inclusive('\n').collect();
-    let start = lines.iter().position(|l| l.trim() == REFERENCE_START);
-    let end = lines.iter().position(|l| l.trim() == REFERENCE_END);
-    let (start, end) = match (start, end) {
-        (Some(s), Some(e)) if s < e => (s, e),
-        (Some(_), Some(_)) => bail!("the line {REFERENCE_END} comes before {REFERENCE_START}"),
-        _ => bail!(
+    let missing = || {
+        anyhow::anyhow!(
             "the marker lines {REFERENCE_START} and {REFERENCE_END} are missing; \
              add them where the function reference belongs"
-        ),
+        )
     };
-    let mut out: String = lines[..=start].concat();
-    if !out.ends_with('\n') {
-        out.push('\n');
-    }
-    out.push('\n');
-    out.push_str(content.trim_end());
-    out.push_str("\n\n");
-    out.push_str(&lines[end..].concat());
-    Ok(out)
+    let (head, rest) = text.split_once(REFERENCE_START).ok_or_else(missing)?;
+    let Some((_, tail)) = rest.split_once(REFERENCE_END) else {
+        if text.contains(REFERENCE_END) {
+            bail!("the line {REFERENCE_END} comes before {REFERENCE_START}");
+        }
+        return Err(missing());
+    };
+    Ok(format!(
+        "{head}{REFERENCE_START}\n\n{content}{REFERENCE_END}{tail}"
+    ))
 }
 
 #[cfg(test)]
@@ -118,12 +115,15 @@ mod tests {
     #[test]
     fn markers_replace_only_the_inside_and_are_idempotent() {
         let text = format!("# T\n{REFERENCE_START}\nold\n{REFERENCE_END}\ntail\n");
-        let once = replace_between_markers(&text, "new body\n").unwrap();
+        let once = replace_between_markers(&text, "new body\n\n").unwrap();
         assert_eq!(
             once,
             format!("# T\n{REFERENCE_START}\n\nnew body\n\n{REFERENCE_END}\ntail\n")
         );
-        assert_eq!(replace_between_markers(&once, "new body\n").unwrap(), once);
+        assert_eq!(
+            replace_between_markers(&once, "new body\n\n").unwrap(),
+            once
+        );
     }
 
     #[test]

@@ -86,7 +86,7 @@ impl Progress {
         }
         s.current = Some((count, seen, most, start));
         let now = Instant::now();
-        let due = s.last_draw.map_or(true, |t| now - t >= REDRAW_EVERY);
+        let due = !matches!(s.last_draw, Some(t) if now - t < REDRAW_EVERY);
         if now - start >= SHOW_AFTER && due {
             s.shown = true;
             s.last_draw = Some(now);

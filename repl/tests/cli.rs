@@ -397,25 +397,6 @@ fn reference_write_replaces_only_between_the_markers() {
     std::fs::remove_dir_all(&d).unwrap();
 }
 
-/// When the README carries the reference markers, what is between them must be current
-/// (regenerate with `cargo run -p gapwise-repl -- reference --write README.md`).
-#[test]
-fn readme_function_reference_is_current() {
-    let readme = workspace_root().join("README.md");
-    let Ok(text) = std::fs::read_to_string(&readme) else {
-        return;
-    };
-    if !text.contains("<!-- function-reference:start -->") {
-        return;
-    }
-    let printed = gapwise(&["reference"]).stdout;
-    assert!(
-        text.contains(printed.trim()),
-        "README.md's function reference is stale: run \
-         `cargo run -p gapwise-repl -- reference --write README.md`"
-    );
-}
-
 #[test]
 fn the_prompt_keeps_variables_and_functions_across_lines() {
     let d = temp_dir("prompt");
