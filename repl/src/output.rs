@@ -94,6 +94,14 @@ impl Progress {
         }
     }
 
+    /// Clears the bar's line so that a printed line does not mix with it; the bar comes
+    /// back at its next update.
+    pub fn clear_line(&self) {
+        if let Ok(mut s) = self.state.lock() {
+            clear(&mut s);
+        }
+    }
+
     /// Clears the bar (call at the end of a run, also after an error).
     pub fn finish(&self) {
         if let Ok(mut s) = self.state.lock() {

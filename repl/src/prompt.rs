@@ -4,7 +4,6 @@
 
 use crate::complete::PromptHelper;
 use crate::docs_cmd::help_text;
-use crate::output::Progress;
 use anyhow::Result;
 use gapwise_core::script::docs::listing_text;
 use gapwise_core::script::suggest::did_you_mean;
@@ -16,7 +15,6 @@ use std::fs::OpenOptions;
 use std::io::{BufRead, IsTerminal, Write};
 use std::path::PathBuf;
 use std::rc::Rc;
-use std::sync::Arc;
 
 /// The prompt's commands, with what they do (shown by `:help`).
 pub const COMMANDS: &[(&str, &str)] = &[
@@ -185,16 +183,7 @@ impl Input {
 pub fn run(limits: EngineLimits) -> Result<()> {
     let host = ScriptHost::new(limits);
     let terminal = std::io::stdin().is_terminal() && std::io::stdout().is_terminal();
-    host.set_print(Some(Arc::new(|line: &str| {
-        let mut out = std::io::stdout().lock();
-        let _ = writeln!(out, "{line}");
-        let _ = out.flush();
-    })));
-    let progress = std::io::stderr().is_terminal().then(|| {
-        let p = Progress::default();
-        host.set_progress(Some(p.callback()));
-        p
-    });
+    let progress = crate::runner::attach_print_and_progress(&host);
     let session = Rc::new(RefCell::new(Session::new(host)));
     let mut history = History {
         path: history_path(),

@@ -53,23 +53,24 @@ fn scope_with_sets(sets: &[String]) -> anyhow::Result<Scope<'static>> {
     Ok(scope)
 }
 
-/// Script `print` goes to stdout as it happens.
-fn print_to_stdout(host: &ScriptHost) {
-    host.set_print(Some(Arc::new(|line: &str| {
+/// Script `print` goes to stdout as it happens; a progress bar on stderr (only when it is
+/// a terminal) is cleared before each printed line. Returns the bar, if any.
+pub fn attach_print_and_progress(host: &ScriptHost) -> Option<Progress> {
+    let progress = std::io::stderr().is_terminal().then(|| {
+        let p = Progress::default();
+        host.set_progress(Some(p.callback()));
+        p
+    });
+    let bar = progress.clone();
+    host.set_print(Some(Arc::new(move |line: &str| {
+        if let Some(b) = &bar {
+            b.clear_line();
+        }
         let mut out = std::io::stdout().lock();
         let _ = writeln!(out, "{line}");
         let _ = out.flush();
     })));
-}
-
-fn progress_on_terminal(host: &ScriptHost) -> Option<Progress> {
-    if std::io::stderr().is_terminal() {
-        let p = Progress::default();
-        host.set_progress(Some(p.callback()));
-        Some(p)
-    } else {
-        None
-    }
+    progress
 }
 
 fn read_source(file: &str) -> anyhow::Result<(String, String)> {
@@ -90,8 +91,7 @@ pub fn run(args: &RunArgs, limits: EngineLimits) -> Result<(), Failure> {
     let (source, source_name) = read_source(&args.file)?;
     let mut scope = scope_with_sets(&args.sets.set)?;
     let host = ScriptHost::new(limits);
-    print_to_stdout(&host);
-    let progress = progress_on_terminal(&host);
+    let progress = attach_print_and_progress(&host);
     let result = host
         .compile_with_scope(&scope, &source, &source_name)
         .and_then(|ast| host.run(&ast, &mut scope, &source, &source_name));
@@ -165,8 +165,7 @@ fn print_table(name: &str, table: &Table) {
 pub fn eval(args: &EvalArgs, limits: EngineLimits) -> Result<(), Failure> {
     let mut scope = scope_with_sets(&args.sets.set)?;
     let host = ScriptHost::new(limits);
-    print_to_stdout(&host);
-    let progress = progress_on_terminal(&host);
+    let progress = attach_print_and_progress(&host);
     let source = &args.expression;
     let result = host
         .compile_with_scope(&scope, source, "<eval>")
