@@ -485,3 +485,64 @@ fn the_fernbank_family_recipe_writes_its_csv() {
     assert_eq!(csv.lines().count(), 6, "a header and five members: {csv}");
     std::fs::remove_dir_all(&d).unwrap();
 }
+
+const TABLE_AND_TEXT: &str = r##"
+output_table("members", table([#{ output_voltage: 5 * V }, #{ output_voltage: 12 * V }]));
+output_text("notes", "md", "# Notes\n");
+"##;
+
+#[test]
+fn texts_go_into_out_and_format_table_prints_the_tables() {
+    let d = temp_dir("texts");
+    let path = write_recipe(&d, "texts.rhai", TABLE_AND_TEXT);
+    let out = d.join("out");
+    let r = gapwise(&[
+        "run",
+        path.to_str().unwrap(),
+        "--out",
+        out.to_str().unwrap(),
+    ]);
+    assert_eq!(r.code, 0, "{}", r.stderr);
+    assert_eq!(file_names(&out), ["members.csv", "notes.md"]);
+    assert_eq!(
+        std::fs::read_to_string(out.join("notes.md")).unwrap(),
+        "# Notes\n"
+    );
+    let shown = d.join("shown");
+    let r = gapwise(&[
+        "run",
+        path.to_str().unwrap(),
+        "--out",
+        shown.to_str().unwrap(),
+        "--format",
+        "table",
+    ]);
+    assert_eq!(r.code, 0, "{}", r.stderr);
+    assert_eq!(file_names(&shown), ["notes.md"]);
+    assert!(r.stdout.contains("output_voltage [V]"), "{}", r.stdout);
+    let r = gapwise(&["run", path.to_str().unwrap()]);
+    assert!(
+        r.stderr.contains("not written without --out DIR: notes.md"),
+        "{}",
+        r.stderr
+    );
+    std::fs::remove_dir_all(&d).unwrap();
+}
+
+#[test]
+fn an_unwritable_out_folder_is_an_io_error_with_nothing_written() {
+    let d = temp_dir("unwritable");
+    let path = write_recipe(&d, "texts.rhai", TABLE_AND_TEXT);
+    let blocker = d.join("a_file");
+    std::fs::write(&blocker, "not a folder").unwrap();
+    let r = gapwise(&[
+        "run",
+        path.to_str().unwrap(),
+        "--out",
+        blocker.to_str().unwrap(),
+    ]);
+    assert_eq!(r.code, 2, "{}", r.stderr);
+    assert!(r.stderr.contains("cannot create folder"), "{}", r.stderr);
+    assert_eq!(file_names(&d), ["a_file", "texts.rhai"]);
+    std::fs::remove_dir_all(&d).unwrap();
+}
