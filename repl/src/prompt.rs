@@ -11,6 +11,7 @@ use gapwise_core::script::{EngineLimits, ScriptError, ScriptHost};
 use gapwise_core::SAFETY_CAUTION;
 use rhai::{Scope, AST};
 use std::cell::RefCell;
+use std::collections::HashMap;
 use std::fs::OpenOptions;
 use std::io::{BufRead, IsTerminal, Write};
 use std::path::PathBuf;
@@ -37,6 +38,9 @@ pub struct Session {
     pub scope: Scope<'static>,
     /// Script functions defined so far (an AST holding functions only).
     pub functions: AST,
+    /// For each function defined so far, the entry (or file) that defined it, so that an
+    /// error inside it shows the right source line.
+    function_sources: HashMap<String, (String, String)>,
 }
 
 impl Session {
@@ -46,6 +50,7 @@ impl Session {
             host,
             scope: Scope::new(),
             functions: AST::empty(),
+            function_sources: HashMap::new(),
         }
     }
 
@@ -55,10 +60,43 @@ impl Session {
         let ast = self
             .host
             .compile_with_scope(&self.scope, source, source_name)?;
+        let defined: Vec<String> = ast.iter_functions().map(|f| f.name.to_string()).collect();
+        for name in &defined {
+            self.function_sources
+                .insert(name.clone(), (source.to_string(), source_name.to_string()));
+        }
         let merged = self.functions.merge(&ast);
         let result = self.host.run(&merged, &mut self.scope, source, source_name);
         self.functions = merged.clone_functions_only();
-        Ok(display_result(&self.host, &result?))
+        match result {
+            Ok(v) => Ok(display_result(&self.host, &v)),
+            Err(e) => Err(self.locate_in_earlier_entry(e, &defined)),
+        }
+    }
+
+    /// An error inside a function defined by an earlier entry carries a line of that entry:
+    /// show that entry's line instead of the current one.
+    fn locate_in_earlier_entry(&self, mut e: ScriptError, defined_now: &[String]) -> ScriptError {
+        if !e.message.contains("in `") {
+            return e;
+        }
+        let innermost = e
+            .message
+            .rsplit("in `")
+            .next()
+            .and_then(|rest| rest.split('`').next());
+        let Some(name) = innermost else { return e };
+        if defined_now.iter().any(|d| d == name) {
+            return e;
+        }
+        if let Some((source, source_name)) = self.function_sources.get(name) {
+            e.source_name = format!("{source_name}, in `{name}`");
+            e.source_line = e
+                .line
+                .and_then(|l| source.lines().nth(l.saturating_sub(1)))
+                .map(str::to_string);
+        }
+        e
     }
 
     /// Names and parameters of the script functions defined in this session.

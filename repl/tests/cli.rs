@@ -444,6 +444,15 @@ print(\"after quit\")
 }
 
 #[test]
+fn an_error_inside_an_earlier_function_shows_that_functions_line() {
+    let input = "fn g(x) {\n  let y = 2;\n  x + y * A\n}\nlet other = 1;\ng(1 * V)\n";
+    let r = gapwise_with_stdin(&[], input, None);
+    assert!(r.stderr.contains("(in `g`)"), "{}", r.stderr);
+    assert!(r.stderr.contains("<prompt>, in `g`:3:"), "{}", r.stderr);
+    assert!(r.stderr.contains("3 |   x + y * A"), "{}", r.stderr);
+}
+
+#[test]
 fn the_prompt_loads_a_recipe_and_keeps_its_functions() {
     let d = temp_dir("load");
     let path = write_recipe(
