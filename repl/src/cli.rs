@@ -3,19 +3,28 @@
 use clap::{Args, Parser, Subcommand, ValueEnum};
 use std::path::PathBuf;
 
-const AFTER_HELP: &str = "\
-Exit codes:
+/// The exit codes, shown by `gapwise --help`, `gapwise run --help` and `gapwise eval --help`.
+macro_rules! exit_codes {
+    () => {
+        "Exit codes:
   0  success
   1  script error (the message, with file, line, column and a caret, goes to stderr)
   2  usage error, or a file could not be read or written
-  3  with --strict: the run succeeded but at least one design-rule check failed
+  3  with --strict: the run succeeded but at least one design-rule check failed"
+    };
+}
+
+const AFTER_HELP: &str = concat!(
+    exit_codes!(),
+    "
 
 Environment:
   GAPWISE_HISTORY  file for the prompt's history (default: the user's data folder,
                    gapwise/history.txt); set it to an empty value to keep no history
 
 Results are design aids: the applicable standard's current edition, local codes and a
-qualified person decide; verify by measurement and hipot test.";
+qualified person decide; verify by measurement and hipot test."
+);
 
 /// Unit-checked design rules for small offline flyback supplies, with a scripting prompt.
 ///
@@ -40,8 +49,10 @@ pub struct Cli {
 #[derive(Debug, Subcommand)]
 pub enum Command {
     /// Run a recipe file (or `-` for stdin) and write its output tables.
+    #[command(after_help = exit_codes!())]
     Run(RunArgs),
     /// Evaluate one expression and print the result with units.
+    #[command(after_help = exit_codes!())]
     Eval(EvalArgs),
     /// Show the help of one script function.
     Help {
@@ -94,6 +105,8 @@ pub struct EvalArgs {
 pub struct SetArgs {
     /// Set a constant before the run: `name=value`. The value is read as a quantity
     /// (`output_voltage="12 V"`), else true/false, else a number, else text. Repeatable.
+    /// A recipe gives a default for a value that may be set like this:
+    /// `let output_voltage = if is_def_var("output_voltage") { output_voltage } else { 12 * V };`
     #[arg(long = "set", value_name = "NAME=VALUE")]
     pub set: Vec<String>,
 }

@@ -170,6 +170,21 @@ fn set_pushes_quantities_numbers_flags_and_text() {
     let r = gapwise(&["run", path.to_str().unwrap(), "--set", "output_voltage=5 V"]);
     assert_eq!(r.code, 0, "{}", r.stderr);
     assert_eq!(r.stdout.trim(), "10 W");
+    let defaults = write_recipe(
+        &d,
+        "defaults.rhai",
+        "let output_voltage = if is_def_var(\"output_voltage\") { output_voltage } else { 12 * V };\n\
+         print(output_voltage);\n",
+    );
+    let r = gapwise(&["run", defaults.to_str().unwrap()]);
+    assert_eq!(r.stdout.trim(), "12 V", "{}", r.stderr);
+    let r = gapwise(&[
+        "run",
+        defaults.to_str().unwrap(),
+        "--set",
+        "output_voltage=48 V",
+    ]);
+    assert_eq!(r.stdout.trim(), "48 V", "{}", r.stderr);
     let r = gapwise(&["run", path.to_str().unwrap(), "--set", "no equals"]);
     assert_eq!(r.code, 2, "{}", r.stderr);
     assert!(r.stderr.contains("name=value"), "{}", r.stderr);
@@ -314,15 +329,17 @@ fn usage_errors_exit_2() {
 
 #[test]
 fn help_lists_the_exit_codes() {
-    let r = gapwise(&["--help"]);
-    assert_eq!(r.code, 0);
-    for code in [
-        "0  success",
-        "1  script error",
-        "2  usage error",
-        "3  with --strict",
-    ] {
-        assert!(r.stdout.contains(code), "{code}: {}", r.stdout);
+    for args in [&["--help"][..], &["run", "--help"], &["eval", "--help"]] {
+        let r = gapwise(args);
+        assert_eq!(r.code, 0);
+        for code in [
+            "0  success",
+            "1  script error",
+            "2  usage error",
+            "3  with --strict",
+        ] {
+            assert!(r.stdout.contains(code), "{args:?} {code}: {}", r.stdout);
+        }
     }
 }
 
