@@ -478,7 +478,7 @@ fn the_prompt_loads_a_recipe_and_keeps_its_functions() {
         "fn double(x) { 2 * x }\nlet base = 3 * V;\n",
     );
     let input = format!(
-        ":load {}\ndouble(base)\n:help resistor_divider\n:help double\n",
+        ":load {}\ndouble(base)\n:help resistor_divider\n:help double\n:functions\n:constants\n",
         path.display()
     );
     let r = gapwise_with_stdin(&[], &input, None);
@@ -490,6 +490,12 @@ fn the_prompt_loads_a_recipe_and_keeps_its_functions() {
         "{}",
         r.stdout
     );
+    assert!(
+        r.stdout.contains("defined in this session:\n  double(x)"),
+        "{}",
+        r.stdout
+    );
+    assert!(r.stdout.contains(" uF "), "{}", r.stdout);
     assert!(r.stderr.is_empty(), "{}", r.stderr);
     std::fs::remove_dir_all(&d).unwrap();
 }
@@ -570,5 +576,27 @@ fn an_unwritable_out_folder_is_an_io_error_with_nothing_written() {
     assert_eq!(r.code, 2, "{}", r.stderr);
     assert!(r.stderr.contains("cannot create folder"), "{}", r.stderr);
     assert_eq!(file_names(&d), ["a_file", "texts.rhai"]);
+    std::fs::remove_dir_all(&d).unwrap();
+}
+
+#[test]
+fn an_unwritable_history_warns_once_and_the_prompt_goes_on() {
+    let d = temp_dir("history");
+    let blocker = d.join("a_file");
+    std::fs::write(&blocker, "not a folder").unwrap();
+    let history = blocker.join("history.txt");
+    let r = gapwise_with_stdin(&[], "1 + 1\n2 + 2\n", Some(&history));
+    assert_eq!(r.code, 0, "{}", r.stderr);
+    assert!(
+        r.stdout.contains("\n2\n") && r.stdout.contains("\n4\n"),
+        "{}",
+        r.stdout
+    );
+    assert_eq!(
+        r.stderr.matches("cannot write the history").count(),
+        1,
+        "{}",
+        r.stderr
+    );
     std::fs::remove_dir_all(&d).unwrap();
 }
