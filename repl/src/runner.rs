@@ -138,8 +138,12 @@ fn write_outputs(
                 ));
             }
             if !files.is_empty() {
-                for path in write_files_atomically(dir, &files)? {
-                    eprintln!("wrote {}", path.display());
+                let written = write_files_atomically(dir, &files)?;
+                // silent on success unless someone is watching
+                if std::io::stderr().is_terminal() {
+                    for path in written {
+                        eprintln!("wrote {}", path.display());
+                    }
                 }
             }
         }
