@@ -208,6 +208,11 @@ fn a_failing_variant_becomes_an_error_row_in_the_csv() {
         ["members.csv"],
         "no temporary files remain"
     );
+    assert!(
+        r.stderr.is_empty(),
+        "nothing on a non-terminal stderr: {}",
+        r.stderr
+    );
     let csv = std::fs::read_to_string(out.join("members.csv")).unwrap();
     let lines: Vec<&str> = csv.lines().collect();
     assert_eq!(
