@@ -1,1 +1,93 @@
-fn main() {}
+//! `gapwise`: the prompt, the recipe runner and the help commands.
+//!
+//! This crate is the only place with IO: the terminal, files, the command line. The
+//! calculations, the engine and the help text come from `gapwise-core`.
+
+mod cli;
+mod complete;
+mod docs_cmd;
+mod output;
+mod prompt;
+mod runner;
+
+use clap::Parser;
+use cli::{Cli, Command, LimitArgs};
+use gapwise_core::script::{EngineLimits, ScriptError};
+use std::process::ExitCode;
+use std::time::Duration;
+
+/// Why a command did not succeed; each maps to one exit code (documented in `--help`).
+#[derive(Debug)]
+pub enum Failure {
+    /// The script failed (exit code 1).
+    Script(ScriptError),
+    /// Bad usage or an IO error (exit code 2).
+    Usage(anyhow::Error),
+    /// `--strict` and this many design-rule checks failed (exit code 3).
+    Strict(usize),
+}
+
+impl From<anyhow::Error> for Failure {
+    fn from(e: anyhow::Error) -> Self {
+        Failure::Usage(e)
+    }
+}
+
+impl From<ScriptError> for Failure {
+    fn from(e: ScriptError) -> Self {
+        Failure::Script(e)
+    }
+}
+
+fn main() -> ExitCode {
+    let cli = Cli::parse();
+    let result = limits(&cli.limits)
+        .map_err(Failure::Usage)
+        .and_then(|limits| match cli.command {
+            None => prompt::run(limits).map_err(Failure::Usage),
+            Some(Command::Run(args)) => runner::run(&args, limits),
+            Some(Command::Eval(args)) => runner::eval(&args, limits),
+            Some(Command::Help { name }) => docs_cmd::help(&name, limits),
+            Some(Command::Functions) => docs_cmd::functions(limits),
+            Some(Command::Reference { write }) => docs_cmd::reference(write.as_deref(), limits),
+        });
+    match result {
+        Ok(()) => ExitCode::SUCCESS,
+        Err(Failure::Script(e)) => {
+            eprintln!("{e}");
+            ExitCode::from(1)
+        }
+        Err(Failure::Usage(e)) => {
+            eprintln!("error: {e:#}");
+            ExitCode::from(2)
+        }
+        Err(Failure::Strict(n)) => {
+            eprintln!(
+                "error: {n} design-rule check{} failed (--strict)",
+                if n == 1 { "" } else { "s" }
+            );
+            ExitCode::from(3)
+        }
+    }
+}
+
+/// The engine limits: the core's defaults, raised or lowered by the limit flags.
+fn limits(args: &LimitArgs) -> anyhow::Result<EngineLimits> {
+    let mut l = EngineLimits::default();
+    if let Some(n) = args.max_operations {
+        anyhow::ensure!(n > 0, "--max-operations must be at least 1, got {n}");
+        l.max_operations = n;
+    }
+    if let Some(n) = args.max_call_depth {
+        anyhow::ensure!(n > 0, "--max-call-depth must be at least 1, got {n}");
+        l.max_call_levels = n;
+    }
+    if let Some(s) = args.time_budget {
+        anyhow::ensure!(
+            s.is_finite() && s > 0.0 && s <= 1.0e9,
+            "--time-budget must be a positive number of seconds (at most 1e9 s), got {s}"
+        );
+        l.time_budget = Duration::from_secs_f64(s);
+    }
+    Ok(l)
+}

@@ -1,0 +1,215 @@
+//! `gapwise run` and `gapwise eval`: one script, non-interactively, then its outputs.
+
+use crate::cli::{EvalArgs, Format, RunArgs};
+use crate::output::{write_files_atomically, Progress};
+use crate::Failure;
+use anyhow::{bail, Context};
+use gapwise_core::report::Table;
+use gapwise_core::script::{EngineLimits, OutputText, ScriptHost};
+use gapwise_core::units::parse_quantity;
+use rhai::{Dynamic, Scope};
+use std::io::{IsTerminal, Read, Write};
+use std::path::Path;
+use std::sync::Arc;
+
+/// Reads a `--set name=value` argument. The value is a quantity if it parses as one with a
+/// unit (`12 V`, `4.7 uF`), else true/false, else a number (whole numbers stay integers),
+/// else text.
+pub fn parse_set(arg: &str) -> anyhow::Result<(String, Dynamic)> {
+    let Some((name, value)) = arg.split_once('=') else {
+        bail!("--set `{arg}` must be name=value, e.g. --set output_voltage=\"12 V\"");
+    };
+    let name = name.trim();
+    let mut chars = name.chars();
+    let valid = chars
+        .next()
+        .is_some_and(|c| c.is_ascii_alphabetic() || c == '_')
+        && chars.all(|c| c.is_ascii_alphanumeric() || c == '_');
+    if !valid {
+        bail!("--set name `{name}` is not a script name (letters, digits and _, not starting with a digit)");
+    }
+    let value = value.trim();
+    let dynamic = match parse_quantity(value, None) {
+        Ok(q) if !q.is_dimensionless() => Dynamic::from(q),
+        Ok(q) => match value.parse::<i64>() {
+            Ok(i) => Dynamic::from_int(i),
+            Err(_) => Dynamic::from_float(q.value()),
+        },
+        Err(_) => match value {
+            "true" => Dynamic::TRUE,
+            "false" => Dynamic::FALSE,
+            _ => Dynamic::from(value.to_string()),
+        },
+    };
+    Ok((name.to_string(), dynamic))
+}
+
+fn scope_with_sets(sets: &[String]) -> anyhow::Result<Scope<'static>> {
+    let mut scope = Scope::new();
+    for s in sets {
+        let (name, value) = parse_set(s)?;
+        scope.push_constant_dynamic(name, value);
+    }
+    Ok(scope)
+}
+
+/// Script `print` goes to stdout as it happens; a progress bar on stderr (only when it is
+/// a terminal) is cleared before each printed line. Returns the bar, if any.
+pub fn attach_print_and_progress(host: &ScriptHost) -> Option<Progress> {
+    let progress = std::io::stderr().is_terminal().then(|| {
+        let p = Progress::default();
+        host.set_progress(Some(p.callback()));
+        p
+    });
+    let bar = progress.clone();
+    host.set_print(Some(Arc::new(move |line: &str| {
+        if let Some(b) = &bar {
+            b.clear_line();
+        }
+        let mut out = std::io::stdout().lock();
+        let _ = writeln!(out, "{line}");
+        let _ = out.flush();
+    })));
+    progress
+}
+
+fn read_source(file: &str) -> anyhow::Result<(String, String)> {
+    if file == "-" {
+        let mut s = String::new();
+        std::io::stdin()
+            .read_to_string(&mut s)
+            .context("cannot read the recipe from stdin")?;
+        Ok((s, "<stdin>".to_string()))
+    } else {
+        let s = std::fs::read_to_string(file).with_context(|| format!("cannot read {file}"))?;
+        Ok((s, file.to_string()))
+    }
+}
+
+/// `gapwise run FILE`: runs the recipe, then writes its output tables and texts.
+pub fn run(args: &RunArgs, limits: EngineLimits) -> Result<(), Failure> {
+    let (source, source_name) = read_source(&args.file)?;
+    let mut scope = scope_with_sets(&args.sets.set)?;
+    let host = ScriptHost::new(limits);
+    let progress = attach_print_and_progress(&host);
+    let result = host
+        .compile_with_scope(&scope, &source, &source_name)
+        .and_then(|ast| host.run(&ast, &mut scope, &source, &source_name));
+    if let Some(p) = &progress {
+        p.finish();
+    }
+    let outputs = host.take_outputs();
+    let texts = host.take_texts();
+    result.map(drop)?;
+    write_outputs(&outputs, &texts, args.out.as_deref(), args.format)?;
+    let failed = host.take_failed_checks();
+    if args.strict && failed > 0 {
+        return Err(Failure::Strict(failed));
+    }
+    Ok(())
+}
+
+/// Writes tables and texts into `out` (whole or not at all), or prints tables on stdout.
+fn write_outputs(
+    tables: &[(String, Table)],
+    texts: &[OutputText],
+    out: Option<&Path>,
+    format: Format,
+) -> anyhow::Result<()> {
+    let mut files: Vec<(String, Vec<u8>)> = Vec::new();
+    let print_tables = out.is_none() || format == Format::Table;
+    for (name, table) in tables {
+        match format {
+            _ if print_tables => print_table(name, table),
+            Format::Json => {
+                let json = serde_json::to_string_pretty(&table.to_json())
+                    .with_context(|| format!("cannot write table {name} as JSON"))?;
+                files.push((format!("{name}.json"), (json + "\n").into_bytes()));
+            }
+            _ => files.push((format!("{name}.csv"), table.to_csv().into_bytes())),
+        }
+    }
+    match out {
+        Some(dir) => {
+            for t in texts {
+                files.push((
+                    format!("{}.{}", t.name, t.extension),
+                    t.text.clone().into_bytes(),
+                ));
+            }
+            if !files.is_empty() {
+                let written = write_files_atomically(dir, &files)?;
+                // silent on success unless someone is watching
+                if std::io::stderr().is_terminal() {
+                    for path in written {
+                        eprintln!("wrote {}", path.display());
+                    }
+                }
+            }
+        }
+        None if !texts.is_empty() => {
+            let names: Vec<String> = texts
+                .iter()
+                .map(|t| format!("{}.{}", t.name, t.extension))
+                .collect();
+            eprintln!("note: not written without --out DIR: {}", names.join(", "));
+        }
+        None => {}
+    }
+    Ok(())
+}
+
+fn print_table(name: &str, table: &Table) {
+    let mut out = std::io::stdout().lock();
+    let _ = writeln!(out, "{name}:");
+    let _ = writeln!(out, "{}", table.to_text().trim_end());
+}
+
+/// `gapwise eval 'EXPR'`: evaluates and prints the result with units.
+pub fn eval(args: &EvalArgs, limits: EngineLimits) -> Result<(), Failure> {
+    let mut scope = scope_with_sets(&args.sets.set)?;
+    let host = ScriptHost::new(limits);
+    let progress = attach_print_and_progress(&host);
+    let source = &args.expression;
+    let result = host
+        .compile_with_scope(&scope, source, "<eval>")
+        .and_then(|ast| host.run(&ast, &mut scope, source, "<eval>"));
+    if let Some(p) = &progress {
+        p.finish();
+    }
+    let value = result?;
+    if let Some(text) = crate::prompt::display_result(&host, &value) {
+        println!("{text}");
+    }
+    for (name, table) in host.take_outputs() {
+        print_table(&name, &table);
+    }
+    Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use gapwise_core::units::Quantity;
+
+    #[test]
+    fn set_values_take_the_most_specific_type() {
+        let (n, v) = parse_set("output_voltage=12 V").unwrap();
+        assert_eq!(n, "output_voltage");
+        let q = v.read_lock::<Quantity>().map(|q| *q).unwrap();
+        assert!((q.value() - 12.0).abs() < 1e-12);
+        assert!(!q.is_dimensionless());
+        assert_eq!(parse_set("strict=true").unwrap().1.as_bool(), Ok(true));
+        assert_eq!(parse_set("count=3").unwrap().1.as_int(), Ok(3));
+        assert_eq!(parse_set("ratio=0.25").unwrap().1.as_float(), Ok(0.25));
+        let text = parse_set("series=E96").unwrap().1;
+        assert_eq!(text.into_string().unwrap(), "E96");
+    }
+
+    #[test]
+    fn bad_set_arguments_are_usage_errors() {
+        assert!(parse_set("no_equals_sign").is_err());
+        assert!(parse_set("1x=3").is_err());
+        assert!(parse_set("=3").is_err());
+    }
+}

@@ -1,0 +1,607 @@
+//! The `gapwise` binary: exit codes, messages, output files and the prompt on piped stdin.
+//! These check behaviour of the command line, not computed engineering values (those are
+//! checked against their sources in `tests/integration/`).
+
+use std::io::Write;
+use std::path::{Path, PathBuf};
+use std::process::{Command, Output, Stdio};
+
+/// One run of the binary: exit code, stdout and stderr.
+struct Run {
+    code: i32,
+    stdout: String,
+    stderr: String,
+}
+
+fn finish(out: Output) -> Run {
+    Run {
+        code: out.status.code().unwrap_or(-1),
+        stdout: String::from_utf8_lossy(&out.stdout).into_owned(),
+        stderr: String::from_utf8_lossy(&out.stderr).into_owned(),
+    }
+}
+
+fn command(args: &[&str]) -> Command {
+    let mut c = Command::new(env!("CARGO_BIN_EXE_gapwise"));
+    c.args(args)
+        .current_dir(workspace_root())
+        .env("GAPWISE_HISTORY", "");
+    c
+}
+
+/// Runs `gapwise ARGS` with `stdin` piped in.
+fn gapwise_with_stdin(args: &[&str], stdin: &str, history: Option<&Path>) -> Run {
+    let mut c = command(args);
+    if let Some(h) = history {
+        c.env("GAPWISE_HISTORY", h);
+    }
+    let mut child = c
+        .stdin(Stdio::piped())
+        .stdout(Stdio::piped())
+        .stderr(Stdio::piped())
+        .spawn()
+        .expect("the binary starts");
+    child
+        .stdin
+        .take()
+        .expect("stdin is piped")
+        .write_all(stdin.as_bytes())
+        .expect("stdin takes the input");
+    finish(child.wait_with_output().expect("the binary ends"))
+}
+
+fn gapwise(args: &[&str]) -> Run {
+    gapwise_with_stdin(args, "", None)
+}
+
+fn workspace_root() -> PathBuf {
+    Path::new(env!("CARGO_MANIFEST_DIR"))
+        .parent()
+        .expect("repl/ sits in the workspace")
+        .to_path_buf()
+}
+
+/// A fresh, empty folder under the system temp folder.
+fn temp_dir(tag: &str) -> PathBuf {
+    let d = std::env::temp_dir().join(format!("gapwise-cli-{tag}-{}", std::process::id()));
+    let _ = std::fs::remove_dir_all(&d);
+    std::fs::create_dir_all(&d).expect("temp folder");
+    d
+}
+
+fn write_recipe(dir: &Path, name: &str, text: &str) -> PathBuf {
+    let p = dir.join(name);
+    std::fs::write(&p, text).expect("recipe written");
+    p
+}
+
+fn file_names(dir: &Path) -> Vec<String> {
+    let mut v: Vec<String> = std::fs::read_dir(dir)
+        .expect("folder readable")
+        .map(|e| e.expect("entry").file_name().to_string_lossy().into_owned())
+        .collect();
+    v.sort();
+    v
+}
+
+/// A family of three variants whose middle one throws.
+const FAMILY_WITH_A_FAILURE: &str = r#"
+let t = family(|v| {
+    if v.output_voltage > 40 * V { throw "output voltage too high for this recipe"; }
+    #{ power: v.output_voltage * v.output_current }
+}, [
+    #{ output_voltage: 5 * V, output_current: 2 * A },
+    #{ output_voltage: 48 * V, output_current: 0.5 * A },
+    #{ output_voltage: 12 * V, output_current: 1.25 * A },
+]);
+output_table("members", t);
+"#;
+
+#[test]
+fn eval_prints_a_power_with_its_unit() {
+    let r = gapwise(&["eval", "12 * V * (1.5 * A)"]);
+    assert_eq!(r.code, 0, "{}", r.stderr);
+    assert_eq!(r.stdout.trim(), "18 W");
+    assert!(r.stderr.is_empty(), "{}", r.stderr);
+}
+
+#[test]
+fn eval_converts_to_a_chosen_unit() {
+    let r = gapwise(&["eval", "(4.7 * uF).to(\"nF\")"]);
+    assert_eq!(r.code, 0, "{}", r.stderr);
+    assert_eq!(r.stdout.trim(), "4700 nF");
+}
+
+#[test]
+fn a_dimension_mismatch_is_a_script_error_with_a_caret() {
+    let r = gapwise(&["eval", "1 * mH + 1 * A"]);
+    assert_eq!(r.code, 1);
+    assert!(r.stdout.is_empty(), "{}", r.stdout);
+    assert!(r.stderr.starts_with("error: "), "{}", r.stderr);
+    assert!(r.stderr.contains("<eval>:1:"), "{}", r.stderr);
+    assert!(r.stderr.contains("1 | 1 * mH + 1 * A"), "{}", r.stderr);
+    let caret = r.stderr.lines().last().unwrap_or_default();
+    assert!(caret.trim_end().ends_with('^'), "{}", r.stderr);
+}
+
+#[test]
+fn run_a_file_and_the_same_recipe_from_stdin() {
+    let d = temp_dir("run");
+    let recipe = "let p = 12 * V * (1.5 * A);\nprint(`power: ${p}`);\n";
+    let path = write_recipe(&d, "power.rhai", recipe);
+    let from_file = gapwise(&["run", path.to_str().unwrap()]);
+    assert_eq!(from_file.code, 0, "{}", from_file.stderr);
+    assert_eq!(from_file.stdout.trim(), "power: 18 W");
+    let from_stdin = gapwise_with_stdin(&["run", "-"], recipe, None);
+    assert_eq!(from_stdin.code, 0, "{}", from_stdin.stderr);
+    assert_eq!(from_stdin.stdout, from_file.stdout);
+    std::fs::remove_dir_all(&d).unwrap();
+}
+
+#[test]
+fn run_errors_name_the_file_and_line() {
+    let d = temp_dir("run-error");
+    let path = write_recipe(&d, "bad.rhai", "let a = 1 * V;\nlet b = a + 2 * A;\n");
+    let r = gapwise(&["run", path.to_str().unwrap()]);
+    assert_eq!(r.code, 1);
+    assert!(r.stderr.contains("bad.rhai:2:"), "{}", r.stderr);
+    assert!(r.stderr.contains("2 | let b = a + 2 * A;"), "{}", r.stderr);
+    std::fs::remove_dir_all(&d).unwrap();
+}
+
+#[test]
+fn set_pushes_quantities_numbers_flags_and_text() {
+    let r = gapwise(&[
+        "eval",
+        "--set",
+        "output_voltage=12 V",
+        "--set",
+        "count=3",
+        "--set",
+        "hot=true",
+        "--set",
+        "series=E96",
+        "`${output_voltage * count} ${hot} ${series}`",
+    ]);
+    assert_eq!(r.code, 0, "{}", r.stderr);
+    assert_eq!(r.stdout.trim(), "36 V true E96");
+    let d = temp_dir("set");
+    let path = write_recipe(&d, "set.rhai", "print(output_voltage * 2 * A);\n");
+    let r = gapwise(&["run", path.to_str().unwrap(), "--set", "output_voltage=5 V"]);
+    assert_eq!(r.code, 0, "{}", r.stderr);
+    assert_eq!(r.stdout.trim(), "10 W");
+    let defaults = write_recipe(
+        &d,
+        "defaults.rhai",
+        "let output_voltage = if is_def_var(\"output_voltage\") { output_voltage } else { 12 * V };\n\
+         print(output_voltage);\n",
+    );
+    let r = gapwise(&["run", defaults.to_str().unwrap()]);
+    assert_eq!(r.stdout.trim(), "12 V", "{}", r.stderr);
+    let r = gapwise(&[
+        "run",
+        defaults.to_str().unwrap(),
+        "--set",
+        "output_voltage=48 V",
+    ]);
+    assert_eq!(r.stdout.trim(), "48 V", "{}", r.stderr);
+    let r = gapwise(&["run", path.to_str().unwrap(), "--set", "no equals"]);
+    assert_eq!(r.code, 2, "{}", r.stderr);
+    assert!(r.stderr.contains("name=value"), "{}", r.stderr);
+    std::fs::remove_dir_all(&d).unwrap();
+}
+
+#[test]
+fn a_failing_variant_becomes_an_error_row_in_the_csv() {
+    let d = temp_dir("csv");
+    let path = write_recipe(&d, "family.rhai", FAMILY_WITH_A_FAILURE);
+    let out = d.join("out");
+    let r = gapwise(&[
+        "run",
+        path.to_str().unwrap(),
+        "--out",
+        out.to_str().unwrap(),
+    ]);
+    assert_eq!(r.code, 0, "{}", r.stderr);
+    assert_eq!(
+        file_names(&out),
+        ["members.csv"],
+        "no temporary files remain"
+    );
+    assert!(
+        r.stderr.is_empty(),
+        "nothing on a non-terminal stderr: {}",
+        r.stderr
+    );
+    let csv = std::fs::read_to_string(out.join("members.csv")).unwrap();
+    let lines: Vec<&str> = csv.lines().collect();
+    assert_eq!(
+        lines[0],
+        "output_current [A],output_voltage [V],power [W],error"
+    );
+    assert_eq!(lines.len(), 4, "{csv}");
+    assert!(lines[1].starts_with("2,5,10,"), "{csv}");
+    assert!(lines[2].contains("too high"), "{csv}");
+    assert!(lines[3].starts_with("1.25,12,15,"), "{csv}");
+    std::fs::remove_dir_all(&d).unwrap();
+}
+
+#[test]
+fn json_output_carries_units_and_the_error() {
+    let d = temp_dir("json");
+    let path = write_recipe(&d, "family.rhai", FAMILY_WITH_A_FAILURE);
+    let out = d.join("out");
+    let r = gapwise(&[
+        "run",
+        path.to_str().unwrap(),
+        "--out",
+        out.to_str().unwrap(),
+        "--format",
+        "json",
+    ]);
+    assert_eq!(r.code, 0, "{}", r.stderr);
+    assert_eq!(file_names(&out), ["members.json"]);
+    let json: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(out.join("members.json")).unwrap())
+            .expect("valid JSON");
+    let rows = json["rows"].as_array().expect("rows");
+    assert_eq!(rows.len(), 3);
+    assert!(rows[1]["error"].as_str().unwrap().contains("too high"));
+    assert_eq!(rows[2]["power"].as_f64(), Some(15.0));
+    let power = json["columns"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|c| c["name"] == "power")
+        .expect("power column");
+    assert_eq!(power["unit"], "W");
+    std::fs::remove_dir_all(&d).unwrap();
+}
+
+#[test]
+fn without_out_tables_print_aligned_on_stdout() {
+    let r = gapwise_with_stdin(&["run", "-"], FAMILY_WITH_A_FAILURE, None);
+    assert_eq!(r.code, 0, "{}", r.stderr);
+    assert!(r.stdout.starts_with("members:\n"), "{}", r.stdout);
+    assert!(r.stdout.contains("too high"), "{}", r.stdout);
+}
+
+#[test]
+fn a_script_error_writes_no_files() {
+    let d = temp_dir("nothing");
+    let recipe = format!("{FAMILY_WITH_A_FAILURE}\nlet broken = 1 * V + 1 * A;\n");
+    let path = write_recipe(&d, "broken.rhai", &recipe);
+    let out = d.join("out");
+    let r = gapwise(&[
+        "run",
+        path.to_str().unwrap(),
+        "--out",
+        out.to_str().unwrap(),
+    ]);
+    assert_eq!(r.code, 1);
+    assert!(!out.exists() || file_names(&out).is_empty());
+    std::fs::remove_dir_all(&d).unwrap();
+}
+
+const ONE_CHECK: &str = r#"
+let rules = rule_book();
+rules.add_rule(#{ id: "switch_voltage", description: "drain at most 85 % of 650 V",
+                  reference: "house rule", limit: 552.5 * V });
+let c = rules.check("switch_voltage", drain * V);
+print(c);
+"#;
+
+#[test]
+fn strict_exits_3_only_when_a_check_fails() {
+    let d = temp_dir("strict");
+    let path = write_recipe(&d, "check.rhai", ONE_CHECK);
+    let p = path.to_str().unwrap();
+    let failing = gapwise(&["run", p, "--strict", "--set", "drain=600"]);
+    assert_eq!(failing.code, 3, "{}{}", failing.stdout, failing.stderr);
+    assert!(
+        failing.stderr.contains("1 design-rule check failed"),
+        "{}",
+        failing.stderr
+    );
+    let passing = gapwise(&["run", p, "--strict", "--set", "drain=480"]);
+    assert_eq!(passing.code, 0, "{}", passing.stderr);
+    let lenient = gapwise(&["run", p, "--set", "drain=600"]);
+    assert_eq!(
+        lenient.code, 0,
+        "without --strict a failed check is reported, not fatal"
+    );
+    std::fs::remove_dir_all(&d).unwrap();
+}
+
+#[test]
+fn usage_errors_exit_2() {
+    let r = gapwise(&["frobnicate"]);
+    assert_eq!(r.code, 2);
+    assert!(r.stderr.contains("frobnicate"), "{}", r.stderr);
+    let r = gapwise(&["run", "/no/such/recipe.rhai"]);
+    assert_eq!(r.code, 2);
+    assert!(
+        r.stderr.contains("cannot read /no/such/recipe.rhai"),
+        "{}",
+        r.stderr
+    );
+    let r = gapwise(&["run", "-", "--format", "xml"]);
+    assert_eq!(r.code, 2);
+    let r = gapwise(&["eval", "1", "--time-budget", "0"]);
+    assert_eq!(r.code, 2);
+    assert!(r.stderr.contains("--time-budget"), "{}", r.stderr);
+}
+
+#[test]
+fn help_lists_the_exit_codes() {
+    for args in [&["--help"][..], &["run", "--help"], &["eval", "--help"]] {
+        let r = gapwise(args);
+        assert_eq!(r.code, 0);
+        for code in [
+            "0  success",
+            "1  script error",
+            "2  usage error",
+            "3  with --strict",
+        ] {
+            assert!(r.stdout.contains(code), "{args:?} {code}: {}", r.stdout);
+        }
+    }
+}
+
+#[test]
+fn limit_flags_reach_the_engine() {
+    let r = gapwise(&["eval", "--max-operations", "1000", "loop {}"]);
+    assert_eq!(r.code, 1);
+    assert!(
+        r.stderr.contains("more than 1000 operations"),
+        "{}",
+        r.stderr
+    );
+    let r = gapwise(&["eval", "--max-call-depth", "8", "fn f(n) { f(n + 1) } f(0)"]);
+    assert_eq!(r.code, 1);
+    assert!(r.stderr.contains("deeper than 8 levels"), "{}", r.stderr);
+}
+
+#[test]
+fn help_shows_a_function_and_suggests_for_typos() {
+    let r = gapwise(&["help", "skin_depth"]);
+    assert_eq!(r.code, 0, "{}", r.stderr);
+    assert!(r.stdout.starts_with("skin_depth("), "{}", r.stdout);
+    assert!(r.stdout.contains("example:"), "{}", r.stdout);
+    let r = gapwise(&["help", "skin_dept"]);
+    assert_eq!(r.code, 2);
+    assert!(
+        r.stderr.contains("did you mean `skin_depth`?"),
+        "{}",
+        r.stderr
+    );
+}
+
+#[test]
+fn functions_are_listed_by_domain() {
+    let r = gapwise(&["functions"]);
+    assert_eq!(r.code, 0);
+    assert!(r.stdout.contains("passives:"), "{}", r.stdout);
+    assert!(r.stdout.contains("resistor_divider"), "{}", r.stdout);
+}
+
+#[test]
+fn reference_write_replaces_only_between_the_markers() {
+    let d = temp_dir("reference");
+    let doc = d.join("doc.md");
+    std::fs::write(
+        &doc,
+        "# Doc\n<!-- function-reference:start -->\nstale\n<!-- function-reference:end -->\nend\n",
+    )
+    .unwrap();
+    let r = gapwise(&["reference", "--write", doc.to_str().unwrap()]);
+    assert_eq!(r.code, 0, "{}", r.stderr);
+    let text = std::fs::read_to_string(&doc).unwrap();
+    assert!(text.starts_with("# Doc\n<!-- function-reference:start -->\n"));
+    assert!(text.ends_with("<!-- function-reference:end -->\nend\n"));
+    assert!(!text.contains("stale"));
+    let printed = gapwise(&["reference"]).stdout;
+    assert!(
+        text.contains(printed.trim()),
+        "the file holds the printed reference"
+    );
+    assert_eq!(file_names(&d), ["doc.md"], "no temporary files remain");
+
+    let plain = d.join("plain.md");
+    std::fs::write(&plain, "no markers here\n").unwrap();
+    let r = gapwise(&["reference", "--write", plain.to_str().unwrap()]);
+    assert_eq!(r.code, 2);
+    assert!(r.stderr.contains("marker lines"), "{}", r.stderr);
+    assert_eq!(
+        std::fs::read_to_string(&plain).unwrap(),
+        "no markers here\n"
+    );
+    std::fs::remove_dir_all(&d).unwrap();
+}
+
+#[test]
+fn the_prompt_keeps_variables_and_functions_across_lines() {
+    let d = temp_dir("prompt");
+    let history = d.join("sub").join("history.txt");
+    let input = "\
+let output_voltage = 12 * V
+fn power(v, i) {
+    v * i
+}
+power(output_voltage, 1.5 * A)
+:vars
+1 * mH + 1 * A
+let m = #{ a: 1,
+           b: 2 };
+m.b
+:frobnicate
+:quit
+print(\"after quit\")
+";
+    let r = gapwise_with_stdin(&[], input, Some(&history));
+    assert_eq!(r.code, 0, "{}", r.stderr);
+    assert!(r.stdout.contains("gapwise "), "banner: {}", r.stdout);
+    assert!(
+        r.stdout.contains("mains voltages are lethal"),
+        "{}",
+        r.stdout
+    );
+    assert!(r.stdout.contains("\n18 W\n"), "{}", r.stdout);
+    assert!(r.stdout.contains("output_voltage = 12 V"), "{}", r.stdout);
+    assert!(r.stdout.contains("fn power(v, i)"), "{}", r.stdout);
+    assert!(r.stdout.contains("\n2\n"), "{}", r.stdout);
+    assert!(!r.stdout.contains("after quit"), "{}", r.stdout);
+    assert!(!r.stdout.contains('\x1b'), "no escape codes on a pipe");
+    assert!(r.stderr.contains("1 | 1 * mH + 1 * A"), "{}", r.stderr);
+    assert!(
+        r.stderr.contains("unknown command `:frobnicate`"),
+        "{}",
+        r.stderr
+    );
+    let h = std::fs::read_to_string(&history).expect("history written");
+    assert!(h.starts_with("#V2\n"), "{h}");
+    assert!(h.contains("fn power(v, i) {\\n    v * i\\n}\n"), "{h}");
+    assert!(h.contains(":quit"), "{h}");
+    std::fs::remove_dir_all(&d).unwrap();
+}
+
+#[test]
+fn an_error_inside_an_earlier_function_shows_that_functions_line() {
+    let input = "fn g(x) {\n  let y = 2;\n  x + y * A\n}\nlet other = 1;\ng(1 * V)\n";
+    let r = gapwise_with_stdin(&[], input, None);
+    assert!(r.stderr.contains("(in `g`)"), "{}", r.stderr);
+    assert!(r.stderr.contains("<prompt>, in `g`:3:"), "{}", r.stderr);
+    assert!(r.stderr.contains("3 |   x + y * A"), "{}", r.stderr);
+}
+
+#[test]
+fn the_prompt_loads_a_recipe_and_keeps_its_functions() {
+    let d = temp_dir("load");
+    let path = write_recipe(
+        &d,
+        "lib.rhai",
+        "fn double(x) { 2 * x }\nlet base = 3 * V;\n",
+    );
+    let input = format!(
+        ":load {}\ndouble(base)\n:help resistor_divider\n:help double\n:functions\n:constants\n",
+        path.display()
+    );
+    let r = gapwise_with_stdin(&[], &input, None);
+    assert_eq!(r.code, 0, "{}", r.stderr);
+    assert!(r.stdout.contains("\n6 V\n"), "{}", r.stdout);
+    assert!(r.stdout.contains("resistor_divider("), "{}", r.stdout);
+    assert!(
+        r.stdout.contains("double(x)  (defined in this session)"),
+        "{}",
+        r.stdout
+    );
+    assert!(
+        r.stdout.contains("defined in this session:\n  double(x)"),
+        "{}",
+        r.stdout
+    );
+    assert!(r.stdout.contains(" uF "), "{}", r.stdout);
+    assert!(r.stderr.is_empty(), "{}", r.stderr);
+    std::fs::remove_dir_all(&d).unwrap();
+}
+
+#[test]
+fn the_fernbank_family_recipe_writes_its_csv() {
+    let d = temp_dir("fernbank");
+    let r = gapwise(&[
+        "run",
+        "scripts/fernbank_family.rhai",
+        "--out",
+        d.to_str().unwrap(),
+    ]);
+    assert_eq!(r.code, 0, "{}", r.stderr);
+    assert_eq!(file_names(&d), ["fernbank_family.csv"]);
+    let csv = std::fs::read_to_string(d.join("fernbank_family.csv")).unwrap();
+    let header = csv.lines().next().unwrap_or_default();
+    assert!(header.contains("output_voltage [V]"), "{header}");
+    assert_eq!(csv.lines().count(), 6, "a header and five members: {csv}");
+    std::fs::remove_dir_all(&d).unwrap();
+}
+
+const TABLE_AND_TEXT: &str = r##"
+output_table("members", table([#{ output_voltage: 5 * V }, #{ output_voltage: 12 * V }]));
+output_text("notes", "md", "# Notes\n");
+"##;
+
+#[test]
+fn texts_go_into_out_and_format_table_prints_the_tables() {
+    let d = temp_dir("texts");
+    let path = write_recipe(&d, "texts.rhai", TABLE_AND_TEXT);
+    let out = d.join("out");
+    let r = gapwise(&[
+        "run",
+        path.to_str().unwrap(),
+        "--out",
+        out.to_str().unwrap(),
+    ]);
+    assert_eq!(r.code, 0, "{}", r.stderr);
+    assert_eq!(file_names(&out), ["members.csv", "notes.md"]);
+    assert_eq!(
+        std::fs::read_to_string(out.join("notes.md")).unwrap(),
+        "# Notes\n"
+    );
+    let shown = d.join("shown");
+    let r = gapwise(&[
+        "run",
+        path.to_str().unwrap(),
+        "--out",
+        shown.to_str().unwrap(),
+        "--format",
+        "table",
+    ]);
+    assert_eq!(r.code, 0, "{}", r.stderr);
+    assert_eq!(file_names(&shown), ["notes.md"]);
+    assert!(r.stdout.contains("output_voltage [V]"), "{}", r.stdout);
+    let r = gapwise(&["run", path.to_str().unwrap()]);
+    assert!(
+        r.stderr.contains("not written without --out DIR: notes.md"),
+        "{}",
+        r.stderr
+    );
+    std::fs::remove_dir_all(&d).unwrap();
+}
+
+#[test]
+fn an_unwritable_out_folder_is_an_io_error_with_nothing_written() {
+    let d = temp_dir("unwritable");
+    let path = write_recipe(&d, "texts.rhai", TABLE_AND_TEXT);
+    let blocker = d.join("a_file");
+    std::fs::write(&blocker, "not a folder").unwrap();
+    let r = gapwise(&[
+        "run",
+        path.to_str().unwrap(),
+        "--out",
+        blocker.to_str().unwrap(),
+    ]);
+    assert_eq!(r.code, 2, "{}", r.stderr);
+    assert!(r.stderr.contains("cannot create folder"), "{}", r.stderr);
+    assert_eq!(file_names(&d), ["a_file", "texts.rhai"]);
+    std::fs::remove_dir_all(&d).unwrap();
+}
+
+#[test]
+fn an_unwritable_history_warns_once_and_the_prompt_goes_on() {
+    let d = temp_dir("history");
+    let blocker = d.join("a_file");
+    std::fs::write(&blocker, "not a folder").unwrap();
+    let history = blocker.join("history.txt");
+    let r = gapwise_with_stdin(&[], "1 + 1\n2 + 2\n", Some(&history));
+    assert_eq!(r.code, 0, "{}", r.stderr);
+    assert!(
+        r.stdout.contains("\n2\n") && r.stdout.contains("\n4\n"),
+        "{}",
+        r.stdout
+    );
+    assert_eq!(
+        r.stderr.matches("cannot write the history").count(),
+        1,
+        "{}",
+        r.stderr
+    );
+    std::fs::remove_dir_all(&d).unwrap();
+}
