@@ -71,7 +71,11 @@ impl Mul for Complex {
 impl Div for Complex {
     type Output = Self;
     fn div(self, o: Self) -> Self {
-        self * o.recip()
+        let d = o.re * o.re + o.im * o.im;
+        Self::new(
+            (self.re * o.re + self.im * o.im) / d,
+            (self.im * o.re - self.re * o.im) / d,
+        )
     }
 }
 impl Neg for Complex {

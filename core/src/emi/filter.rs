@@ -225,7 +225,7 @@ pub fn filter_output_impedance_peak(
         )),
         None => None,
     };
-    if rl == 0.0 && esr == 0.0 && damp.is_none_or(|(r, _)| r == 0.0) {
+    if rl == 0.0 && esr == 0.0 && !matches!(damp, Some((r, _)) if r > 0.0) {
         return Err(Error::invalid(
             "the filter has no damping at all (zero resistances): its output impedance peak is unbounded",
         ));
