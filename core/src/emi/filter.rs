@@ -32,6 +32,11 @@ pub fn required_attenuation(estimate: Decibel, limit: Decibel, margin: Decibel) 
     let e = level("estimate", estimate)?;
     let l = level("limit", limit)?;
     let m = level("margin", margin)?;
+    if e.reference != l.reference || e.reference == DbReference::Ratio {
+        return Err(Error::dimension(format!(
+            "`estimate` ({e}) and `limit` ({l}) must be levels of the same kind (dBµV)"
+        )));
+    }
     if m.reference != DbReference::Ratio {
         return Err(Error::dimension(format!(
             "`margin` must be a ratio in dB, got {m}"
@@ -321,4 +326,38 @@ pub fn middlebrook_criterion(
         required_margin: m,
         satisfied: margin.value >= m.value,
     })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn corner_round_trip() {
+        // 20·order·log10(f/f_c) gives back the attenuation (the formula's own inverse)
+        let fc = filter_corner_frequency(si(300e3), Decibel::ratio(52.0), 4).unwrap();
+        assert!((80.0 * (300e3 / fc.value).log10() - 52.0).abs() < 1e-9);
+    }
+
+    #[test]
+    fn attenuation_needs_levels() {
+        let uv = |v| Decibel {
+            value: v,
+            reference: DbReference::MicroVolt,
+        };
+        assert_eq!(
+            required_attenuation(uv(80.0), uv(56.0), Decibel::ratio(6.0)).unwrap(),
+            Decibel::ratio(30.0)
+        );
+        assert!(required_attenuation(uv(80.0), Decibel::ratio(56.0), Decibel::ratio(6.0)).is_err());
+        assert!(required_attenuation(uv(80.0), uv(56.0), uv(6.0)).is_err());
+    }
+
+    #[test]
+    fn light_load_filter_peaks() {
+        // Q = R/R0; at Q = 10 the gain at the corner is +20 dB (Erickson & Maksimović 2020, ch. 8)
+        let r = lc_filter_attenuation(si(1e-6), si(100e-6), si(1.0), si(1e3)).unwrap();
+        assert!((r.quality_factor - 10.0).abs() < 1e-9);
+        assert!((r.resonance_gain.value - 20.0).abs() < 1e-9);
+    }
 }

@@ -107,9 +107,49 @@ pub(crate) fn check_switching_frequency(f: Frequency) -> Result<f64> {
     }
 }
 
-/// Harmonic numbers whose frequency lies in 150 kHz … 30 MHz.
+/// Harmonic numbers whose frequency lies in 150 kHz … 30 MHz (n·f_sw checked in floating
+/// point, so a rounding error never puts a harmonic just outside the limit table).
 pub(crate) fn in_band_harmonics(fsw: f64) -> impl Iterator<Item = u32> {
-    let first = (150e3 / fsw - 1e-9).ceil().max(1.0) as u32;
-    let last = (30e6 / fsw + 1e-9).floor() as u32;
+    let mut first = (150e3 / fsw).ceil().max(1.0) as u32;
+    while first > 1 && fsw * f64::from(first - 1) >= 150e3 {
+        first -= 1;
+    }
+    while fsw * f64::from(first) < 150e3 {
+        first += 1;
+    }
+    let mut last = (30e6 / fsw).floor() as u32;
+    while fsw * f64::from(last + 1) <= 30e6 {
+        last += 1;
+    }
+    while last > 0 && fsw * f64::from(last) > 30e6 {
+        last -= 1;
+    }
     first..=last
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn band_edges_are_inside_the_band() {
+        for fsw in [10e3, 50e3, 65e3, 75e3, 100e3, 132.7e3, 30e6 / 461.0, 2e6] {
+            let ns: Vec<u32> = in_band_harmonics(fsw).collect();
+            let lo = fsw * f64::from(ns[0]);
+            let hi = fsw * f64::from(*ns.last().unwrap());
+            assert!(lo >= 150e3 && fsw * f64::from(ns[0] - 1) < 150e3, "{fsw}");
+            assert!(
+                hi <= 30e6 && fsw * f64::from(ns.last().unwrap() + 1) > 30e6,
+                "{fsw}"
+            );
+        }
+    }
+
+    #[test]
+    fn levels_are_rms_dbuv() {
+        // 1 mV RMS = 60 dBµV by definition; a sine of √2 mV peak has 1 mV RMS
+        assert!((level_of_peak(std::f64::consts::SQRT_2 * 1e-3).value - 60.0).abs() < 1e-9);
+        assert_eq!(level_of_peak(0.0).value, LEVEL_FLOOR);
+        assert_eq!(level_of_peak(f64::NAN).value, LEVEL_FLOOR);
+    }
 }

@@ -102,3 +102,25 @@ pub fn y_capacitance_for_touch_current(
     let f = positive("line_frequency", line_frequency)?.value;
     Ok(si(i / (2.0 * PI * f * v)))
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn touch_current_and_its_inverse() {
+        // I = 2π·f·C·V: 1 nF at 230 V, 50 Hz is 72.26 µA (hand calculation of the same formula)
+        let i = y_capacitor_touch_current(si(1e-9), si(230.0), si(50.0)).unwrap();
+        assert!((i.value - 72.26e-6).abs() < 0.01e-6);
+        let c = y_capacitance_for_touch_current(i, si(230.0), si(50.0)).unwrap();
+        assert!((c.value - 1e-9).abs() < 1e-18);
+        assert!(y_capacitor_touch_current(si(-1e-9), si(230.0), si(50.0)).is_err());
+    }
+
+    #[test]
+    fn discharge_reaches_the_final_voltage() {
+        let x = x_capacitor_discharge(si(330e-9), si(264.0), si(2.0), si(60.0)).unwrap();
+        let v = x.initial_voltage.value * (-2.0 / x.time_constant.value).exp();
+        assert!((v - 60.0).abs() < 1e-9);
+    }
+}
