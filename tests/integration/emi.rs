@@ -294,7 +294,7 @@ fn corner_frequency_for_an_attenuation() {
         Decibel::ratio(1.0),
         Decibel::ratio(6.0)
     )
-    .is_ok());
+    .is_err());
     assert_eq!(
         eval("required_attenuation(90 * dBuV, 56 * dBuV, 6 * dB)"),
         "40 dB"
