@@ -610,3 +610,56 @@ proptest! {
         }
     }
 }
+
+#[test]
+fn bad_input_at_the_prompt_names_the_key_and_unit() {
+    let base = "switching_frequency: 65 * kHz, peak_current: 1 * A, duty: 0.4, \
+                drain_voltage: 500 * V, parasitic_capacitance: 20 * pF, \
+                max_y_capacitance: 2.2 * nF, minimum_input_voltage: 100 * V, input_power: 33 * W";
+    let e = eval_err(&format!(
+        "input_filter_design(#{{{base}, bulk_capacitance: 47 * uH}})"
+    ));
+    assert!(
+        e.to_string().contains("bulk_capacitance") && e.to_string().contains('F'),
+        "{e}"
+    );
+    let e = eval_err(&format!(
+        "input_filter_design(#{{{base}, bulk_capacitance: -47 * uF}})"
+    ));
+    assert!(e.to_string().contains("bulk_capacitance"), "{e}");
+    let e = eval_err(&format!(
+        "input_filter_design(#{{{base}, bulk_capacitance: 47 * uF, stages: 3}})"
+    ));
+    assert!(e.to_string().contains("stages"), "{e}");
+    let e = eval_err(&format!(
+        "input_filter_design(#{{{base}, bulk_capacitance: 47 * uF, margin: 6 * dBuV}})"
+    ));
+    assert!(e.to_string().contains("margin"), "{e}");
+    let slow = base.replace("65 * kHz", "5 * kHz");
+    let e = eval_err(&format!(
+        "input_filter_design(#{{{slow}, bulk_capacitance: 47 * uF}})"
+    ));
+    assert!(
+        e.to_string().contains("switching_frequency") && e.to_string().contains("10 kHz"),
+        "{e}"
+    );
+}
+
+#[test]
+fn spectrum_plot_draws_limits_and_estimates() {
+    let d = input_filter_design(&fernbank_like(65e3)).unwrap();
+    let svg = spectrum_svg(&d);
+    // two limit lines (red) and two estimates (grey, blue), a legend and the caution
+    assert_eq!(svg.matches("stroke=\"#c00\" stroke-width=\"2\"").count(), 4);
+    assert_eq!(svg.matches("<polyline").count(), 4);
+    assert!(svg.contains("estimate with filter") && svg.contains("class B"));
+    assert!(svg.contains(gapwise::SAFETY_CAUTION.split(':').next().unwrap()));
+    // one point per in-band harmonic on each estimate line
+    let points = svg
+        .lines()
+        .find(|l| l.contains("stroke=\"#06c\"") && l.starts_with("<polyline"))
+        .unwrap()
+        .matches(',')
+        .count();
+    assert_eq!(points, d.harmonics.len());
+}
