@@ -663,3 +663,20 @@ fn spectrum_plot_draws_limits_and_estimates() {
         .count();
     assert_eq!(points, d.harmonics.len());
 }
+
+#[test]
+fn in_phase_sum_of_the_two_modes() {
+    // the unfiltered estimate is the in-phase sum of the DM and CM amplitudes
+    // (20·log10(10^(a/20) + 10^(b/20)), hand calculation of the same rule, not a reference)
+    let d = input_filter_design(&fernbank_like(65e3)).unwrap();
+    for h in &d.harmonics {
+        let a = h.differential_unfiltered.value;
+        let b = h.common_unfiltered.value;
+        let sum = 20.0 * (10f64.powf(a / 20.0) + 10f64.powf(b / 20.0)).log10();
+        assert!((h.estimate_unfiltered.value - sum).abs() < 1e-6);
+        assert!(h.estimate_unfiltered.value >= a.max(b));
+    }
+    assert!(harmonic_table(&d, 3)
+        .column_names()
+        .contains(&"common_unfiltered".to_string()));
+}

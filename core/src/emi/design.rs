@@ -124,6 +124,8 @@ impl Record for HarmonicRow {
         vec![
             Field::new("harmonic", i64::from(self.harmonic)),
             Field::quantity("frequency", self.frequency),
+            Field::new("differential_unfiltered", self.differential_unfiltered),
+            Field::new("common_unfiltered", self.common_unfiltered),
             Field::new("estimate_unfiltered", self.estimate_unfiltered),
             Field::new("limit_quasi_peak", self.limit_quasi_peak),
             Field::new("limit_average", self.limit_average),
