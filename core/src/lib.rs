@@ -26,6 +26,7 @@
 
 #![deny(missing_docs)]
 
+pub mod emi;
 mod error;
 pub mod magnetics;
 pub mod passives;

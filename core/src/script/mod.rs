@@ -4,6 +4,7 @@
 //! Each `api_*` file registers one domain; every function is registered together with its
 //! [`FunctionDoc`], so the prompt's help, completion and the README reference share one source.
 
+mod api_emi;
 mod api_family;
 mod api_magnetics;
 mod api_passives;
@@ -77,4 +78,5 @@ pub(crate) fn register_all(
     api_passives::register(&mut api);
     api_magnetics::register(&mut api);
     api_safety::register(&mut api, state);
+    api_emi::register(&mut api, state);
 }

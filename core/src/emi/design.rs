@@ -1,0 +1,598 @@
+//! The one-call input filter design: noise estimate per harmonic, the DM filter (one or two
+//! LC stages) and common-mode choke that meet the limit with margin, damping and Middlebrook's
+//! criterion, X capacitor discharge, the harmonic table and the design checks.
+
+use super::common_mode::{CheckedCm, CommonModeSpec};
+use super::differential_mode::{CheckedDm, DifferentialModeSpec, FilterStage};
+use super::filter::{
+    damping_network, filter_output_impedance_peak, middlebrook_criterion, DampingNetwork,
+    ImpedancePeak, MiddlebrookCheck,
+};
+use super::limits::{emi_limit, Detector, EmissionClass};
+use super::safety_capacitors::{
+    x_capacitor_discharge, y_capacitor_touch_current, XCapacitorDischarge,
+};
+use super::spectrum::{DrainVoltageShape, PrimaryCurrentShape};
+use super::{in_band_harmonics, level_of_peak};
+use crate::error::{Error, Result};
+use crate::report::{Field, Record, Table, SAFETY_CAUTION};
+use crate::rules::{CheckResult, Comparison, Rule};
+use crate::units::validate::{non_negative, positive};
+use crate::units::{
+    si, Capacitance, DbReference, Decibel, ElectricCurrent, ElectricPotential,
+    ElectricalResistance, Frequency, Inductance, Power, Quantity, Time,
+};
+use std::f64::consts::PI;
+use std::fmt::Write;
+
+/// Everything the input filter design needs: the converter's waveforms and input parts, the
+/// target, and the constraints on the filter parts.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct InputFilterSpec {
+    /// Switching frequency (10 kHz … 2 MHz).
+    pub switching_frequency: Frequency,
+    /// Primary current over a period (differential-mode source).
+    pub primary_current: PrimaryCurrentShape,
+    /// Drain voltage over a period (common-mode source).
+    pub drain_voltage: DrainVoltageShape,
+    /// Bulk capacitance.
+    pub bulk_capacitance: Capacitance,
+    /// Bulk capacitor ESR at the switching frequency.
+    pub bulk_esr: ElectricalResistance,
+    /// Bulk capacitor ESL.
+    pub bulk_esl: Inductance,
+    /// Parasitic capacitance from the drain node to earth.
+    pub parasitic_capacitance: Capacitance,
+    /// CISPR 32 class to meet.
+    pub class: EmissionClass,
+    /// Margin under the limit to design for (a ratio in dB, e.g. 6 dB).
+    pub margin: Decibel,
+    /// Number of DM LC stages, 1 or 2.
+    pub stages: u32,
+    /// X capacitance of each DM stage.
+    pub x_capacitance: Capacitance,
+    /// Series resistance of each DM inductor.
+    pub inductor_resistance: ElectricalResistance,
+    /// Largest total Y capacitance the touch-current limit allows (from the safety work).
+    pub max_y_capacitance: Capacitance,
+    /// Lowest DC input (bulk) voltage at full power, for Middlebrook's criterion.
+    pub minimum_input_voltage: ElectricPotential,
+    /// Converter input power at full load.
+    pub input_power: Power,
+    /// Margin between |R_N| and the filter output impedance (a ratio in dB, e.g. 6 dB).
+    pub middlebrook_margin: Decibel,
+    /// Highest line voltage (RMS), for the X capacitor discharge and the touch current.
+    pub maximum_line_voltage: ElectricPotential,
+    /// Line frequency for the touch current (60 Hz is the worst case of 50/60 Hz).
+    pub line_frequency: Frequency,
+    /// Time allowed for the X capacitance to discharge after unplugging.
+    pub discharge_time: Time,
+    /// Voltage the X capacitance must fall to within `discharge_time`.
+    pub discharge_voltage: ElectricPotential,
+}
+
+impl InputFilterSpec {
+    /// The differential-mode part of the spec.
+    pub fn differential_mode(&self) -> DifferentialModeSpec {
+        DifferentialModeSpec {
+            switching_frequency: self.switching_frequency,
+            primary_current: self.primary_current,
+            bulk_capacitance: self.bulk_capacitance,
+            bulk_esr: self.bulk_esr,
+            bulk_esl: self.bulk_esl,
+        }
+    }
+    /// The common-mode part of the spec.
+    pub fn common_mode(&self) -> CommonModeSpec {
+        CommonModeSpec {
+            switching_frequency: self.switching_frequency,
+            drain_voltage: self.drain_voltage,
+            parasitic_capacitance: self.parasitic_capacitance,
+        }
+    }
+}
+
+/// One harmonic of the design: estimate, limit and margin without and with the filter.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct HarmonicRow {
+    /// Harmonic number.
+    pub harmonic: u32,
+    /// Frequency.
+    pub frequency: Frequency,
+    /// Differential-mode part of the unfiltered estimate.
+    pub differential_unfiltered: Decibel,
+    /// Common-mode part of the unfiltered estimate (no Y capacitor, no choke).
+    pub common_unfiltered: Decibel,
+    /// Unfiltered estimate (DM and CM added in phase).
+    pub estimate_unfiltered: Decibel,
+    /// Quasi-peak limit.
+    pub limit_quasi_peak: Decibel,
+    /// Average limit.
+    pub limit_average: Decibel,
+    /// Attenuation needed: estimate − stricter limit + margin.
+    pub required_attenuation: Decibel,
+    /// Margin to the stricter limit without the filter (negative: over the limit).
+    pub margin_unfiltered: Decibel,
+    /// Estimate with the designed filter.
+    pub estimate_filtered: Decibel,
+    /// Margin to the stricter limit with the filter.
+    pub margin_filtered: Decibel,
+}
+
+impl Record for HarmonicRow {
+    fn fields(&self) -> Vec<Field> {
+        vec![
+            Field::new("harmonic", i64::from(self.harmonic)),
+            Field::quantity("frequency", self.frequency),
+            Field::new("differential_unfiltered", self.differential_unfiltered),
+            Field::new("common_unfiltered", self.common_unfiltered),
+            Field::new("estimate_unfiltered", self.estimate_unfiltered),
+            Field::new("limit_quasi_peak", self.limit_quasi_peak),
+            Field::new("limit_average", self.limit_average),
+            Field::new("margin_unfiltered", self.margin_unfiltered),
+            Field::new("required_attenuation", self.required_attenuation),
+            Field::new("estimate_filtered", self.estimate_filtered),
+            Field::new("margin_filtered", self.margin_filtered),
+        ]
+    }
+}
+
+/// The designed input filter and its evaluation.
+#[derive(Clone, Debug, PartialEq)]
+pub struct InputFilterDesign {
+    /// The spec it was designed for.
+    pub spec: InputFilterSpec,
+    /// Every in-band harmonic.
+    pub harmonics: Vec<HarmonicRow>,
+    /// DM LC stages, from the converter towards the line (empty when none is needed).
+    pub differential_stages: Vec<FilterStage>,
+    /// Corner frequency of each DM stage (with its X capacitor).
+    pub differential_corner: Option<Frequency>,
+    /// Y capacitance used (the allowed maximum).
+    pub y_capacitance: Capacitance,
+    /// Common-mode choke inductance (None when the Y capacitance alone suffices).
+    pub choke_inductance: Option<Inductance>,
+    /// Corner of the choke with the Y capacitance.
+    pub common_corner: Option<Frequency>,
+    /// Worst margin without the filter.
+    pub worst_margin_unfiltered: Decibel,
+    /// Worst margin with the filter.
+    pub worst_margin_filtered: Decibel,
+    /// Frequency of the worst filtered margin.
+    pub worst_frequency: Frequency,
+    /// Peak output impedance seen by the converter (DM inductor with the bulk capacitor).
+    pub output_impedance_peak: Option<ImpedancePeak>,
+    /// Middlebrook's criterion with that peak.
+    pub middlebrook: Option<MiddlebrookCheck>,
+    /// A parallel R–C damping network across the bulk capacitor that would meet the
+    /// Middlebrook margin on its own (useful when the bulk ESR is low).
+    pub damping: Option<DampingNetwork>,
+    /// The X capacitors' discharge resistor.
+    pub x_discharge: XCapacitorDischarge,
+    /// Touch current of the Y capacitance at the highest line voltage and line frequency.
+    pub y_touch_current: ElectricCurrent,
+}
+
+fn db(x: f64) -> Decibel {
+    Decibel::ratio(x)
+}
+
+struct Evaluated {
+    dm: Vec<f64>,
+    cm: Vec<f64>,
+}
+
+fn evaluate(
+    dm: &CheckedDm,
+    cm: &CheckedCm,
+    ns: &[u32],
+    stages: &[FilterStage],
+    y: Option<f64>,
+    choke: Option<f64>,
+) -> Evaluated {
+    Evaluated {
+        dm: ns.iter().map(|&n| dm.receiver_voltage(stages, n)).collect(),
+        cm: ns
+            .iter()
+            .map(|&n| cm.receiver_voltage(y, choke, n))
+            .collect(),
+    }
+}
+
+/// Worst excess (dB) of `levels` (peak volts) over the per-harmonic targets (dBµV).
+fn worst_excess(levels: &[f64], targets: &[f64]) -> f64 {
+    levels
+        .iter()
+        .zip(targets)
+        .map(|(v, t)| level_of_peak(*v).value - t)
+        .fold(f64::NEG_INFINITY, f64::max)
+}
+
+/// Corner frequency for the largest attenuation need: min over n of f_n·10^(−A_n/(20·order)).
+fn corner_for(levels: &[f64], targets: &[f64], freqs: &[f64], order: f64) -> Option<f64> {
+    levels
+        .iter()
+        .zip(targets)
+        .zip(freqs)
+        .filter_map(|((v, t), f)| {
+            let a = level_of_peak(*v).value - t;
+            (a > 0.0).then(|| f * 10f64.powf(-a / (20.0 * order)))
+        })
+        .fold(None, |m: Option<f64>, x| Some(m.map_or(x, |m| m.min(x))))
+}
+
+/// Designs the input filter a converter needs to meet a CISPR 32 class with margin.
+///
+/// Method:
+/// 1. Estimate DM ([`super::differential_mode_noise`]) and CM ([`super::common_mode_noise`],
+///    bare: no Y, no choke) at every harmonic in 150 kHz … 30 MHz. The total is their in-phase
+///    (worst-case) sum. The limit is the stricter of quasi-peak and average (a harmonic is a
+///    steady sine, which both detectors read alike).
+/// 2. Each mode is given the target limit − margin − 6 dB, so that the two together meet
+///    limit − margin even in phase.
+/// 3. DM: the needed attenuation A_n sets the corner f_c = min f_n·10^(−A_n/(40·stages));
+///    each stage gets L = 1/((2πf_c)²·C_x) with the given X capacitance. CM: with the allowed
+///    Y capacitance, L_cm = 1/((2πf_c)²·C_y) with f_c = min f_n·10^(−A_n/40) from the bare
+///    CM estimate. Both are then evaluated on the full circuit (LISN, bulk capacitor, stages)
+///    and the inductances raised until every harmonic meets its target (at most 40 steps).
+/// 4. Damping: the DM inductor nearest the converter resonates with the bulk capacitor; its
+///    peak output impedance (bulk ESR and inductor resistance as the only damping) is checked
+///    with Middlebrook's criterion against |R_N| = V_in,min²/P_in, and the smallest parallel
+///    R–C damping network (Erickson's optimum) that alone meets the margin is given.
+/// 5. X discharge resistor for the total X capacitance; touch current of the Y capacitance.
+///
+/// Valid: 1 or 2 stages; switching frequency 10 kHz … 2 MHz; all parts positive.
+/// References: CISPR 32:2015 Tables A.9/A.10 (limits); CISPR 16-1-2 (LISN); Erickson &
+/// Maksimović, *Fundamentals of Power Electronics*, 3rd ed. (2020), input filter chapter;
+/// Middlebrook (1976). The 6 dB split between DM and CM is common practice, no published
+/// source.
+pub fn input_filter_design(spec: &InputFilterSpec) -> Result<InputFilterDesign> {
+    let dm = spec.differential_mode().checked()?;
+    let cm = spec.common_mode().checked()?;
+    if spec.margin.reference != DbReference::Ratio || !spec.margin.value.is_finite() {
+        return Err(Error::invalid(format!(
+            "`margin` must be a finite ratio in dB, got {}",
+            spec.margin
+        )));
+    }
+    if !(1..=2).contains(&spec.stages) {
+        return Err(Error::out_of_range(format!(
+            "`stages` must be 1 or 2, got {}",
+            spec.stages
+        )));
+    }
+    let cx = positive("x_capacitance", spec.x_capacitance)?.value;
+    let rl = non_negative("inductor_resistance", spec.inductor_resistance)?.value;
+    let cy = positive("max_y_capacitance", spec.max_y_capacitance)?.value;
+    positive("minimum_input_voltage", spec.minimum_input_voltage)?;
+    positive("input_power", spec.input_power)?;
+
+    let ns: Vec<u32> = in_band_harmonics(dm.fsw).collect();
+    let freqs: Vec<f64> = ns.iter().map(|&n| dm.fsw * f64::from(n)).collect();
+    let mut qp = Vec::with_capacity(ns.len());
+    let mut av = Vec::with_capacity(ns.len());
+    for f in &freqs {
+        qp.push(emi_limit(si(*f), spec.class, Detector::QuasiPeak)?.value);
+        av.push(emi_limit(si(*f), spec.class, Detector::Average)?.value);
+    }
+    let limit: Vec<f64> = qp.iter().zip(&av).map(|(a, b)| a.min(*b)).collect();
+    let targets: Vec<f64> = limit
+        .iter()
+        .map(|l| l - spec.margin.value - 20.0 * 2f64.log10())
+        .collect();
+
+    let bare = evaluate(&dm, &cm, &ns, &[], None, None);
+
+    // differential mode
+    let order = 2.0 * f64::from(spec.stages);
+    let mut stages: Vec<FilterStage> = Vec::new();
+    let mut dm_corner = None;
+    if let Some(fc) = corner_for(&bare.dm, &targets, &freqs, order) {
+        let mut l = 1.0 / ((2.0 * PI * fc).powi(2) * cx);
+        let build = |l: f64| -> Vec<FilterStage> {
+            (0..spec.stages)
+                .map(|_| FilterStage {
+                    inductance: si(l),
+                    inductor_resistance: si(rl),
+                    capacitance: si(cx),
+                })
+                .collect()
+        };
+        for _ in 0..40 {
+            let levels: Vec<f64> = ns
+                .iter()
+                .map(|&n| dm.receiver_voltage(&build(l), n))
+                .collect();
+            let e = worst_excess(&levels, &targets);
+            if e <= 0.0 {
+                break;
+            }
+            l *= 10f64.powf(e.max(0.5) / (20.0 * order));
+        }
+        stages = build(l);
+        dm_corner = Some(si(1.0 / (2.0 * PI * (l * cx).sqrt())));
+    }
+
+    // common mode: the Y capacitance first, a choke if it is not enough
+    let with_y: Vec<f64> = ns
+        .iter()
+        .map(|&n| cm.receiver_voltage(Some(cy), None, n))
+        .collect();
+    let mut choke = None;
+    let mut cm_corner = None;
+    if worst_excess(&with_y, &targets) > 0.0 {
+        if let Some(fc) = corner_for(&bare.cm, &targets, &freqs, 2.0) {
+            let mut l = 1.0 / ((2.0 * PI * fc).powi(2) * cy);
+            for _ in 0..40 {
+                let levels: Vec<f64> = ns
+                    .iter()
+                    .map(|&n| cm.receiver_voltage(Some(cy), Some(l), n))
+                    .collect();
+                let e = worst_excess(&levels, &targets);
+                if e <= 0.0 {
+                    break;
+                }
+                l *= 10f64.powf(e.max(0.5) / 40.0);
+            }
+            choke = Some(l);
+            cm_corner = Some(si(1.0 / (2.0 * PI * (l * cy).sqrt())));
+        }
+    }
+
+    let filtered = evaluate(&dm, &cm, &ns, &stages, Some(cy), choke);
+    let mut rows = Vec::with_capacity(ns.len());
+    for i in 0..ns.len() {
+        let lim = limit[i];
+        let un = level_of_peak(bare.dm[i] + bare.cm[i]);
+        let fi = level_of_peak(filtered.dm[i] + filtered.cm[i]);
+        rows.push(HarmonicRow {
+            harmonic: ns[i],
+            frequency: si(freqs[i]),
+            differential_unfiltered: level_of_peak(bare.dm[i]),
+            common_unfiltered: level_of_peak(bare.cm[i]),
+            estimate_unfiltered: un,
+            limit_quasi_peak: Decibel {
+                value: qp[i],
+                reference: DbReference::MicroVolt,
+            },
+            limit_average: Decibel {
+                value: av[i],
+                reference: DbReference::MicroVolt,
+            },
+            required_attenuation: db(un.value - lim + spec.margin.value),
+            margin_unfiltered: db(lim - un.value),
+            estimate_filtered: fi,
+            margin_filtered: db(lim - fi.value),
+        });
+    }
+    let worst_un = rows
+        .iter()
+        .map(|r| r.margin_unfiltered.value)
+        .fold(f64::INFINITY, f64::min);
+    let worst = rows
+        .iter()
+        .min_by(|a, b| a.margin_filtered.value.total_cmp(&b.margin_filtered.value))
+        .ok_or_else(|| Error::invalid("no harmonic of the switching frequency lies in the band"))?;
+
+    // damping and Middlebrook's criterion
+    let (peak, middlebrook, damping) = match stages.first() {
+        Some(s) => {
+            let peak = filter_output_impedance_peak(
+                s.inductance,
+                s.inductor_resistance,
+                spec.bulk_capacitance,
+                spec.bulk_esr,
+                None,
+            )?;
+            let mb = middlebrook_criterion(
+                peak.magnitude,
+                spec.minimum_input_voltage,
+                spec.input_power,
+                spec.middlebrook_margin,
+            )?;
+            let allowed = mb.negative_input_resistance.value
+                / 10f64.powf(spec.middlebrook_margin.value / 20.0);
+            let mut n = 0.25;
+            let mut net = damping_network(s.inductance, spec.bulk_capacitance, n)?;
+            while net.peak_output_impedance.value > allowed && n < 16.0 {
+                n *= 1.25;
+                net = damping_network(s.inductance, spec.bulk_capacitance, n)?;
+            }
+            (Some(peak), Some(mb), Some(net))
+        }
+        None => (None, None, None),
+    };
+
+    let total_x: Capacitance = si(cx * stages.len().max(1) as f64);
+    let x_discharge = x_capacitor_discharge(
+        total_x,
+        spec.maximum_line_voltage,
+        spec.discharge_time,
+        spec.discharge_voltage,
+    )?;
+    let y_touch_current = y_capacitor_touch_current(
+        spec.max_y_capacitance,
+        spec.maximum_line_voltage,
+        spec.line_frequency,
+    )?;
+    Ok(InputFilterDesign {
+        spec: *spec,
+        worst_margin_unfiltered: db(worst_un),
+        worst_margin_filtered: worst.margin_filtered,
+        worst_frequency: worst.frequency,
+        harmonics: rows,
+        differential_stages: stages,
+        differential_corner: dm_corner,
+        y_capacitance: spec.max_y_capacitance,
+        choke_inductance: choke.map(si),
+        common_corner: cm_corner,
+        output_impedance_peak: peak,
+        middlebrook,
+        damping,
+        x_discharge,
+        y_touch_current,
+    })
+}
+
+impl Record for InputFilterDesign {
+    fn fields(&self) -> Vec<Field> {
+        let zero_h: Inductance = si(0.0);
+        let mut f = vec![
+            Field::new("class", self.spec.class.to_string()),
+            Field::new("target_margin", self.spec.margin),
+            Field::new("worst_margin_unfiltered", self.worst_margin_unfiltered),
+            Field::new("worst_margin_filtered", self.worst_margin_filtered),
+            Field::quantity("worst_frequency", self.worst_frequency),
+            Field::new("stages", self.differential_stages.len() as i64),
+            Field::quantity(
+                "differential_inductance",
+                self.differential_stages
+                    .first()
+                    .map_or(zero_h, |s| s.inductance),
+            ),
+            Field::quantity("x_capacitance", self.spec.x_capacitance),
+        ];
+        if let Some(c) = self.differential_corner {
+            f.push(Field::quantity("differential_corner", c));
+        }
+        f.push(Field::quantity(
+            "choke_inductance",
+            self.choke_inductance.unwrap_or(zero_h),
+        ));
+        f.push(Field::quantity("y_capacitance", self.y_capacitance));
+        if let Some(c) = self.common_corner {
+            f.push(Field::quantity("common_corner", c));
+        }
+        if let Some(p) = self.output_impedance_peak {
+            f.push(Field::quantity("output_impedance_peak", p.magnitude));
+            f.push(Field::quantity(
+                "output_impedance_peak_frequency",
+                p.frequency,
+            ));
+        }
+        if let Some(m) = self.middlebrook {
+            f.push(Field::quantity(
+                "negative_input_resistance",
+                m.negative_input_resistance,
+            ));
+            f.push(Field::new("middlebrook_margin", m.margin));
+            f.push(Field::new("middlebrook_satisfied", m.satisfied));
+        }
+        if let Some(d) = self.damping {
+            f.push(Field::quantity("damping_resistance", d.damping_resistance));
+            f.push(Field::quantity(
+                "damping_capacitance",
+                d.blocking_capacitance,
+            ));
+        }
+        f.push(Field::quantity(
+            "discharge_resistance",
+            self.x_discharge.maximum_resistance,
+        ));
+        f.push(Field::quantity(
+            "discharge_loss",
+            self.x_discharge.power_loss,
+        ));
+        f.push(Field::quantity("y_touch_current", self.y_touch_current));
+        f
+    }
+}
+
+/// The harmonic table: the first `rows` in-band harmonics, plus the harmonic with the worst
+/// margin without and with the filter when not among them (0 rows: every harmonic).
+pub fn harmonic_table(design: &InputFilterDesign, rows: usize) -> Table {
+    let mut t = Table::new();
+    let n = if rows == 0 {
+        design.harmonics.len()
+    } else {
+        rows
+    };
+    let mut picked: Vec<usize> = (0..n.min(design.harmonics.len())).collect();
+    let worst = |key: fn(&HarmonicRow) -> f64| {
+        (0..design.harmonics.len())
+            .min_by(|&a, &b| key(&design.harmonics[a]).total_cmp(&key(&design.harmonics[b])))
+    };
+    for w in [
+        worst(|r| r.margin_unfiltered.value),
+        worst(|r| r.margin_filtered.value),
+    ]
+    .into_iter()
+    .flatten()
+    {
+        if !picked.contains(&w) {
+            picked.push(w);
+        }
+    }
+    picked.sort_unstable();
+    for i in picked {
+        t.push_row(design.harmonics[i].fields());
+    }
+    t
+}
+
+/// The design checks: the worst filtered margin against the target margin
+/// (`conducted_emission_margin`, at least, in dB), and the filter's peak output impedance
+/// against |R_N| reduced by the Middlebrook margin (`input_filter_damping`, at most).
+/// Reference: CISPR 32:2015 limits with the house margin; Middlebrook (1976).
+pub fn input_filter_checks(design: &InputFilterDesign) -> Result<Vec<CheckResult>> {
+    let margin = Rule::new(
+        "conducted_emission_margin",
+        "worst conducted emission margin under the CISPR 32 limit, in dB",
+        "CISPR 32:2015 Tables A.9/A.10 with the design margin",
+        Comparison::AtLeast,
+        Quantity::number(design.spec.margin.value),
+        0.0,
+    )?;
+    let mut out = vec![margin.check(Quantity::number(design.worst_margin_filtered.value))?];
+    if let (Some(p), Some(m)) = (design.output_impedance_peak, design.middlebrook) {
+        let allowed =
+            m.negative_input_resistance.value / 10f64.powf(m.required_margin.value / 20.0);
+        let rule = Rule::new(
+            "input_filter_damping",
+            "peak filter output impedance under |R_N| with the Middlebrook margin",
+            "Middlebrook, IEEE IAS 1976; Erickson & Maksimović 2020, input filter chapter",
+            Comparison::AtMost,
+            Quantity::from_typed::<ElectricalResistance>(si(allowed)),
+            0.05,
+        )?;
+        out.push(rule.check(Quantity::from_typed(p.magnitude))?);
+    }
+    Ok(out)
+}
+
+/// A Markdown report of the design: the summary, the harmonic table (first `rows` harmonics
+/// plus the worst), the checks and the safety caution.
+pub fn input_filter_report(design: &InputFilterDesign, rows: usize) -> Result<String> {
+    let mut s = String::new();
+    let _ = writeln!(s, "# Conducted EMI input filter\n");
+    let _ = writeln!(s, "{SAFETY_CAUTION}\n");
+    let _ = writeln!(s, "## Design\n");
+    for f in design.fields() {
+        let _ = writeln!(s, "- {}: {}", f.name, f.value);
+    }
+    let _ = writeln!(
+        s,
+        "\n## Harmonics\n\n```\n{}```\n",
+        harmonic_table(design, rows).to_text()
+    );
+    let _ = writeln!(s, "## Checks\n");
+    for c in input_filter_checks(design)? {
+        let _ = writeln!(
+            s,
+            "- {} {}: {} ({} {}) [{}]",
+            c.status,
+            c.id,
+            c.value,
+            c.comparison.as_str(),
+            c.limit,
+            c.reference
+        );
+    }
+    let _ = writeln!(
+        s,
+        "\nEstimates are first-order (lumped parasitics, in-phase DM+CM sum); confirm with a \
+         conducted emission scan. Levels below {} dBµV are shown as that floor.",
+        super::LEVEL_FLOOR
+    );
+    Ok(s)
+}
