@@ -27,7 +27,9 @@
 #![deny(missing_docs)]
 
 mod error;
+pub mod flyback;
 pub mod magnetics;
+pub mod mains;
 pub mod passives;
 pub mod report;
 pub mod rules;
