@@ -639,12 +639,10 @@ impl Record for FlybackDesign {
         ]);
         if let Some(c) = self.bulk_capacitance {
             v.push(Field::quantity("bulk_capacitance", c));
+            // µF per watt of output, to compare with common practice (2–3 µF/W universal input)
             v.push(Field::new(
-                "bulk_capacitance_per_watt",
-                Quantity::new(
-                    c.value / self.output_power.value,
-                    Dimension::CAPACITANCE.div(Dimension::POWER),
-                ),
+                "bulk_microfarads_per_watt",
+                c.value / self.output_power.value * 1e6,
             ));
         }
         v.push(Field::quantity("bulk_valley_voltage", c0.bulk_valley_voltage));

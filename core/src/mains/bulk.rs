@@ -199,7 +199,10 @@ impl Record for BulkCapacitor {
             Field::quantity("bridge_current_rms", self.bridge_current_rms),
             Field::quantity("bridge_current_peak", self.bridge_current_peak),
             Field::quantity("ripple_current_rms", self.ripple_current_rms),
-            Field::new("capacitance_per_watt", self.capacitance_per_watt),
+            Field::new(
+                "microfarads_per_watt",
+                self.capacitance_per_watt.value() * 1e6,
+            ),
             Field::quantity("input_power", self.input_power),
         ]
     }

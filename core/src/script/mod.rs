@@ -5,7 +5,9 @@
 //! [`FunctionDoc`], so the prompt's help, completion and the README reference share one source.
 
 mod api_family;
+mod api_flyback;
 mod api_magnetics;
+mod api_mains;
 mod api_passives;
 mod api_rules;
 mod api_units;
@@ -75,4 +77,6 @@ pub(crate) fn register_all(
     api_rules::register(&mut api, state);
     api_passives::register(&mut api);
     api_magnetics::register(&mut api);
+    api_mains::register(&mut api);
+    api_flyback::register(&mut api, state);
 }
