@@ -239,11 +239,23 @@ impl Context<'_> {
             .collect();
         let (vc, p_clamp) = clamp_at(&self.clamp, self.vr, self.llk, ipk, self.f);
         let rds = lp.switch_on_resistance.value * lp.on_resistance_hot_factor;
+        let coss = lp.switch_output_capacitance.value;
+        // CCM: the switch turns on at V_in + V_r. DCM: after demagnetisation the drain rings
+        // about V_in with amplitude V_r at ω = 1/√(L·C_oss); within the first quarter period the
+        // turn-on voltage follows the ring, later it is taken as V_in (no valley-switching credit).
+        // This keeps the loss continuous across the boundary.
         let v_turn_on = match cyc.mode {
             ConductionMode::Continuous => vval + self.vr,
-            _ => vval,
+            _ => {
+                let idle = (1.0 - d - cyc.demag_duty).max(0.0) / self.f;
+                let phase = if coss > 0.0 {
+                    (idle / (self.l * coss).sqrt()).min(std::f64::consts::FRAC_PI_2)
+                } else {
+                    std::f64::consts::FRAC_PI_2
+                };
+                vval + self.vr * phase.cos()
+            }
         };
-        let coss = lp.switch_output_capacitance.value;
         let tt = lp.transition_time.value;
         let overlap = 0.5 * (vval + vc) * ipk * tt * self.f + 0.5 * (vval + self.vr) * iv * tt * self.f;
         let out_caps: f64 = s

@@ -411,7 +411,7 @@ impl FlybackSpec {
         }
         match self.efficiency {
             EfficiencyModel::Estimate(x) | EfficiencyModel::Computed { start: x } => {
-                number_within("efficiency", x, 0.3, 0.99)?;
+                number_within("efficiency", x, 0.3, 1.0)?;
             }
         }
         let l = &self.losses;
