@@ -3,6 +3,7 @@
 
 mod common;
 mod flyback;
+mod mains;
 mod passives;
 mod recipes;
 mod sandbox;
