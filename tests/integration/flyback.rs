@@ -47,7 +47,10 @@ fn fernbank_12v() -> FlybackSpec {
 #[track_caller]
 fn near(actual: f64, expected: f64, rel: f64) {
     let err = (actual - expected).abs() / expected.abs().max(f64::MIN_POSITIVE);
-    assert!(err <= rel, "{actual} differs from {expected} by {err:.3e} (allowed {rel:e})");
+    assert!(
+        err <= rel,
+        "{actual} differs from {expected} by {err:.3e} (allowed {rel:e})"
+    );
 }
 
 #[test]
@@ -86,7 +89,11 @@ fn erickson_dcm_conversion_ratio() {
     let m = n * vo / vin;
     near(c.duty_cycle, m * k.sqrt(), 1e-9);
     // DCM energy per cycle: ½·L·Ipk²·f = P (Erickson & Maksimović 3rd ed., ch. 5)
-    near(0.5 * l * c.primary_current_peak.value.powi(2) * f, vo * io, 1e-9);
+    near(
+        0.5 * l * c.primary_current_peak.value.powi(2) * f,
+        vo * io,
+        1e-9,
+    );
 }
 
 #[test]
@@ -128,7 +135,10 @@ fn fernbank_12v_design_is_sound() {
     }
     let bias = d.bias.unwrap();
     assert!(bias.voltage_light_load < bias.voltage_full_load);
-    assert!(d.checks.iter().all(|c| c.status != gapwise::rules::Status::Fail));
+    assert!(d
+        .checks
+        .iter()
+        .all(|c| c.status != gapwise::rules::Status::Fail));
 }
 
 #[test]
@@ -161,11 +171,11 @@ fn finite_fields(fields: Vec<gapwise::report::Field>) {
 
 fn arbitrary_spec() -> impl Strategy<Value = FlybackSpec> {
     (
-        2.0f64..60.0,  // output voltage
-        0.2f64..3.0,   // output current
+        2.0f64..60.0,   // output voltage
+        0.2f64..3.0,    // output current
         60.0f64..140.0, // reflected voltage
-        0usize..3,     // mode
-        0.2f64..1.6,   // ripple ratio
+        0usize..3,      // mode
+        0.2f64..1.6,    // ripple ratio
         40e3f64..130e3, // frequency
         0.005f64..0.03, // leakage fraction
     )
@@ -316,8 +326,13 @@ fn bad_input_names_the_parameter() {
     assert!(e.message().contains("bulk_capacitance"), "{e}");
 
     let mut s = fernbank_12v();
-    s.rule_limits = vec![("drain_voltage_deratin".into(), gapwise::units::Quantity::number(1.0))];
-    assert!(error_of(&s).message().contains("did you mean `drain_voltage_derating`"));
+    s.rule_limits = vec![(
+        "drain_voltage_deratin".into(),
+        gapwise::units::Quantity::number(1.0),
+    )];
+    assert!(error_of(&s)
+        .message()
+        .contains("did you mean `drain_voltage_derating`"));
 }
 
 #[test]
@@ -327,7 +342,9 @@ fn script_design_reads_with_units() {
     assert_eq!(eval(&format!("{d} corner_table(d).rows")), "6");
     assert_eq!(eval(&format!("{d} overload_table(d).rows")), "4");
     assert_eq!(eval(&format!("{d} d.mode_low_line_full_load")), "\"ccm\"");
-    let q = eval_quantity(&format!("{d} flyback_corner(d, \"high_line_full_load\").drain_voltage_peak"));
+    let q = eval_quantity(&format!(
+        "{d} flyback_corner(d, \"high_line_full_load\").drain_voltage_peak"
+    ));
     assert_eq!(q.dimension(), gapwise::units::Dimension::VOLTAGE);
     assert!(eval(&format!("{d} flyback_report(d, \"t\")")).contains(gapwise::SAFETY_CAUTION));
     // a tightened rule fails and is counted for strict runs
@@ -345,21 +362,26 @@ fn script_design_reads_with_units() {
 fn script_errors_name_the_key() {
     let e = eval_err("flyback_design(#{output_voltag: 12 * V, output_current: 1 * A})").to_string();
     assert!(e.contains("did you mean `output_voltage`"), "{e}");
-    let e = eval_err("flyback_design(#{output_voltage: 12 * A, output_current: 1 * A})").to_string();
+    let e =
+        eval_err("flyback_design(#{output_voltage: 12 * A, output_current: 1 * A})").to_string();
     assert!(e.contains("output_voltage"), "{e}");
-    let e = eval_err("flyback_design(#{output_voltage: 12 * V, output_current: 0 * A})").to_string();
+    let e =
+        eval_err("flyback_design(#{output_voltage: 12 * V, output_current: 0 * A})").to_string();
     assert!(e.contains("current"), "{e}");
     let e = eval_err("flyback_design(#{output_voltage: 12 * V, output_current: 1 * A, min_line_voltage: 300 * V})").to_string();
     assert!(e.contains("min_line_voltage"), "{e}");
     let e = eval_err("flyback_design(#{outputs: [#{voltage: 5 * V, curent: 1 * A}]})").to_string();
     assert!(e.contains("did you mean `current`"), "{e}");
-    let e = eval_err("flyback_design(#{output_voltage: 12 * V, output_current: 1 * A, mode: \"cmm\"})").to_string();
+    let e =
+        eval_err("flyback_design(#{output_voltage: 12 * V, output_current: 1 * A, mode: \"cmm\"})")
+            .to_string();
     assert!(e.contains("mode"), "{e}");
 }
 
 #[test]
 fn two_outputs_share_the_secondary_current() {
-    let src = "let d = flyback_design(#{outputs: [#{voltage: 12 * V, current: 1 * A, regulated: true}, \
+    let src =
+        "let d = flyback_design(#{outputs: [#{voltage: 12 * V, current: 1 * A, regulated: true}, \
                #{voltage: 5 * V, current: 0.5 * A}]}); \
                let c = flyback_corner(d, \"low_line_full_load\"); \
                [d.output_power, c[\"output_2.current_avg\"], d.turns_ratio_2 > d.turns_ratio_1]";
@@ -368,7 +390,11 @@ fn two_outputs_share_the_secondary_current() {
 
 #[test]
 fn fernbank_12v_recipe_prints_its_tables() {
-    let source = std::fs::read_to_string(concat!(env!("CARGO_MANIFEST_DIR"), "/scripts/fernbank_12v.rhai")).unwrap();
+    let source = std::fs::read_to_string(concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/scripts/fernbank_12v.rhai"
+    ))
+    .unwrap();
     let h = host();
     let _ = h.eval(&source, "fernbank_12v.rhai").unwrap();
     let printed = h.take_printed().join("\n");

@@ -32,7 +32,11 @@ fn simulated_valley(vrms: f64, fl: f64, p: f64, c: f64, vf: f64) -> f64 {
 fn valley_agrees_with_a_time_step_simulation() {
     // cross-check against a numerical integration of C·dv/dt = −P/v with an ideal bridge
     // (independent of the energy-balance formula)
-    for (vrms, p, c) in [(90.0, 20.0, 47e-6), (85.0, 60.0, 120e-6), (230.0, 10.0, 10e-6)] {
+    for (vrms, p, c) in [
+        (90.0, 20.0, 47e-6),
+        (85.0, 60.0, 120e-6),
+        (230.0, 10.0, 10e-6),
+    ] {
         let b = bulk_capacitor(&BulkCapacitorSpec {
             line_voltage_rms: si(vrms),
             line_frequency: si(50.0),
@@ -46,7 +50,10 @@ fn valley_agrees_with_a_time_step_simulation() {
         // the energy balance lets the bridge stop conducting at the line peak; the simulated
         // capacitor follows the sine a little past it, so the formula is low (conservative)
         // by less than 1 %
-        assert!(got <= sim && sim - got < 0.01 * sim, "{vrms} V {p} W: {got} vs {sim}");
+        assert!(
+            got <= sim && sim - got < 0.01 * sim,
+            "{vrms} V {p} W: {got} vs {sim}"
+        );
     }
 }
 
@@ -89,15 +96,23 @@ fn sizing_inverts_the_valley() {
 
 #[test]
 fn bad_input() {
-    let e = eval_err("bulk_capacitor(#{line_voltage: 90 * V, input_power: 20 * W, capacitance: 1 * uF})");
+    let e = eval_err(
+        "bulk_capacitor(#{line_voltage: 90 * V, input_power: 20 * W, capacitance: 1 * uF})",
+    );
     assert!(e.to_string().contains("bulk_capacitance"), "{e}");
-    let e = eval_err("bulk_capacitor(#{line_voltage: 90 * V, input_power: -20 * W, capacitance: 47 * uF})");
+    let e = eval_err(
+        "bulk_capacitor(#{line_voltage: 90 * V, input_power: -20 * W, capacitance: 47 * uF})",
+    );
     assert!(e.to_string().contains("input_power"), "{e}");
-    let e = eval_err("bulk_capacitor(#{line_voltage: 90 * A, input_power: 20 * W, capacitance: 47 * uF})");
+    let e = eval_err(
+        "bulk_capacitor(#{line_voltage: 90 * A, input_power: 20 * W, capacitance: 47 * uF})",
+    );
     assert!(e.to_string().contains("line_voltage"), "{e}");
     let e = eval_err("bulk_capacitance_for_valley(#{line_voltage: 90 * V, input_power: 20 * W, valley_voltage: 200 * V})");
     assert!(e.to_string().contains("target_valley_voltage"), "{e}");
-    let e = eval_err("bulk_capacitor(#{line_voltag: 90 * V, input_power: 20 * W, capacitance: 47 * uF})");
+    let e = eval_err(
+        "bulk_capacitor(#{line_voltag: 90 * V, input_power: 20 * W, capacitance: 47 * uF})",
+    );
     assert!(e.to_string().contains("did you mean `line_voltage`"), "{e}");
 }
 

@@ -6,7 +6,7 @@ use super::operating_point::{show, Context, OperatingPoint};
 use super::output::{post_filter, PostFilter};
 use super::rules::flyback_rule_book;
 use super::spec::{BulkChoice, ClampKind, FlybackSpec, InputRange, Leakage, ModeTarget};
-use super::waveform::{boundary_inductance_si, boundary_duty, ConductionMode};
+use super::waveform::{boundary_duty, boundary_inductance_si, ConductionMode};
 use crate::error::{Error, ErrorKind, Result};
 use crate::mains::{bulk_capacitance_for_valley, hold_up_time};
 use crate::passives::e_series::at_or_above_value;
@@ -195,12 +195,14 @@ pub fn flyback_design(spec: &FlybackSpec) -> Result<FlybackDesign> {
         .outputs
         .iter()
         .enumerate()
-        .map(|(k, o)| match (o.post_filter_inductance, o.post_filter_capacitance) {
-            (Some(l), Some(c)) => post_filter(l, c, spec.switching_frequency)
-                .map(Some)
-                .map_err(|e| e.context(&format!("outputs[{k}]"))),
-            _ => Ok(None),
-        })
+        .map(
+            |(k, o)| match (o.post_filter_inductance, o.post_filter_capacitance) {
+                (Some(l), Some(c)) => post_filter(l, c, spec.switching_frequency)
+                    .map(Some)
+                    .map_err(|e| e.context(&format!("outputs[{k}]"))),
+                _ => Ok(None),
+            },
+        )
         .collect::<Result<_>>()?;
     let filter_gain: Vec<Option<f64>> = post_filters.iter().map(|p| p.map(|p| p.gain)).collect();
     let overshoot = spec.clamp_voltage_above_reflected.value;
@@ -240,7 +242,11 @@ pub fn flyback_design(spec: &FlybackSpec) -> Result<FlybackDesign> {
             };
             choose_inductance(m, vin, p0, vr, f)
         }
-        (None, None) => return Err(Error::missing("give a `mode` target or a `primary_inductance`")),
+        (None, None) => {
+            return Err(Error::missing(
+                "give a `mode` target or a `primary_inductance`",
+            ))
+        }
     };
     let mut design_iterations = 0;
     loop {
@@ -390,9 +396,7 @@ pub fn flyback_design(spec: &FlybackSpec) -> Result<FlybackDesign> {
             turns_ratio: nb,
             turns_per_regulated_turn: per,
             voltage_full_load: b.voltage,
-            voltage_light_load: si(
-                (reg.voltage.value + vf_light) * per - b.rectifier_drop.value,
-            ),
+            voltage_light_load: si((reg.voltage.value + vf_light) * per - b.rectifier_drop.value),
         }
     });
 
@@ -603,9 +607,7 @@ impl FlybackDesign {
 impl Record for FlybackDesign {
     fn fields(&self) -> Vec<Field> {
         let c0 = &self.corners[0];
-        let max_of = |f: &dyn Fn(&OperatingPoint) -> f64| {
-            fold_max(self.corners[..4].iter().map(f))
-        };
+        let max_of = |f: &dyn Fn(&OperatingPoint) -> f64| fold_max(self.corners[..4].iter().map(f));
         let mut v = vec![
             Field::quantity("output_power", self.output_power),
             Field::quantity("primary_inductance", self.primary_inductance),
@@ -622,10 +624,7 @@ impl Record for FlybackDesign {
         v.extend([
             Field::new("mode_low_line_full_load", c0.mode.as_str()),
             Field::new("inductance_ratio", c0.inductance_ratio),
-            Field::new(
-                "duty_cycle_max",
-                max_of(&|c: &OperatingPoint| c.duty_cycle),
-            ),
+            Field::new("duty_cycle_max", max_of(&|c: &OperatingPoint| c.duty_cycle)),
             Field::quantity("current_limit", self.current_limit),
             Field::new("current_limit_tolerance", self.current_limit_tolerance),
             Field::quantity(
@@ -645,14 +644,22 @@ impl Record for FlybackDesign {
                 c.value / self.output_power.value * 1e6,
             ));
         }
-        v.push(Field::quantity("bulk_valley_voltage", c0.bulk_valley_voltage));
-        v.push(Field::quantity("bulk_valley_needed", self.bulk_valley_needed));
+        v.push(Field::quantity(
+            "bulk_valley_voltage",
+            c0.bulk_valley_voltage,
+        ));
+        v.push(Field::quantity(
+            "bulk_valley_needed",
+            self.bulk_valley_needed,
+        ));
         if let Some(t) = self.hold_up_time {
             v.push(Field::quantity("hold_up_time", t));
         }
         v.push(Field::quantity(
             "bulk_ripple_current_rms",
-            si::<ElectricCurrent>(max_of(&|c: &OperatingPoint| c.bulk_ripple_current_rms.value)),
+            si::<ElectricCurrent>(max_of(&|c: &OperatingPoint| {
+                c.bulk_ripple_current_rms.value
+            })),
         ));
         v.push(Field::quantity(
             "drain_voltage_peak",
@@ -698,8 +705,14 @@ impl Record for FlybackDesign {
         v.push(Field::quantity("overload_power_min", si::<Power>(lo)));
         v.push(Field::quantity("overload_power_max", si::<Power>(hi)));
         if let Some(b) = &self.bias {
-            v.push(Field::quantity("bias_voltage_full_load", b.voltage_full_load));
-            v.push(Field::quantity("bias_voltage_light_load", b.voltage_light_load));
+            v.push(Field::quantity(
+                "bias_voltage_full_load",
+                b.voltage_full_load,
+            ));
+            v.push(Field::quantity(
+                "bias_voltage_light_load",
+                b.voltage_light_load,
+            ));
         }
         v.push(Field::new("worst_status", self.worst_status().to_string()));
         v.push(Field::new("failed_checks", self.failed_checks() as i64));

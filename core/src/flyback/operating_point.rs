@@ -9,9 +9,7 @@ use super::waveform::{cycle_for_power, trapezoid_avg, trapezoid_rms, ConductionM
 use crate::error::{Error, Result};
 use crate::mains::{bulk_capacitor, BulkCapacitorSpec};
 use crate::report::{Field, Record};
-use crate::units::{
-    si, ElectricCurrent, ElectricPotential, Power, Quantity, Time,
-};
+use crate::units::{si, ElectricCurrent, ElectricPotential, Power, Quantity, Time};
 
 /// Largest number of efficiency iterations before giving up.
 pub const MAX_EFFICIENCY_ITERATIONS: usize = 200;
@@ -257,7 +255,8 @@ impl Context<'_> {
             }
         };
         let tt = lp.transition_time.value;
-        let overlap = 0.5 * (vval + vc) * ipk * tt * self.f + 0.5 * (vval + self.vr) * iv * tt * self.f;
+        let overlap =
+            0.5 * (vval + vc) * ipk * tt * self.f + 0.5 * (vval + self.vr) * iv * tt * self.f;
         let out_caps: f64 = s
             .outputs
             .iter()
@@ -331,7 +330,10 @@ impl Record for OperatingPoint {
         for (k, sp) in self.secondaries.iter().enumerate() {
             v.extend(sp.fields(&format!("output_{}.", k + 1)));
         }
-        v.push(Field::quantity("total_losses", self.losses.modelled_losses()));
+        v.push(Field::quantity(
+            "total_losses",
+            self.losses.modelled_losses(),
+        ));
         v.push(Field::new(
             "efficiency_iterations",
             self.efficiency_iterations as i64,

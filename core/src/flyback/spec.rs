@@ -416,7 +416,12 @@ impl FlybackSpec {
         }
         let l = &self.losses;
         non_negative("switch_on_resistance", l.switch_on_resistance)?;
-        number_within("on_resistance_hot_factor", l.on_resistance_hot_factor, 1.0, 4.0)?;
+        number_within(
+            "on_resistance_hot_factor",
+            l.on_resistance_hot_factor,
+            1.0,
+            4.0,
+        )?;
         non_negative("switch_output_capacitance", l.switch_output_capacitance)?;
         non_negative("transition_time", l.transition_time)?;
         non_negative("controller_power", l.controller_power)?;

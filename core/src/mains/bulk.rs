@@ -96,7 +96,10 @@ pub fn bulk_capacitor(spec: &BulkCapacitorSpec) -> Result<BulkCapacitor> {
             Quantity::from_typed(spec.capacitance),
             Quantity::from_typed(spec.input_power),
             Quantity::from_typed(spec.line_voltage_rms),
-            Quantity::new(2.0 * p * (half - 0.25 / fl) / (vpk * vpk), Dimension::CAPACITANCE)
+            Quantity::new(
+                2.0 * p * (half - 0.25 / fl) / (vpk * vpk),
+                Dimension::CAPACITANCE
+            )
         )));
     }
     let (mut lo, mut hi) = (0.0, vpk);
@@ -231,8 +234,8 @@ mod tests {
         let lhs = 0.5 * 47e-6 * (vpk * vpk - vmin * vmin);
         let rhs = 20.0 * (0.01 - tc);
         assert!((lhs - rhs).abs() < 1e-6 * rhs, "{lhs} vs {rhs}");
-        let c = bulk_capacitance_for_valley(si(90.0), si(50.0), si(20.0), si(vmin), si(1.0))
-            .unwrap();
+        let c =
+            bulk_capacitance_for_valley(si(90.0), si(50.0), si(20.0), si(vmin), si(1.0)).unwrap();
         assert!((c.value - 47e-6).abs() < 1e-9);
         assert!(bulk_capacitor(&BulkCapacitorSpec {
             capacitance: si(1e-7),

@@ -93,12 +93,24 @@ static OUTPUT_KEYS: FunctionDoc = FunctionDoc {
         ParamDoc::required("voltage", Q("V"), "output voltage"),
         ParamDoc::required("current", Q("A"), "full-load current"),
         ParamDoc::with_default("rectifier_drop", Q("V"), "0.5 V", "rectifier forward drop"),
-        ParamDoc::optional("rectifier_voltage_rating", Q("V"), "rectifier reverse rating"),
+        ParamDoc::optional(
+            "rectifier_voltage_rating",
+            Q("V"),
+            "rectifier reverse rating",
+        ),
         ParamDoc::with_default("capacitance", Q("F"), "1000 uF", "output capacitance"),
         ParamDoc::with_default("esr", Q("Ω"), "30 mohm", "output capacitor ESR"),
         ParamDoc::optional("ripple_current_rating", Q("A"), "capacitor ripple rating"),
-        ParamDoc::optional("post_filter_inductance", Q("H"), "LC post filter inductance"),
-        ParamDoc::optional("post_filter_capacitance", Q("F"), "LC post filter capacitance"),
+        ParamDoc::optional(
+            "post_filter_inductance",
+            Q("H"),
+            "LC post filter inductance",
+        ),
+        ParamDoc::optional(
+            "post_filter_capacitance",
+            Q("F"),
+            "LC post filter capacitance",
+        ),
         ParamDoc::with_default("regulated", Flag, "false", "the loop regulates this output"),
     ],
     returns: "",
@@ -180,7 +192,8 @@ static REPORT: FunctionDoc = FunctionDoc {
 static BOUNDARY: FunctionDoc = FunctionDoc {
     name: "boundary_inductance",
     domain: Domain::Flyback,
-    summary: "Primary inductance at the CCM/DCM boundary, L_b = (V·D_b)²/(2·P·f), D_b = V_r/(V + V_r).",
+    summary:
+        "Primary inductance at the CCM/DCM boundary, L_b = (V·D_b)²/(2·P·f), D_b = V_r/(V + V_r).",
     params: &[
         ParamDoc::required("input_voltage", Q("V"), "input (bulk) voltage"),
         ParamDoc::required("input_power", Q("W"), "converter input power"),
@@ -222,17 +235,25 @@ fn output_from(s: &Spec, prefix_single: bool) -> Result<(OutputWinding, bool)> {
     o.rectifier_voltage_rating = s.optional_quantity("rectifier_voltage_rating")?;
     o.capacitance = s.quantity(k("output_capacitance", "capacitance"))?;
     o.esr = s.quantity(k("output_esr", "esr"))?;
-    o.ripple_current_rating = s.optional_quantity(k("output_ripple_current_rating", "ripple_current_rating"))?;
+    o.ripple_current_rating =
+        s.optional_quantity(k("output_ripple_current_rating", "ripple_current_rating"))?;
     o.post_filter_inductance = s.optional_quantity("post_filter_inductance")?;
     o.post_filter_capacitance = s.optional_quantity("post_filter_capacitance")?;
-    let regulated = if prefix_single { true } else { s.flag("regulated")? };
+    let regulated = if prefix_single {
+        true
+    } else {
+        s.flag("regulated")?
+    };
     Ok((o, regulated))
 }
 
 fn spec_from_map(m: &Map) -> Result<FlybackSpec> {
     let s = Spec::new(&DESIGN, m)?;
     let given = |k: &str| m.get(k).is_some_and(|v| !v.is_unit());
-    let (lo, hi) = (s.quantity("min_line_voltage")?, s.quantity("max_line_voltage")?);
+    let (lo, hi) = (
+        s.quantity("min_line_voltage")?,
+        s.quantity("max_line_voltage")?,
+    );
     let input = match s.text("input")?.as_str() {
         "ac" => InputRange::Ac {
             min_rms: lo,
@@ -274,8 +295,10 @@ fn spec_from_map(m: &Map) -> Result<FlybackSpec> {
                 let om = d.read_lock::<Map>().ok_or_else(|| {
                     Error::invalid(format!("flyback_design: `outputs[{i}]` must be a map"))
                 })?;
-                let os = Spec::new(&OUTPUT_KEYS, &om).map_err(|e| e.context(&format!("outputs[{i}]")))?;
-                let (o, reg) = output_from(&os, false).map_err(|e| e.context(&format!("outputs[{i}]")))?;
+                let os = Spec::new(&OUTPUT_KEYS, &om)
+                    .map_err(|e| e.context(&format!("outputs[{i}]")))?;
+                let (o, reg) =
+                    output_from(&os, false).map_err(|e| e.context(&format!("outputs[{i}]")))?;
                 if reg && !found {
                     regulated_output = i;
                     found = true;
@@ -338,9 +361,9 @@ fn spec_from_map(m: &Map) -> Result<FlybackSpec> {
     };
     let mut rule_limits = Vec::new();
     if let Some(v) = s.value("rule_limits")? {
-        let rm = v
-            .try_cast::<Map>()
-            .ok_or_else(|| Error::invalid("flyback_design: `rule_limits` must be a map of rule id → limit"))?;
+        let rm = v.try_cast::<Map>().ok_or_else(|| {
+            Error::invalid("flyback_design: `rule_limits` must be a map of rule id → limit")
+        })?;
         for (id, lim) in rm.iter() {
             rule_limits.push((id.to_string(), dynamic_to_quantity(lim, id, None)?));
         }
@@ -423,11 +446,16 @@ pub(crate) fn register(api: &mut Api, state: &Arc<HostState>) {
     def!(api, &CORNER, |d: ScriptFlyback,
                         name: ImmutableString|
      -> ScriptResult<ScriptRecord> {
-        Ok(ScriptRecord::from_record("operating_point", &corner_of(&d, &name)?))
+        Ok(ScriptRecord::from_record(
+            "operating_point",
+            &corner_of(&d, &name)?,
+        ))
     });
     def!(api, &LOSSES, |d: ScriptFlyback,
                         name: ImmutableString|
-     -> ScriptResult<Table> { Ok(corner_of(&d, &name)?.losses.table()) });
+     -> ScriptResult<Table> {
+        Ok(corner_of(&d, &name)?.losses.table())
+    });
     def!(api, &OVERLOAD, |d: ScriptFlyback| d.design.overload_table());
     let st = state.clone();
     def!(api, &CHECKS, move |d: ScriptFlyback| checks_to_array(
@@ -437,21 +465,21 @@ pub(crate) fn register(api: &mut Api, state: &Arc<HostState>) {
     def!(api, &REPORT, |d: ScriptFlyback, title: ImmutableString| {
         design_report_markdown(&d.design, &title)
     });
-    def!(api, &BOUNDARY, |v: Dynamic,
-                          p: Dynamic,
-                          vr: Dynamic,
-                          f: Dynamic|
-     -> ScriptResult<crate::units::Quantity> {
-        let l: Inductance = lift((|| {
-            boundary_inductance(
-                dynamic_to_typed(&v, "input_voltage")?,
-                dynamic_to_typed(&p, "input_power")?,
-                dynamic_to_typed(&vr, "reflected_voltage")?,
-                dynamic_to_typed(&f, "switching_frequency")?,
-            )
-        })())?;
-        Ok(crate::units::Quantity::from_typed(l))
-    });
+    def!(
+        api,
+        &BOUNDARY,
+        |v: Dynamic, p: Dynamic, vr: Dynamic, f: Dynamic| -> ScriptResult<crate::units::Quantity> {
+            let l: Inductance = lift((|| {
+                boundary_inductance(
+                    dynamic_to_typed(&v, "input_voltage")?,
+                    dynamic_to_typed(&p, "input_power")?,
+                    dynamic_to_typed(&vr, "reflected_voltage")?,
+                    dynamic_to_typed(&f, "switching_frequency")?,
+                )
+            })())?;
+            Ok(crate::units::Quantity::from_typed(l))
+        }
+    );
     def!(api, &POST, |l: Dynamic,
                       c: Dynamic,
                       f: Dynamic|
