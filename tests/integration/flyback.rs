@@ -405,3 +405,18 @@ fn fernbank_12v_recipe_prints_its_tables() {
         println!("{printed}");
     }
 }
+
+#[test]
+fn post_filter_corner_and_attenuation() {
+    // hand calculation of the same formula, not a reference test: 1 µH with 100 µF resonates
+    // at 15.915 kHz; at 65 kHz |1 − (f/f0)²| = 15.68, i.e. 23.91 dB
+    super::common::check_near(
+        eval_quantity("post_filter(1 * uH, 100 * uF, 65 * kHz).corner_frequency"),
+        "15.915 kHz",
+        1e-4,
+    );
+    let db = eval("post_filter(1 * uH, 100 * uF, 65 * kHz).attenuation");
+    assert!(db.starts_with("23.9"), "{db}");
+    let e = eval_err("post_filter(1 * uH, 100 * uF, 15.9 * kHz)").to_string();
+    assert!(e.contains("resonates"), "{e}");
+}

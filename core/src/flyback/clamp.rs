@@ -135,3 +135,27 @@ impl Record for ClampDesign {
         v
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn rcd_resistor_holds_the_design_clamp_voltage_at_the_worst_case() {
+        let (vr, over, llk, ipk, f) = (100.0, 50.0, 30e-6, 0.8, 65e3);
+        let c = design_clamp(ClampKind::Rcd, vr, over, llk, ipk, f);
+        let (vc, p) = clamp_at(&c, vr, llk, ipk, f);
+        assert!((vc - 150.0).abs() < 1e-9, "{vc}");
+        assert!((p - c.power.value).abs() < 1e-12);
+        // below the worst case the RCD clamp voltage falls, but never below V_r
+        let (vc_low, p_low) = clamp_at(&c, vr, llk, ipk / 2.0, f);
+        assert!(vc_low < vc && vc_low > vr && p_low < p);
+        // the Zener clamp holds its voltage
+        let z = design_clamp(ClampKind::Zener, vr, over, llk, ipk, f);
+        assert_eq!(clamp_at(&z, vr, llk, ipk / 2.0, f).0, 150.0);
+        // public formula agrees with the sizing (hand check of the same formula)
+        let p_pub = clamp_dissipation(si(llk), si(ipk), si(150.0), si(vr), si(f)).unwrap();
+        assert!((p_pub.value - c.power.value).abs() < 1e-12);
+        assert!(clamp_dissipation(si(llk), si(ipk), si(90.0), si(vr), si(f)).is_err());
+    }
+}

@@ -481,16 +481,48 @@ fn at_current_limit(
             _ => break,
         }
     }
-    for _ in 0..60 {
-        let mid = 0.5 * (lo + hi);
+    // Illinois (modified regula falsi) on the load: the peak current rises smoothly with load
+    let (mut flo, mut fhi) = (g(lo)?.map(|x| x.0), g(hi)?.map(|x| x.0));
+    let mut side = 0i8;
+    for _ in 0..100 {
+        let mid = match (flo, fhi) {
+            (Some(a), Some(b)) if b > a => {
+                let m = hi - b * (hi - lo) / (b - a);
+                if m > lo && m < hi {
+                    m
+                } else {
+                    0.5 * (lo + hi)
+                }
+            }
+            _ => 0.5 * (lo + hi),
+        };
         match g(mid)? {
             Some((d, op)) if d < 0.0 => {
                 lo = mid;
+                flo = Some(d);
                 best = op;
+                if side == -1 {
+                    fhi = fhi.map(|b| b / 2.0);
+                }
+                side = -1;
+                if d.abs() <= 1e-12 * limit {
+                    break;
+                }
             }
-            _ => hi = mid,
+            Some((d, _)) => {
+                hi = mid;
+                fhi = Some(d);
+                if side == 1 {
+                    flo = flo.map(|a| a / 2.0);
+                }
+                side = 1;
+            }
+            None => {
+                hi = mid;
+                fhi = None;
+            }
         }
-        if hi - lo < 1e-10 * hi {
+        if hi - lo < 1e-12 * hi {
             break;
         }
     }
@@ -624,6 +656,16 @@ impl Record for FlybackDesign {
         v.extend([
             Field::new("mode_low_line_full_load", c0.mode.as_str()),
             Field::new("inductance_ratio", c0.inductance_ratio),
+            // load (fraction of full) below which the supply is in DCM, at low and high line;
+            // 1 or more: DCM at every load (converter input power ratio, an approximation of load)
+            Field::new(
+                "dcm_below_load_low_line",
+                c0.boundary_power.value / c0.converter_input_power.value,
+            ),
+            Field::new(
+                "dcm_below_load_high_line",
+                self.corners[2].boundary_power.value / self.corners[2].converter_input_power.value,
+            ),
             Field::new("duty_cycle_max", max_of(&|c: &OperatingPoint| c.duty_cycle)),
             Field::quantity("current_limit", self.current_limit),
             Field::new("current_limit_tolerance", self.current_limit_tolerance),
