@@ -420,3 +420,14 @@ fn post_filter_corner_and_attenuation() {
     let e = eval_err("post_filter(1 * uH, 100 * uF, 15.9 * kHz)").to_string();
     assert!(e.contains("resonates"), "{e}");
 }
+
+#[test]
+fn turns_ratio_sets_the_reflected_voltage() {
+    // V_r = n·(V_out + V_f): 8 × (12 V + 0.5 V) = 100 V (definition)
+    let q = eval_quantity(
+        "flyback_design(#{output_voltage: 12 * V, output_current: 1 * A, turns_ratio: 8}).reflected_voltage",
+    );
+    super::common::check_near(q, "100 V", 1e-12);
+    let e = eval_err("flyback_design(#{output_voltage: 12 * V, output_current: 1 * A, turns_ratio: 8, reflected_voltage: 90 * V})").to_string();
+    assert!(e.contains("turns_ratio"), "{e}");
+}

@@ -60,7 +60,8 @@ static DESIGN: FunctionDoc = FunctionDoc {
         ParamDoc::with_default("ripple_ratio", Number, "0.8", "CCM: ΔI / I_mid at low line, full load (0.05 … 1.99)"),
         ParamDoc::with_default("dcm_margin", Number, "0.1", "DCM: relative margin below the boundary inductance"),
         ParamDoc::optional("primary_inductance", Q("H"), "a given primary inductance"),
-        ParamDoc::with_default("reflected_voltage", Q("V"), "100 V", "reflected voltage of the regulated output"),
+        ParamDoc::with_default("reflected_voltage", Q("V"), "100 V", "reflected voltage of the regulated output, n·(V_out + V_rectifier)"),
+        ParamDoc::optional("turns_ratio", Number, "primary to regulated-secondary turns ratio N_p/N_s (instead of reflected_voltage)"),
         ParamDoc::with_default("switch_voltage_rating", Q("V"), "650 V", "switch drain-source rating"),
         ParamDoc::with_default("clamp", Text, "rcd", "\"rcd\" or \"zener\""),
         ParamDoc::with_default("clamp_voltage_above_reflected", Q("V"), "50 V", "clamp overshoot above the reflected voltage at the worst case"),
@@ -77,7 +78,7 @@ static DESIGN: FunctionDoc = FunctionDoc {
         ParamDoc::with_default("light_load_fraction", Number, "0.1", "light load as a fraction of full load"),
         ParamDoc::optional("hold_up_end_voltage", Q("V"), "bulk voltage ending hold-up; else where the duty limit is reached"),
         ParamDoc::optional("hold_up_time", Q("s"), "required hold-up time (adds its rule)"),
-        ParamDoc::optional("rule_limits", ParamKind::Map, "rule id → limit, overriding the default rule book"),
+        ParamDoc::optional("rule_limits", ParamKind::Map, "rule id → limit, overriding the default rule book: duty_cycle_limit (number), drain_voltage_derating (V), rectifier_voltage_derating (reverse voltage over rating), output_capacitor_ripple_current and bulk_capacitor_ripple_current (ripple over rating), mode_target (L over the boundary inductance), bulk_valley_minimum (V), hold_up_time (s)"),
     ],
     returns: "a FlybackDesign; its summary fields read as properties (d.primary_inductance)",
     example: DESIGN_EXAMPLE,
@@ -368,6 +369,19 @@ fn spec_from_map(m: &Map) -> Result<FlybackSpec> {
             rule_limits.push((id.to_string(), dynamic_to_quantity(lim, id, None)?));
         }
     }
+    let reflected_voltage = match s.optional_number("turns_ratio")? {
+        Some(n) => {
+            if given("reflected_voltage") {
+                return Err(Error::invalid(
+                    "flyback_design: give `reflected_voltage` (V) or `turns_ratio`, not both",
+                ));
+            }
+            crate::units::validate::positive_number("turns_ratio", n)?;
+            let o = &outputs[regulated_output.min(outputs.len().saturating_sub(1))];
+            (o.voltage + o.rectifier_drop) * n
+        }
+        None => s.quantity("reflected_voltage")?,
+    };
     Ok(FlybackSpec {
         input,
         bulk,
@@ -383,7 +397,7 @@ fn spec_from_map(m: &Map) -> Result<FlybackSpec> {
         max_duty_cycle: s.number("max_duty_cycle")?,
         mode,
         primary_inductance,
-        reflected_voltage: s.quantity("reflected_voltage")?,
+        reflected_voltage,
         switch_voltage_rating: s.quantity("switch_voltage_rating")?,
         clamp,
         clamp_voltage_above_reflected: s.quantity("clamp_voltage_above_reflected")?,
