@@ -434,3 +434,14 @@ fn turns_ratio_sets_the_reflected_voltage() {
     let e = eval_err("flyback_design(#{output_voltage: 12 * V, output_current: 1 * A, turns_ratio: 8, reflected_voltage: 90 * V})").to_string();
     assert!(e.contains("turns_ratio"), "{e}");
 }
+
+#[test]
+fn single_output_errors_name_the_script_keys() {
+    let e =
+        eval_err("flyback_design(#{output_voltage: 12 * V, output_current: -1 * A})").to_string();
+    assert!(e.contains("`output_current`") && e.contains(" A"), "{e}");
+    let e = eval_err("flyback_design(#{output_voltage: 12 * V, output_current: 1 * A, output_capacitance: 0 * uF})").to_string();
+    assert!(e.contains("`output_capacitance`"), "{e}");
+    let e = eval_err("flyback_design(#{input: \"dc\", min_line_voltage: 400 * V, max_line_voltage: 300 * V, output_voltage: 12 * V, output_current: 1 * A})").to_string();
+    assert!(e.contains("min_line_voltage"), "{e}");
+}

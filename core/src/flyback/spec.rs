@@ -301,11 +301,11 @@ impl FlybackSpec {
                 }
             }
             InputRange::Dc { min, max } => {
-                positive("min_input_voltage", min)?;
-                positive("max_input_voltage", max)?;
+                positive("min_line_voltage", min)?;
+                positive("max_line_voltage", max)?;
                 if min > max {
                     return Err(Error::invalid(format!(
-                        "`min_input_voltage` ({}) is above `max_input_voltage` ({})",
+                        "`min_line_voltage` ({}) of the DC bus is above `max_line_voltage` ({})",
                         Quantity::from_typed(min),
                         Quantity::from_typed(max)
                     )));

@@ -419,6 +419,28 @@ fn spec_from_map(m: &Map) -> Result<FlybackSpec> {
     })
 }
 
+/// With a single output given by top-level keys, errors name those keys, not `outputs[0].…`.
+fn single_output_names(e: Error, single: bool) -> Error {
+    if !single {
+        return e;
+    }
+    let mut msg = e.message().to_string();
+    for (native, key) in [
+        ("outputs[0].voltage", "output_voltage"),
+        ("outputs[0].current", "output_current"),
+        ("outputs[0].capacitance", "output_capacitance"),
+        ("outputs[0].esr", "output_esr"),
+        (
+            "outputs[0].ripple_current_rating",
+            "output_ripple_current_rating",
+        ),
+        ("outputs[0].", ""),
+    ] {
+        msg = msg.replace(native, key);
+    }
+    Error::new(e.kind(), msg)
+}
+
 fn corner_of(d: &ScriptFlyback, name: &str) -> ScriptResult<crate::flyback::OperatingPoint> {
     d.design.corner(name).cloned().ok_or_else(|| {
         let names: Vec<&str> = d.design.corners.iter().map(|c| c.corner.as_str()).collect();
@@ -448,7 +470,11 @@ pub(crate) fn register(api: &mut Api, state: &Arc<HostState>) {
 
     def!(api, &DESIGN, |m: Map| -> ScriptResult<ScriptFlyback> {
         let spec = lift(spec_from_map(&m))?;
-        let d = lift(flyback_design(&spec).map_err(|e| e.context("flyback_design")))?;
+        let single = !m.contains_key("outputs");
+        let d = lift(
+            flyback_design(&spec)
+                .map_err(|e| single_output_names(e, single).context("flyback_design")),
+        )?;
         let summary = ScriptRecord::from_record("flyback_design", &d);
         Ok(ScriptFlyback {
             design: Arc::new(d),
