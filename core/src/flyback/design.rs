@@ -638,8 +638,15 @@ impl FlybackDesign {
 
 impl Record for FlybackDesign {
     fn fields(&self) -> Vec<Field> {
-        let c0 = &self.corners[0];
-        let max_of = |f: &dyn Fn(&OperatingPoint) -> f64| fold_max(self.corners[..4].iter().map(f));
+        // a design from flyback_design always has six corners; a hand-built one may not
+        let (Some(c0), Some(c2)) = (self.corners.first(), self.corners.get(2)) else {
+            return vec![
+                Field::quantity("output_power", self.output_power),
+                Field::quantity("primary_inductance", self.primary_inductance),
+            ];
+        };
+        let max_of =
+            |f: &dyn Fn(&OperatingPoint) -> f64| fold_max(self.corners.iter().take(4).map(f));
         let mut v = vec![
             Field::quantity("output_power", self.output_power),
             Field::quantity("primary_inductance", self.primary_inductance),
@@ -664,7 +671,7 @@ impl Record for FlybackDesign {
             ),
             Field::new(
                 "dcm_below_load_high_line",
-                self.corners[2].boundary_power.value / self.corners[2].converter_input_power.value,
+                c2.boundary_power.value / c2.converter_input_power.value,
             ),
             Field::new("duty_cycle_max", max_of(&|c: &OperatingPoint| c.duty_cycle)),
             Field::quantity("current_limit", self.current_limit),

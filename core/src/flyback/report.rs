@@ -32,8 +32,10 @@ pub fn design_report_markdown(design: &FlybackDesign, title: &str) -> String {
     }
     let _ = writeln!(s, "\n## Corners\n");
     s.push_str(&markdown_table(&design.corner_table()));
-    let _ = writeln!(s, "\n## Loss budget at low line, full load\n");
-    s.push_str(&markdown_table(&design.corners[0].losses.table()));
+    if let Some(c) = design.corners.first() {
+        let _ = writeln!(s, "\n## Loss budget at {}\n", c.corner.replace('_', " "));
+        s.push_str(&markdown_table(&c.losses.table()));
+    }
     let _ = writeln!(s, "\n## Output power at the current limit\n");
     s.push_str(&markdown_table(&design.overload_table()));
     let _ = writeln!(s, "\n## Design rules\n");
