@@ -203,7 +203,13 @@ proptest! {
 
     #[test]
     fn corner_invariants(spec in arbitrary_spec()) {
-        let d = flyback_design(&spec).unwrap();
+        // a large leakage at a high current makes the clamp loss grow faster than the power:
+        // that design is refused with a clear error, never a panic or NaN
+        let d = match flyback_design(&spec) {
+            Ok(d) => d,
+            Err(e) if e.message().contains("losses run away") => return Ok(()),
+            Err(e) => panic!("{e}"),
+        };
         finite_fields(d.fields());
         let l = d.primary_inductance.value;
         let f = d.switching_frequency.value;

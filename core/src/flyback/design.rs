@@ -262,7 +262,22 @@ pub fn flyback_design(spec: &FlybackSpec) -> Result<FlybackDesign> {
             turns: turns.clone(),
             filter_gain: filter_gain.clone(),
         };
-        let op = ctx.evaluate("low_line_full_load", line_lo, 1.0)?;
+        let op = match ctx.evaluate("low_line_full_load", line_lo, 1.0) {
+            Ok(op) => op,
+            // while sizing the bulk capacitor for a valley, a first guess from the starting
+            // efficiency may be too small for the real input power: grow it and go on
+            Err(e)
+                if e.kind() == ErrorKind::Infeasible
+                    && e.message().contains("`bulk_capacitance`")
+                    && is_ac
+                    && matches!(spec.bulk, BulkChoice::TargetValley(_))
+                    && design_iterations < 100 =>
+            {
+                c_bulk *= 2.0;
+                continue;
+            }
+            Err(e) => return Err(e),
+        };
         let p_dc = op.converter_input_power.value;
         let new_c = size_bulk(p_dc)?;
         let vin = match spec.bulk {
@@ -276,7 +291,7 @@ pub fn flyback_design(spec: &FlybackSpec) -> Result<FlybackDesign> {
         let change = (new_l / l - 1.0).abs() + (new_c / c_bulk - 1.0).abs();
         l = new_l;
         c_bulk = new_c;
-        if change < 1e-10 {
+        if change < 1e-8 {
             break;
         }
         if design_iterations >= 100 {
@@ -454,12 +469,13 @@ fn at_current_limit(
             Err(e) => Err(e),
         }
     };
-    let mut lo = 1e-3;
+    // the limit is above the full-load peak, so the light load is below it
+    let mut lo = ctx.spec.light_load_fraction;
     let mut best = match g(lo)? {
         Some((d, op)) if d < 0.0 => op,
         _ => {
             return Err(Error::infeasible(format!(
-                "corner {name}: the current limit {} is reached below 0.1 % of full load",
+                "corner {name}: the current limit {} is reached below light load",
                 Quantity::new(limit, Dimension::CURRENT)
             )))
         }

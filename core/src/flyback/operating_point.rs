@@ -123,10 +123,13 @@ impl Context<'_> {
         let mut front = 0.0;
         let mut iterations = 0;
         let mut residual = f64::INFINITY;
-        let mut last = None;
+        let mut last: Option<OperatingPoint> = None;
+        let mut last_step = f64::INFINITY;
+        let mut first_p_line = None;
         while iterations < MAX_EFFICIENCY_ITERATIONS {
             iterations += 1;
             let p_line = pout / eta;
+            first_p_line.get_or_insert(p_line);
             let p_dc = p_line - front;
             if !(p_dc > 0.0 && p_dc.is_finite()) {
                 return Err(Error::infeasible(format!(
@@ -142,7 +145,16 @@ impl Context<'_> {
                         capacitance: si(self.bulk_capacitance),
                         bridge_diode_drop: s.bridge_diode_drop,
                     })
-                    .map_err(|e| e.context(&format!("corner {corner}")))?;
+                    .map_err(|e| {
+                        // the bulk capacitor gave out while the iteration was pushing the
+                        // input power up: that is the losses running away
+                        match (&last, first_p_line) {
+                            (Some(op), Some(p0)) if !fixed && p_line > 1.5 * p0 => {
+                                runaway(corner, &op.losses, pout)
+                            }
+                            _ => e.context(&format!("corner {corner}")),
+                        }
+                    })?;
                     (
                         b.peak_voltage.value,
                         b.valley_voltage.value,
@@ -167,6 +179,13 @@ impl Context<'_> {
             let front_new = b.bridge.value + b.bulk_capacitor.value;
             let total = b.modelled_losses().value;
             let eta_new = if fixed { eta } else { pout / (pout + total) };
+            // a converging iteration shrinks its steps; growing steps mean the losses rise
+            // faster than the power (no efficiency satisfies the model)
+            let step = (eta_new - eta).abs();
+            if !fixed && iterations >= 4 && step > 1.2 * last_step && step > 1e-6 {
+                return Err(runaway(corner, &b, pout));
+            }
+            last_step = step;
             residual = (eta_new - eta).abs() + (front_new - front).abs() / p_line;
             eta = eta_new;
             front = front_new;
@@ -341,6 +360,31 @@ impl Record for OperatingPoint {
         v.push(Field::new("efficiency_residual", self.efficiency_residual));
         v
     }
+}
+
+#[cold]
+fn runaway(corner: &str, b: &LossBudget, pout: f64) -> Error {
+    let (name, worst) = b
+        .items()
+        .into_iter()
+        .skip(1)
+        .fold(
+            ("", 0.0),
+            |acc, (n, p)| {
+                if p.value > acc.1 {
+                    (n, p.value)
+                } else {
+                    acc
+                }
+            },
+        );
+    Error::infeasible(format!(
+        "corner {corner}: the losses run away ({} of losses for {} out, the largest `{name}` at \
+         {}); the leakage inductance, the currents or the switch are unsuited to this power",
+        Quantity::new(b.modelled_losses().value, crate::units::Dimension::POWER),
+        Quantity::new(pout, crate::units::Dimension::POWER),
+        Quantity::new(worst, crate::units::Dimension::POWER),
+    ))
 }
 
 /// Shows a quantity for messages.
