@@ -451,3 +451,16 @@ fn single_output_errors_name_the_script_keys() {
     let e = eval_err("flyback_design(#{input: \"dc\", min_line_voltage: 400 * V, max_line_voltage: 300 * V, output_voltage: 12 * V, output_current: 1 * A})").to_string();
     assert!(e.contains("min_line_voltage"), "{e}");
 }
+
+#[test]
+fn runaway_losses_are_refused() {
+    // a leakage energy that grows faster than the power it costs has no efficiency
+    let mut s = fernbank_12v();
+    s.leakage = Leakage::Value(si(600e-6));
+    let e = error_of(&s);
+    assert_eq!(e.kind(), ErrorKind::Infeasible);
+    assert!(
+        e.message().contains("losses run away") && e.message().contains("`clamp`"),
+        "{e}"
+    );
+}
