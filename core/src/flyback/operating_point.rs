@@ -183,7 +183,7 @@ impl Context<'_> {
             // faster than the power (no efficiency satisfies the model)
             let step = (eta_new - eta).abs();
             if !fixed && iterations >= 4 && step > 1.2 * last_step && step > 1e-6 {
-                return Err(runaway(corner, &b, pout));
+                return Err(runaway(corner, b, pout));
             }
             last_step = step;
             residual = (eta_new - eta).abs() + (front_new - front).abs() / p_line;
