@@ -639,6 +639,13 @@ impl FlybackDesign {
         }
         t
     }
+    /// The highest primary peak current of any corner: at the highest current limit with the
+    /// sense-delay overshoot at high line. The transformer's peak flux is checked at this current.
+    pub fn primary_current_peak_at_limit(&self) -> ElectricCurrent {
+        si(fold_max(
+            self.corners.iter().map(|c| c.primary_current_peak.value),
+        ))
+    }
     /// The worst rule status.
     pub fn worst_status(&self) -> Status {
         worst_status(&self.checks)
@@ -691,6 +698,10 @@ impl Record for FlybackDesign {
             ),
             Field::new("duty_cycle_max", max_of(&|c: &OperatingPoint| c.duty_cycle)),
             Field::quantity("current_limit", self.current_limit),
+            Field::quantity(
+                "primary_current_peak_at_limit",
+                self.primary_current_peak_at_limit(),
+            ),
             Field::new("current_limit_tolerance", self.current_limit_tolerance),
             Field::quantity(
                 "primary_current_peak",
