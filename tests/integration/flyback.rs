@@ -464,3 +464,28 @@ fn runaway_losses_are_refused() {
         "{e}"
     );
 }
+
+#[test]
+fn inductance_meets_the_mode_target() {
+    // L/L_b at low line, full load is what each target asks (the definitions of the targets:
+    // CCM ripple ratio r gives L = 2·L_b/r, DCM margin m gives (1 − m)·L_b)
+    for (mode, ratio) in [
+        (ModeTarget::Continuous { ripple_ratio: 0.8 }, 2.5),
+        (ModeTarget::Discontinuous { margin: 0.1 }, 0.9),
+        (ModeTarget::Boundary, 1.0),
+    ] {
+        let mut s = fernbank_12v();
+        s.mode = Some(mode);
+        let d = flyback_design(&s).unwrap();
+        near(d.corners[0].inductance_ratio, ratio, 1e-6);
+        if ratio < 1.0 {
+            for c in &d.corners[..4] {
+                assert_eq!(c.mode, ConductionMode::Discontinuous, "{}", c.corner);
+            }
+        }
+        let mode_check = d.checks.iter().find(|c| c.id == "mode_target").unwrap();
+        assert_ne!(mode_check.status, gapwise::rules::Status::Fail);
+        // the sized bulk capacitor is an E12 value holding the valley at or above 80 V
+        assert!(d.corners[0].bulk_valley_voltage.value >= 80.0 * (1.0 - 1e-9));
+    }
+}

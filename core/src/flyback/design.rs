@@ -129,9 +129,9 @@ fn choose_inductance(mode: ModeTarget, vin: f64, p: f64, vr: f64, f: f64) -> f64
 
 /// Designs a flyback power stage from a specification.
 ///
-/// Method: (1) the primary inductance and, with a target valley, the bulk capacitor are chosen
-/// at low line and full load, at the bulk valley, iterating with the efficiency until both
-/// settle. Mode targets: DCM L = (1 − margin)·L_b; boundary L = L_b; CCM with ripple ratio r,
+/// Method: (1) the primary inductance and, with a target valley, the bulk capacitor (rounded
+/// up to E12) are chosen at low line and full load, at the bulk valley that capacitor gives,
+/// iterating with the efficiency until both settle. Mode targets: DCM L = (1 − margin)·L_b; boundary L = L_b; CCM with ripple ratio r,
 /// L = 2·L_b/r, where L_b = (V·D_b)²/(2·P·f) and D_b = V_r/(V + V_r). (2) The current limit
 /// (given, or 10 % above the low-line full-load peak at its low tolerance) is checked against
 /// that peak. (3) The clamp is sized at the highest limit plus the sense-delay overshoot at
@@ -248,6 +248,11 @@ pub fn flyback_design(spec: &FlybackSpec) -> Result<FlybackDesign> {
             ))
         }
     };
+    let tol = spec.current_limit_tolerance;
+    let delay = spec.current_sense_delay.value;
+    // the clamp is sized at the worst case, which depends on the current limit, which depends
+    // on the peak current: it takes part in the iteration
+    let mut clamp = fixed_clamp;
     let mut design_iterations = 0;
     loop {
         design_iterations += 1;
@@ -258,7 +263,7 @@ pub fn flyback_design(spec: &FlybackSpec) -> Result<FlybackDesign> {
             l,
             llk: leakage_of(spec, l),
             bulk_capacitance: c_bulk,
-            clamp: fixed_clamp,
+            clamp,
             turns: turns.clone(),
             filter_gain: filter_gain.clone(),
         };
@@ -279,18 +284,41 @@ pub fn flyback_design(spec: &FlybackSpec) -> Result<FlybackDesign> {
             Err(e) => return Err(e),
         };
         let p_dc = op.converter_input_power.value;
-        let new_c = size_bulk(p_dc)?;
-        let vin = match spec.bulk {
-            BulkChoice::TargetValley(v) if is_ac => v.value,
-            _ => op.bulk_valley_voltage.value,
-        };
+        // a sized capacitor is rounded up to E12, and the inductance is chosen at the valley
+        // the rounded capacitor really gives; after a few steps the capacitor only grows, so the
+        // discrete choice cannot oscillate between two values
+        let mut new_c = size_bulk(p_dc)?;
+        if is_ac && matches!(spec.bulk, BulkChoice::TargetValley(_)) {
+            new_c = at_or_above_value(new_c, ESeries::E12)?;
+            if design_iterations > 3 {
+                new_c = new_c.max(c_bulk);
+            }
+        }
+        let vin = op.bulk_valley_voltage.value;
         let new_l = match (spec.primary_inductance, spec.mode) {
             (None, Some(m)) => choose_inductance(m, vin, p_dc, vr, f),
             _ => l,
         };
-        let change = (new_l / l - 1.0).abs() + (new_c / c_bulk - 1.0).abs();
+        let ilim = spec.current_limit.map(|i| i.value).unwrap_or(
+            (1.0 + CURRENT_LIMIT_HEADROOM) * op.primary_current_peak.value / (1.0 - tol),
+        );
+        let new_clamp = design_clamp(
+            spec.clamp,
+            vr,
+            overshoot,
+            leakage_of(spec, new_l),
+            ilim * (1.0 + tol) + vpk_hi * delay / new_l,
+            f,
+        );
+        let clamp_change = if clamp.power.value > 0.0 {
+            (new_clamp.power.value / clamp.power.value - 1.0).abs()
+        } else {
+            new_clamp.power.value.min(1.0)
+        };
+        let change = (new_l / l - 1.0).abs() + (new_c / c_bulk - 1.0).abs() + clamp_change;
         l = new_l;
         c_bulk = new_c;
+        clamp = new_clamp;
         if change < 1e-8 {
             break;
         }
@@ -300,9 +328,6 @@ pub fn flyback_design(spec: &FlybackSpec) -> Result<FlybackDesign> {
             )));
         }
     }
-    if is_ac && matches!(spec.bulk, BulkChoice::TargetValley(_)) {
-        c_bulk = at_or_above_value(c_bulk, ESeries::E12)?;
-    }
     let llk = leakage_of(spec, l);
     let mut ctx = Context {
         spec,
@@ -311,7 +336,7 @@ pub fn flyback_design(spec: &FlybackSpec) -> Result<FlybackDesign> {
         l,
         llk,
         bulk_capacitance: c_bulk,
-        clamp: fixed_clamp,
+        clamp,
         turns: turns.clone(),
         filter_gain,
     };
@@ -319,7 +344,6 @@ pub fn flyback_design(spec: &FlybackSpec) -> Result<FlybackDesign> {
     // (2) current limit
     let first = ctx.evaluate("low_line_full_load", line_lo, 1.0)?;
     let ipk_design = first.primary_current_peak.value;
-    let tol = spec.current_limit_tolerance;
     let ilim = match spec.current_limit {
         Some(i) => {
             let low = i.value * (1.0 - tol);
@@ -349,7 +373,6 @@ pub fn flyback_design(spec: &FlybackSpec) -> Result<FlybackDesign> {
     };
     let ilim_min = ilim * (1.0 - tol);
     let ilim_max = ilim * (1.0 + tol);
-    let delay = spec.current_sense_delay.value;
 
     // (3) clamp at the worst case
     let ipk_worst = ilim_max + vpk_hi * delay / l;
