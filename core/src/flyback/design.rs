@@ -767,7 +767,13 @@ impl Record for FlybackDesign {
             )),
         ));
         v.extend(self.clamp.fields());
-        for k in 0..self.turns_ratios.len() {
+        let outputs = self
+            .corners
+            .iter()
+            .map(|c| c.secondaries.len())
+            .min()
+            .unwrap_or(0);
+        for k in 0..outputs {
             v.push(Field::quantity(
                 format!("rectifier_reverse_voltage_{}", k + 1),
                 si::<ElectricPotential>(fold_max(
@@ -782,7 +788,7 @@ impl Record for FlybackDesign {
                     c.secondaries[k].ripple_voltage_pp.value
                 })),
             ));
-            if let Some(p) = &self.post_filters[k] {
+            if let Some(Some(p)) = self.post_filters.get(k) {
                 v.extend(p.fields(&format!("output_{}.", k + 1)));
             }
         }
