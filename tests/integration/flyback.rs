@@ -489,3 +489,20 @@ fn inductance_meets_the_mode_target() {
         assert!(d.corners[0].bulk_valley_voltage.value >= 80.0 * (1.0 - 1e-9));
     }
 }
+
+#[test]
+fn zener_clamp_and_dc_bus() {
+    // a Zener clamp holds V_r + overshoot at every corner (definition of the clamp)
+    let d = eval(
+        "let d = flyback_design(#{output_voltage: 12 * V, output_current: 1 * A, clamp: \"zener\"}); \
+         let t = corner_table(d); t.column(\"clamp_voltage\")",
+    );
+    assert_eq!(d, "[150 V, 150 V, 150 V, 150 V, 150 V, 150 V]");
+    // a DC bus has no bulk ripple: peak and valley are the bus voltage
+    let q = eval(
+        "let d = flyback_design(#{input: \"dc\", min_line_voltage: 300 * V, max_line_voltage: 400 * V, \
+         output_voltage: 12 * V, output_current: 1 * A}); \
+         let c = flyback_corner(d, \"high_line_full_load\"); [c.bulk_peak_voltage, c.bulk_valley_voltage]",
+    );
+    assert_eq!(q, "[400 V, 400 V]");
+}
