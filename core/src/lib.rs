@@ -28,7 +28,9 @@
 
 pub mod emi;
 mod error;
+pub mod flyback;
 pub mod magnetics;
+pub mod mains;
 pub mod passives;
 pub mod report;
 pub mod rules;

@@ -3,6 +3,8 @@
 
 mod common;
 mod emi;
+mod flyback;
+mod mains;
 mod passives;
 mod readme;
 mod recipes;

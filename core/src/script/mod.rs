@@ -6,7 +6,9 @@
 
 mod api_emi;
 mod api_family;
+mod api_flyback;
 mod api_magnetics;
+mod api_mains;
 mod api_passives;
 mod api_rules;
 mod api_safety;
@@ -79,4 +81,6 @@ pub(crate) fn register_all(
     api_magnetics::register(&mut api);
     api_safety::register(&mut api, state);
     api_emi::register(&mut api, state);
+    api_mains::register(&mut api);
+    api_flyback::register(&mut api, state);
 }

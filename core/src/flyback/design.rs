@@ -1,0 +1,826 @@
+//! The whole design: primary inductance and bulk capacitor chosen at low line and full load,
+//! current limit, clamp, every corner, overload power across line, bias estimate and rules.
+
+use super::clamp::{design_clamp, ClampDesign};
+use super::operating_point::{show, Context, OperatingPoint};
+use super::output::{post_filter, PostFilter};
+use super::rules::flyback_rule_book;
+use super::spec::{BulkChoice, ClampKind, FlybackSpec, InputRange, Leakage, ModeTarget};
+use super::waveform::{boundary_duty, boundary_inductance_si, ConductionMode};
+use crate::error::{Error, ErrorKind, Result};
+use crate::mains::{bulk_capacitance_for_valley, hold_up_time};
+use crate::passives::e_series::at_or_above_value;
+use crate::passives::ESeries;
+use crate::report::{Field, Record, Table};
+use crate::rules::{worst_status, CheckResult, RuleBook, Status};
+use crate::units::{
+    si, Capacitance, Dimension, ElectricCurrent, ElectricPotential, Frequency, Inductance, Power,
+    Quantity, Time,
+};
+use std::f64::consts::SQRT_2;
+
+/// Headroom of the chosen current limit over the peak current at low line, full load, at the
+/// low end of its tolerance (common practice, no published source).
+pub const CURRENT_LIMIT_HEADROOM: f64 = 0.1;
+/// Change of a rectifier's forward drop per e-fold of its current, used by the bias estimate
+/// (common practice, no published source).
+pub const RECTIFIER_DROP_PER_EFOLD: f64 = 0.05;
+
+/// Output power when the primary current reaches the current limit.
+#[derive(Clone, Debug, PartialEq)]
+pub struct OverloadPoint {
+    /// Line voltage (RMS, or DC bus).
+    pub line_voltage: ElectricPotential,
+    /// `minimum` or `maximum` end of the current limit's tolerance.
+    pub limit_case: &'static str,
+    /// The current limit at that end of its tolerance.
+    pub current_limit: ElectricCurrent,
+    /// Peak current reached, including the overshoot during the sense delay.
+    pub primary_current_peak: ElectricCurrent,
+    /// Output power delivered before the limit trips.
+    pub output_power: Power,
+    /// That power over the full-load output power.
+    pub load_fraction: f64,
+    /// Conduction mode at the limit.
+    pub mode: ConductionMode,
+}
+
+/// Estimate of the bias (controller supply) winding.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct BiasEstimate {
+    /// Primary to bias turns ratio, N_p/N_b.
+    pub turns_ratio: f64,
+    /// Bias turns per turn of the regulated output's winding, N_b/N_s.
+    pub turns_per_regulated_turn: f64,
+    /// Estimated bias voltage at full load.
+    pub voltage_full_load: ElectricPotential,
+    /// Estimated bias voltage at light load.
+    pub voltage_light_load: ElectricPotential,
+}
+
+/// A complete flyback power-stage design.
+#[derive(Clone, Debug, PartialEq)]
+pub struct FlybackDesign {
+    /// Full-load output power (loads only).
+    pub output_power: Power,
+    /// Primary (magnetising) inductance.
+    pub primary_inductance: Inductance,
+    /// Leakage inductance referred to the primary.
+    pub leakage_inductance: Inductance,
+    /// Switching frequency.
+    pub switching_frequency: Frequency,
+    /// Reflected voltage of the regulated output.
+    pub reflected_voltage: ElectricPotential,
+    /// Nominal current limit.
+    pub current_limit: ElectricCurrent,
+    /// Relative tolerance of the current limit.
+    pub current_limit_tolerance: f64,
+    /// Turns ratio N_p/N_s per output, in the order of the spec.
+    pub turns_ratios: Vec<f64>,
+    /// Turns ratio N_p/N_b of the bias winding.
+    pub bias_turns_ratio: Option<f64>,
+    /// Bulk capacitance (None for a DC input).
+    pub bulk_capacitance: Option<Capacitance>,
+    /// Lowest bulk voltage at which the duty limit is still met at full load.
+    pub bulk_valley_needed: ElectricPotential,
+    /// Hold-up time from the low-line valley at full load down to the end voltage (AC only).
+    pub hold_up_time: Option<Time>,
+    /// Bulk voltage at which the hold-up time ends.
+    pub hold_up_end_voltage: ElectricPotential,
+    /// Every corner: four of line and load, then the current limit at low and high line.
+    pub corners: Vec<OperatingPoint>,
+    /// The clamp, sized at the highest current limit and high line.
+    pub clamp: ClampDesign,
+    /// Post filter per output (None where there is none).
+    pub post_filters: Vec<Option<PostFilter>>,
+    /// Output power at the current limit across line and tolerance.
+    pub overload: Vec<OverloadPoint>,
+    /// Bias winding estimate.
+    pub bias: Option<BiasEstimate>,
+    /// Efficiency at low line, full load.
+    pub efficiency: f64,
+    /// Efficiency iterations at low line, full load.
+    pub efficiency_iterations: usize,
+    /// Largest efficiency residual over the corners.
+    pub efficiency_residual: f64,
+    /// Iterations of the inductance and bulk-capacitor choice.
+    pub design_iterations: usize,
+    /// The rule book used (defaults with the spec's overrides).
+    pub rules: RuleBook,
+    /// Rule results.
+    pub checks: Vec<CheckResult>,
+}
+
+fn leakage_of(spec: &FlybackSpec, l: f64) -> f64 {
+    match spec.leakage {
+        Leakage::Fraction(x) => x * l,
+        Leakage::Value(v) => v.value,
+    }
+}
+
+fn choose_inductance(mode: ModeTarget, vin: f64, p: f64, vr: f64, f: f64) -> f64 {
+    let lb = boundary_inductance_si(vin, p, vr, f);
+    match mode {
+        ModeTarget::Discontinuous { margin } => (1.0 - margin) * lb,
+        ModeTarget::Boundary => lb,
+        ModeTarget::Continuous { ripple_ratio } => 2.0 * lb / ripple_ratio,
+    }
+}
+
+/// Designs a flyback power stage from a specification.
+///
+/// Method: (1) the primary inductance and, with a target valley, the bulk capacitor (rounded
+/// up to E12) are chosen at low line and full load, at the bulk valley that capacitor gives,
+/// iterating with the efficiency until both settle. Mode targets: DCM L = (1 − margin)·L_b; boundary L = L_b; CCM with ripple ratio r,
+/// L = 2·L_b/r, where L_b = (V·D_b)²/(2·P·f) and D_b = V_r/(V + V_r). (2) The current limit
+/// (given, or 10 % above the low-line full-load peak at its low tolerance) is checked against
+/// that peak. (3) The clamp is sized at the highest limit plus the sense-delay overshoot at
+/// high line. (4) Each corner (low/high line × full/light load) is evaluated at its bulk
+/// valley; the current-limit corners find the load at which the peak current reaches the
+/// highest limit. (5) Overload power is found at both ends of the limit's tolerance at low
+/// and high line. (6) Rules from [`flyback_rule_book`] are checked.
+/// Assumptions: fixed frequency, ideal coupling between secondaries (each rectifier's
+/// current is the pulse shape scaled to its load current), constant-power load on the bulk
+/// capacitor, operating point at the bulk valley, drain peak at the bulk peak, light load
+/// without burst or frequency foldback. Valid for the 5–75 W class; inputs are checked.
+/// Errors: a duty limit no bulk capacitor can meet (`max_duty_cycle`), a bulk capacitor too
+/// small for the power, a current limit below the required peak (`current_limit`, or
+/// `primary_inductance` when the inductance is given).
+/// Reference: Erickson & Maksimović, 3rd ed. (2020), ch. 5–6 (DCM, flyback); Hart, *Power
+/// Electronics* (2011), section 7.2 (flyback CCM relations).
+pub fn flyback_design(spec: &FlybackSpec) -> Result<FlybackDesign> {
+    spec.validate()?;
+    let f = spec.switching_frequency.value;
+    let vr = spec.reflected_voltage.value;
+    let vf_bridge = spec.bridge_diode_drop.value;
+    let (line_lo, line_hi, vpk_lo, vpk_hi) = match spec.input {
+        InputRange::Ac {
+            min_rms, max_rms, ..
+        } => (
+            min_rms.value,
+            max_rms.value,
+            SQRT_2 * min_rms.value - 2.0 * vf_bridge,
+            SQRT_2 * max_rms.value - 2.0 * vf_bridge,
+        ),
+        InputRange::Dc { min, max } => (min.value, max.value, min.value, max.value),
+    };
+    if vpk_lo <= 0.0 {
+        return Err(Error::invalid(format!(
+            "`min_line_voltage` ({}) must be above twice the bridge diode drop ({})",
+            Quantity::new(line_lo, Dimension::VOLTAGE),
+            show(spec.bridge_diode_drop)
+        )));
+    }
+    let d_at_peak = boundary_duty(vpk_lo, vr);
+    if d_at_peak > spec.max_duty_cycle {
+        let vr_max = vpk_lo * spec.max_duty_cycle / (1.0 - spec.max_duty_cycle);
+        return Err(Error::infeasible(format!(
+            "`max_duty_cycle` {} cannot be met: `reflected_voltage` {} at the lowest rectified \
+             input {} needs a duty cycle of {:.3} even without bulk ripple; lower the reflected \
+             voltage to at most {} or raise the duty limit",
+            spec.max_duty_cycle,
+            show(spec.reflected_voltage),
+            Quantity::new(vpk_lo, Dimension::VOLTAGE),
+            d_at_peak,
+            Quantity::new(vr_max, Dimension::VOLTAGE)
+        )));
+    }
+    let reg = &spec.outputs[spec.regulated_output];
+    let turns: Vec<f64> = spec
+        .outputs
+        .iter()
+        .map(|o| vr / (o.voltage + o.rectifier_drop).value)
+        .collect();
+    let post_filters: Vec<Option<PostFilter>> = spec
+        .outputs
+        .iter()
+        .enumerate()
+        .map(
+            |(k, o)| match (o.post_filter_inductance, o.post_filter_capacitance) {
+                (Some(l), Some(c)) => post_filter(l, c, spec.switching_frequency)
+                    .map(Some)
+                    .map_err(|e| e.context(&format!("outputs[{k}]"))),
+                _ => Ok(None),
+            },
+        )
+        .collect::<Result<_>>()?;
+    let filter_gain: Vec<Option<f64>> = post_filters.iter().map(|p| p.map(|p| p.gain)).collect();
+    let overshoot = spec.clamp_voltage_above_reflected.value;
+    let fixed_clamp = design_clamp(ClampKind::Zener, vr, overshoot, 0.0, 0.0, f);
+
+    // (1) inductance and bulk capacitor at low line, full load
+    let start_eta = match spec.efficiency {
+        super::spec::EfficiencyModel::Estimate(x)
+        | super::spec::EfficiencyModel::Computed { start: x } => x,
+    };
+    let pout = spec.outputs.iter().map(|o| o.power().value).sum::<f64>();
+    let p0 = pout / start_eta;
+    let is_ac = matches!(spec.input, InputRange::Ac { .. });
+    let size_bulk = |p: f64| -> Result<f64> {
+        match (spec.input, spec.bulk) {
+            (InputRange::Ac { line_frequency, .. }, BulkChoice::TargetValley(v)) => {
+                bulk_capacitance_for_valley(
+                    si(line_lo),
+                    line_frequency,
+                    si(p),
+                    v,
+                    spec.bridge_diode_drop,
+                )
+                .map(|c| c.value)
+            }
+            (_, BulkChoice::Capacitance(c)) => Ok(c.value),
+            (InputRange::Dc { .. }, _) => Ok(1.0),
+        }
+    };
+    let mut c_bulk = size_bulk(p0)?;
+    let mut l = match (spec.primary_inductance, spec.mode) {
+        (Some(l), _) => l.value,
+        (None, Some(m)) => {
+            let vin = match spec.bulk {
+                BulkChoice::TargetValley(v) if is_ac => v.value,
+                _ => 0.8 * vpk_lo,
+            };
+            choose_inductance(m, vin, p0, vr, f)
+        }
+        (None, None) => {
+            return Err(Error::missing(
+                "give a `mode` target or a `primary_inductance`",
+            ))
+        }
+    };
+    let tol = spec.current_limit_tolerance;
+    let delay = spec.current_sense_delay.value;
+    // the clamp is sized at the worst case, which depends on the current limit, which depends
+    // on the peak current: it takes part in the iteration
+    let mut clamp = fixed_clamp;
+    let mut design_iterations = 0;
+    loop {
+        design_iterations += 1;
+        let ctx = Context {
+            spec,
+            f,
+            vr,
+            l,
+            llk: leakage_of(spec, l),
+            bulk_capacitance: c_bulk,
+            clamp,
+            turns: turns.clone(),
+            filter_gain: filter_gain.clone(),
+        };
+        let op = match ctx.evaluate("low_line_full_load", line_lo, 1.0) {
+            Ok(op) => op,
+            // while sizing the bulk capacitor for a valley, a first guess from the starting
+            // efficiency may be too small for the real input power: grow it and go on
+            Err(e)
+                if e.kind() == ErrorKind::Infeasible
+                    && e.message().contains("`bulk_capacitance`")
+                    && is_ac
+                    && matches!(spec.bulk, BulkChoice::TargetValley(_))
+                    && design_iterations < 100 =>
+            {
+                c_bulk *= 2.0;
+                continue;
+            }
+            Err(e) => return Err(e),
+        };
+        let p_dc = op.converter_input_power.value;
+        // a sized capacitor is rounded up to E12, and the inductance is chosen at the valley
+        // the rounded capacitor really gives; after a few steps the capacitor only grows, so the
+        // discrete choice cannot oscillate between two values
+        let mut new_c = size_bulk(p_dc)?;
+        if is_ac && matches!(spec.bulk, BulkChoice::TargetValley(_)) {
+            new_c = at_or_above_value(new_c, ESeries::E12)?;
+            if design_iterations > 3 {
+                new_c = new_c.max(c_bulk);
+            }
+        }
+        let vin = op.bulk_valley_voltage.value;
+        let new_l = match (spec.primary_inductance, spec.mode) {
+            (None, Some(m)) => choose_inductance(m, vin, p_dc, vr, f),
+            _ => l,
+        };
+        let ilim = spec.current_limit.map(|i| i.value).unwrap_or(
+            (1.0 + CURRENT_LIMIT_HEADROOM) * op.primary_current_peak.value / (1.0 - tol),
+        );
+        let new_clamp = design_clamp(
+            spec.clamp,
+            vr,
+            overshoot,
+            leakage_of(spec, new_l),
+            ilim * (1.0 + tol) + vpk_hi * delay / new_l,
+            f,
+        );
+        let clamp_change = if clamp.power.value > 0.0 {
+            (new_clamp.power.value / clamp.power.value - 1.0).abs()
+        } else {
+            new_clamp.power.value.min(1.0)
+        };
+        let change = (new_l / l - 1.0).abs() + (new_c / c_bulk - 1.0).abs() + clamp_change;
+        l = new_l;
+        c_bulk = new_c;
+        clamp = new_clamp;
+        if change < 1e-8 {
+            break;
+        }
+        if design_iterations >= 100 {
+            return Err(Error::infeasible(format!(
+                "the primary inductance and bulk capacitor did not settle in 100 iterations (last change {change:.2e})"
+            )));
+        }
+    }
+    let llk = leakage_of(spec, l);
+    let mut ctx = Context {
+        spec,
+        f,
+        vr,
+        l,
+        llk,
+        bulk_capacitance: c_bulk,
+        clamp,
+        turns: turns.clone(),
+        filter_gain,
+    };
+
+    // (2) current limit
+    let first = ctx.evaluate("low_line_full_load", line_lo, 1.0)?;
+    let ipk_design = first.primary_current_peak.value;
+    let ilim = match spec.current_limit {
+        Some(i) => {
+            let low = i.value * (1.0 - tol);
+            if low < ipk_design {
+                let (name, value) = match spec.primary_inductance {
+                    Some(l) => ("primary_inductance", show(l)),
+                    None => ("current_limit", show(i)),
+                };
+                return Err(Error::infeasible(format!(
+                    "`{name}` {value} is too small for the current limit: the peak current at low \
+                     line and full load is {}, above the lowest current limit {} ({} − {} %); \
+                     {}",
+                    Quantity::new(ipk_design, Dimension::CURRENT),
+                    Quantity::new(low, Dimension::CURRENT),
+                    show(i),
+                    tol * 100.0,
+                    if spec.primary_inductance.is_some() {
+                        "raise the inductance or the current limit"
+                    } else {
+                        "raise the current limit"
+                    }
+                )));
+            }
+            i.value
+        }
+        None => (1.0 + CURRENT_LIMIT_HEADROOM) * ipk_design / (1.0 - tol),
+    };
+    let ilim_min = ilim * (1.0 - tol);
+    let ilim_max = ilim * (1.0 + tol);
+
+    // (3) clamp at the worst case
+    let ipk_worst = ilim_max + vpk_hi * delay / l;
+    ctx.clamp = design_clamp(spec.clamp, vr, overshoot, llk, ipk_worst, f);
+
+    // (4) corners
+    let light = spec.light_load_fraction;
+    let mut corners = vec![
+        ctx.evaluate("low_line_full_load", line_lo, 1.0)?,
+        ctx.evaluate("low_line_light_load", line_lo, light)?,
+        ctx.evaluate("high_line_full_load", line_hi, 1.0)?,
+        ctx.evaluate("high_line_light_load", line_hi, light)?,
+    ];
+    // (5) overload across line and tolerance
+    let mut overload = Vec::new();
+    for (line, line_name) in [(line_lo, "low_line"), (line_hi, "high_line")] {
+        for (limit, case) in [(ilim_min, "minimum"), (ilim_max, "maximum")] {
+            let name = format!("current_limit_{line_name}");
+            let op = at_current_limit(&ctx, &name, line, limit, delay)?;
+            overload.push(OverloadPoint {
+                line_voltage: si(line),
+                limit_case: case,
+                current_limit: si(limit),
+                primary_current_peak: op.primary_current_peak,
+                output_power: op.output_power,
+                load_fraction: op.load_fraction,
+                mode: op.mode,
+            });
+            if case == "maximum" {
+                corners.push(op);
+            }
+        }
+    }
+    let design_op = &corners[0];
+    let p_dc = design_op.converter_input_power.value;
+    let dmax = spec.max_duty_cycle;
+    let v_needed_ccm = vr * (1.0 - dmax) / dmax;
+    let v_needed_dcm = (2.0 * p_dc * l * f).sqrt() / dmax;
+    let bulk_valley_needed = v_needed_ccm.min(v_needed_dcm);
+    let hold_up_end = spec
+        .hold_up_end_voltage
+        .map(|v| v.value)
+        .unwrap_or(bulk_valley_needed);
+    let hold = if is_ac {
+        Some(hold_up_time(
+            si(c_bulk),
+            design_op.bulk_valley_voltage,
+            si(hold_up_end),
+            si(p_dc),
+        )?)
+    } else {
+        None
+    };
+    let bias = spec.bias.as_ref().map(|b| {
+        let nb = vr / (b.voltage + b.rectifier_drop).value;
+        let per = turns[spec.regulated_output] / nb;
+        let vf_light = (reg.rectifier_drop.value + RECTIFIER_DROP_PER_EFOLD * light.ln()).max(0.0);
+        BiasEstimate {
+            turns_ratio: nb,
+            turns_per_regulated_turn: per,
+            voltage_full_load: b.voltage,
+            voltage_light_load: si((reg.voltage.value + vf_light) * per - b.rectifier_drop.value),
+        }
+    });
+
+    // (6) rules
+    let rules = flyback_rule_book(spec, si(bulk_valley_needed))?;
+    let checks = evaluate_rules(spec, &rules, &corners, hold)?;
+    let efficiency_residual = corners
+        .iter()
+        .map(|c| c.efficiency_residual)
+        .fold(0.0, f64::max);
+    Ok(FlybackDesign {
+        output_power: si(pout),
+        primary_inductance: si(l),
+        leakage_inductance: si(llk),
+        switching_frequency: spec.switching_frequency,
+        reflected_voltage: spec.reflected_voltage,
+        current_limit: si(ilim),
+        current_limit_tolerance: tol,
+        turns_ratios: turns,
+        bias_turns_ratio: bias.map(|b| b.turns_ratio),
+        bulk_capacitance: if is_ac { Some(si(c_bulk)) } else { None },
+        bulk_valley_needed: si(bulk_valley_needed),
+        hold_up_time: hold,
+        hold_up_end_voltage: si(hold_up_end),
+        efficiency: corners[0].efficiency,
+        efficiency_iterations: corners[0].efficiency_iterations,
+        efficiency_residual,
+        clamp: ctx.clamp,
+        post_filters,
+        overload,
+        bias,
+        design_iterations,
+        rules,
+        checks,
+        corners,
+    })
+}
+
+/// The operating point at which the peak current (with the sense-delay overshoot) reaches a
+/// current limit, found by bisection on the load.
+fn at_current_limit(
+    ctx: &Context,
+    name: &str,
+    line: f64,
+    limit: f64,
+    delay: f64,
+) -> Result<OperatingPoint> {
+    let g = |k: f64| -> Result<Option<(f64, OperatingPoint)>> {
+        match ctx.evaluate(name, line, k) {
+            Ok(op) => {
+                let target = limit + op.bulk_valley_voltage.value * delay / ctx.l;
+                Ok(Some((op.primary_current_peak.value - target, op)))
+            }
+            Err(e) if e.kind() == ErrorKind::Infeasible => Ok(None),
+            Err(e) => Err(e),
+        }
+    };
+    // the limit is above the full-load peak, so the light load is below it
+    let mut lo = ctx.spec.light_load_fraction;
+    let mut best = match g(lo)? {
+        Some((d, op)) if d < 0.0 => op,
+        _ => {
+            return Err(Error::infeasible(format!(
+                "corner {name}: the current limit {} is reached below light load",
+                Quantity::new(limit, Dimension::CURRENT)
+            )))
+        }
+    };
+    let mut hi = 1.0;
+    loop {
+        match g(hi)? {
+            Some((d, op)) if d < 0.0 => {
+                lo = hi;
+                best = op;
+                hi *= 1.5;
+                if hi > 50.0 {
+                    return Err(Error::infeasible(format!(
+                        "corner {name}: the current limit {} allows more than 50 times full load",
+                        Quantity::new(limit, Dimension::CURRENT)
+                    )));
+                }
+            }
+            _ => break,
+        }
+    }
+    // Illinois (modified regula falsi) on the load: the peak current rises smoothly with load
+    let (mut flo, mut fhi) = (g(lo)?.map(|x| x.0), g(hi)?.map(|x| x.0));
+    let mut side = 0i8;
+    for _ in 0..100 {
+        let mid = match (flo, fhi) {
+            (Some(a), Some(b)) if b > a => {
+                let m = hi - b * (hi - lo) / (b - a);
+                if m > lo && m < hi {
+                    m
+                } else {
+                    0.5 * (lo + hi)
+                }
+            }
+            _ => 0.5 * (lo + hi),
+        };
+        match g(mid)? {
+            Some((d, op)) if d < 0.0 => {
+                lo = mid;
+                flo = Some(d);
+                best = op;
+                if side == -1 {
+                    fhi = fhi.map(|b| b / 2.0);
+                }
+                side = -1;
+                if d.abs() <= 1e-12 * limit {
+                    break;
+                }
+            }
+            Some((d, _)) => {
+                hi = mid;
+                fhi = Some(d);
+                if side == 1 {
+                    flo = flo.map(|a| a / 2.0);
+                }
+                side = 1;
+            }
+            None => {
+                hi = mid;
+                fhi = None;
+            }
+        }
+        if hi - lo < 1e-12 * hi {
+            break;
+        }
+    }
+    Ok(best)
+}
+
+fn fold_max(xs: impl Iterator<Item = f64>) -> f64 {
+    xs.fold(f64::NEG_INFINITY, f64::max)
+}
+
+fn evaluate_rules(
+    spec: &FlybackSpec,
+    rules: &RuleBook,
+    corners: &[OperatingPoint],
+    hold: Option<Time>,
+) -> Result<Vec<CheckResult>> {
+    let normal = &corners[..4];
+    let n = Quantity::number;
+    let mut out = Vec::new();
+    out.push(rules.check(
+        "duty_cycle_limit",
+        n(fold_max(normal.iter().map(|c| c.duty_cycle))),
+    )?);
+    out.push(rules.check(
+        "drain_voltage_derating",
+        Quantity::new(
+            fold_max(corners.iter().map(|c| c.drain_voltage_peak.value)),
+            Dimension::VOLTAGE,
+        ),
+    )?);
+    for (k, o) in spec.outputs.iter().enumerate() {
+        if let Some(r) = o.rectifier_voltage_rating {
+            let v = fold_max(
+                corners
+                    .iter()
+                    .map(|c| c.secondaries[k].rectifier_reverse_voltage.value),
+            );
+            let mut c = rules.check("rectifier_voltage_derating", n(v / r.value))?;
+            c.description = format!("{} (output {})", c.description, k + 1);
+            out.push(c);
+        }
+    }
+    for (k, o) in spec.outputs.iter().enumerate() {
+        if let Some(r) = o.ripple_current_rating {
+            let v = fold_max(
+                normal
+                    .iter()
+                    .map(|c| c.secondaries[k].capacitor_ripple_current_rms.value),
+            );
+            let mut c = rules.check("output_capacitor_ripple_current", n(v / r.value))?;
+            c.description = format!("{} (output {})", c.description, k + 1);
+            out.push(c);
+        }
+    }
+    if let Some(r) = spec.bulk_ripple_current_rating {
+        let v = fold_max(normal.iter().map(|c| c.bulk_ripple_current_rms.value));
+        out.push(rules.check("bulk_capacitor_ripple_current", n(v / r.value))?);
+    }
+    if spec.mode.is_some() {
+        out.push(rules.check("mode_target", n(corners[0].inductance_ratio))?);
+    }
+    out.push(rules.check(
+        "bulk_valley_minimum",
+        Quantity::from_typed(corners[0].bulk_valley_voltage),
+    )?);
+    if let (Some(_), Some(t)) = (spec.hold_up_time, hold) {
+        out.push(rules.check("hold_up_time", Quantity::from_typed(t))?);
+    }
+    Ok(out)
+}
+
+impl FlybackDesign {
+    /// The corner with a name.
+    pub fn corner(&self, name: &str) -> Option<&OperatingPoint> {
+        self.corners.iter().find(|c| c.corner == name)
+    }
+    /// One row per corner.
+    pub fn corner_table(&self) -> Table {
+        let mut t = Table::new();
+        for c in &self.corners {
+            t.push_row(c.fields());
+        }
+        t
+    }
+    /// Output power at the current limit, one row per line and tolerance end.
+    pub fn overload_table(&self) -> Table {
+        let mut t = Table::new();
+        for o in &self.overload {
+            t.push_row(vec![
+                Field::quantity("line_voltage", o.line_voltage),
+                Field::new("limit_case", o.limit_case),
+                Field::quantity("current_limit", o.current_limit),
+                Field::quantity("primary_current_peak", o.primary_current_peak),
+                Field::quantity("output_power", o.output_power),
+                Field::new("load_fraction", o.load_fraction),
+                Field::new("mode", o.mode.as_str()),
+            ]);
+        }
+        t
+    }
+    /// The highest primary peak current of any corner: at the highest current limit with the
+    /// sense-delay overshoot at high line. The transformer's peak flux is checked at this current.
+    pub fn primary_current_peak_at_limit(&self) -> ElectricCurrent {
+        si(fold_max(
+            self.corners.iter().map(|c| c.primary_current_peak.value),
+        ))
+    }
+    /// The worst rule status.
+    pub fn worst_status(&self) -> Status {
+        worst_status(&self.checks)
+    }
+    /// Number of failed checks.
+    pub fn failed_checks(&self) -> usize {
+        self.checks
+            .iter()
+            .filter(|c| c.status == Status::Fail)
+            .count()
+    }
+}
+
+impl Record for FlybackDesign {
+    fn fields(&self) -> Vec<Field> {
+        // a design from flyback_design always has six corners; a hand-built one may not
+        let (Some(c0), Some(c2)) = (self.corners.first(), self.corners.get(2)) else {
+            return vec![
+                Field::quantity("output_power", self.output_power),
+                Field::quantity("primary_inductance", self.primary_inductance),
+            ];
+        };
+        let max_of =
+            |f: &dyn Fn(&OperatingPoint) -> f64| fold_max(self.corners.iter().take(4).map(f));
+        let mut v = vec![
+            Field::quantity("output_power", self.output_power),
+            Field::quantity("primary_inductance", self.primary_inductance),
+            Field::quantity("leakage_inductance", self.leakage_inductance),
+            Field::quantity("switching_frequency", self.switching_frequency),
+            Field::quantity("reflected_voltage", self.reflected_voltage),
+        ];
+        for (k, n) in self.turns_ratios.iter().enumerate() {
+            v.push(Field::new(format!("turns_ratio_{}", k + 1), *n));
+        }
+        if let Some(n) = self.bias_turns_ratio {
+            v.push(Field::new("bias_turns_ratio", n));
+        }
+        v.extend([
+            Field::new("mode_low_line_full_load", c0.mode.as_str()),
+            Field::new("inductance_ratio", c0.inductance_ratio),
+            // load (fraction of full) below which the supply is in DCM, at low and high line;
+            // 1 or more: DCM at every load (converter input power ratio, an approximation of load)
+            Field::new(
+                "dcm_below_load_low_line",
+                c0.boundary_power.value / c0.converter_input_power.value,
+            ),
+            Field::new(
+                "dcm_below_load_high_line",
+                c2.boundary_power.value / c2.converter_input_power.value,
+            ),
+            Field::new("duty_cycle_max", max_of(&|c: &OperatingPoint| c.duty_cycle)),
+            Field::quantity("current_limit", self.current_limit),
+            Field::quantity(
+                "primary_current_peak_at_limit",
+                self.primary_current_peak_at_limit(),
+            ),
+            Field::new("current_limit_tolerance", self.current_limit_tolerance),
+            Field::quantity(
+                "primary_current_peak",
+                si::<ElectricCurrent>(max_of(&|c: &OperatingPoint| c.primary_current_peak.value)),
+            ),
+            Field::quantity(
+                "primary_current_rms",
+                si::<ElectricCurrent>(max_of(&|c: &OperatingPoint| c.primary_current_rms.value)),
+            ),
+        ]);
+        if let Some(c) = self.bulk_capacitance {
+            v.push(Field::quantity("bulk_capacitance", c));
+            // µF per watt of output, to compare with common practice (2–3 µF/W universal input)
+            v.push(Field::new(
+                "bulk_microfarads_per_watt",
+                c.value / self.output_power.value * 1e6,
+            ));
+        }
+        v.push(Field::quantity(
+            "bulk_valley_voltage",
+            c0.bulk_valley_voltage,
+        ));
+        v.push(Field::quantity(
+            "bulk_valley_needed",
+            self.bulk_valley_needed,
+        ));
+        if let Some(t) = self.hold_up_time {
+            v.push(Field::quantity("hold_up_time", t));
+        }
+        v.push(Field::quantity(
+            "bulk_ripple_current_rms",
+            si::<ElectricCurrent>(max_of(&|c: &OperatingPoint| {
+                c.bulk_ripple_current_rms.value
+            })),
+        ));
+        v.push(Field::quantity(
+            "drain_voltage_peak",
+            si::<ElectricPotential>(fold_max(
+                self.corners.iter().map(|c| c.drain_voltage_peak.value),
+            )),
+        ));
+        v.extend(self.clamp.fields());
+        let outputs = self
+            .corners
+            .iter()
+            .map(|c| c.secondaries.len())
+            .min()
+            .unwrap_or(0);
+        for k in 0..outputs {
+            v.push(Field::quantity(
+                format!("rectifier_reverse_voltage_{}", k + 1),
+                si::<ElectricPotential>(fold_max(
+                    self.corners
+                        .iter()
+                        .map(|c| c.secondaries[k].rectifier_reverse_voltage.value),
+                )),
+            ));
+            v.push(Field::quantity(
+                format!("output_ripple_voltage_pp_{}", k + 1),
+                si::<ElectricPotential>(max_of(&|c: &OperatingPoint| {
+                    c.secondaries[k].ripple_voltage_pp.value
+                })),
+            ));
+            if let Some(Some(p)) = self.post_filters.get(k) {
+                v.extend(p.fields(&format!("output_{}.", k + 1)));
+            }
+        }
+        v.push(Field::new("efficiency", self.efficiency));
+        if let Some(c) = self.corner("high_line_full_load") {
+            v.push(Field::new("efficiency_high_line", c.efficiency));
+        }
+        v.push(Field::new(
+            "efficiency_iterations",
+            self.efficiency_iterations as i64,
+        ));
+        v.push(Field::new("efficiency_residual", self.efficiency_residual));
+        let lo = self
+            .overload
+            .iter()
+            .map(|o| o.output_power.value)
+            .fold(f64::INFINITY, f64::min);
+        let hi = fold_max(self.overload.iter().map(|o| o.output_power.value));
+        v.push(Field::quantity("overload_power_min", si::<Power>(lo)));
+        v.push(Field::quantity("overload_power_max", si::<Power>(hi)));
+        if let Some(b) = &self.bias {
+            v.push(Field::quantity(
+                "bias_voltage_full_load",
+                b.voltage_full_load,
+            ));
+            v.push(Field::quantity(
+                "bias_voltage_light_load",
+                b.voltage_light_load,
+            ));
+        }
+        v.push(Field::new("worst_status", self.worst_status().to_string()));
+        v.push(Field::new("failed_checks", self.failed_checks() as i64));
+        v
+    }
+}

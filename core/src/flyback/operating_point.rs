@@ -1,0 +1,393 @@
+//! One corner of line and load: bulk voltage, duty cycle, mode, currents on every winding,
+//! stresses and the loss budget, with the efficiency iterated until it settles.
+
+use super::clamp::{clamp_at, ClampDesign};
+use super::losses::LossBudget;
+use super::output::{secondary_point, SecondaryPoint};
+use super::spec::{EfficiencyModel, FlybackSpec, InputRange};
+use super::waveform::{cycle_for_power, trapezoid_avg, trapezoid_rms, ConductionMode, Cycle};
+use crate::error::{Error, Result};
+use crate::mains::{bulk_capacitor, BulkCapacitorSpec};
+use crate::report::{Field, Record};
+use crate::units::{si, ElectricCurrent, ElectricPotential, Power, Quantity, Time};
+
+/// Largest number of efficiency iterations before giving up.
+pub const MAX_EFFICIENCY_ITERATIONS: usize = 200;
+/// The efficiency iteration stops when the change per step falls below this.
+pub const EFFICIENCY_TOLERANCE: f64 = 1e-10;
+
+/// The flyback at one corner of line and load.
+#[derive(Clone, Debug, PartialEq)]
+pub struct OperatingPoint {
+    /// Corner name (`low_line_full_load`, `current_limit_high_line`, …).
+    pub corner: String,
+    /// Line voltage (RMS for an AC input, the bus voltage for DC).
+    pub line_voltage: ElectricPotential,
+    /// Load as a fraction of full load on every output.
+    pub load_fraction: f64,
+    /// Power delivered to the loads.
+    pub output_power: Power,
+    /// Power drawn from the line.
+    pub input_power: Power,
+    /// Power drawn from the bulk capacitor by the converter (stored in the primary inductance).
+    pub converter_input_power: Power,
+    /// Bulk capacitor peak voltage.
+    pub bulk_peak_voltage: ElectricPotential,
+    /// Bulk capacitor valley voltage; the operating point is computed here (worst duty and current).
+    pub bulk_valley_voltage: ElectricPotential,
+    /// Bridge conduction time per half line cycle (zero for DC).
+    pub bulk_conduction_time: Time,
+    /// Bulk capacitor ripple current, RMS: line-frequency and switching-frequency parts together.
+    pub bulk_ripple_current_rms: ElectricCurrent,
+    /// Conduction mode.
+    pub mode: ConductionMode,
+    /// Duty cycle.
+    pub duty_cycle: f64,
+    /// Fraction of the period the secondaries conduct.
+    pub demagnetising_duty: f64,
+    /// Switch on-time.
+    pub on_time: Time,
+    /// Primary inductance over the boundary inductance at this point: < 1 DCM, > 1 CCM.
+    pub inductance_ratio: f64,
+    /// Converter input power at which the mode changes between CCM and DCM at this line.
+    pub boundary_power: Power,
+    /// Primary (switch) current, peak.
+    pub primary_current_peak: ElectricCurrent,
+    /// Primary current at turn-on (zero in DCM).
+    pub primary_current_valley: ElectricCurrent,
+    /// Primary current, RMS.
+    pub primary_current_rms: ElectricCurrent,
+    /// Primary current, average.
+    pub primary_current_avg: ElectricCurrent,
+    /// Each output winding, in the order of the spec.
+    pub secondaries: Vec<SecondaryPoint>,
+    /// Clamp voltage here.
+    pub clamp_voltage: ElectricPotential,
+    /// Drain voltage peak: bulk peak + clamp voltage (reflected voltage + overshoot).
+    pub drain_voltage_peak: ElectricPotential,
+    /// Loss budget; sums to `input_power`.
+    pub losses: LossBudget,
+    /// Output power over input power.
+    pub efficiency: f64,
+    /// Iterations the efficiency took to settle.
+    pub efficiency_iterations: usize,
+    /// Change of efficiency in the last iteration.
+    pub efficiency_residual: f64,
+}
+
+/// Everything fixed while corners are evaluated (SI numbers, inputs already validated).
+pub(crate) struct Context<'a> {
+    pub spec: &'a FlybackSpec,
+    pub f: f64,
+    pub vr: f64,
+    pub l: f64,
+    pub llk: f64,
+    pub bulk_capacitance: f64,
+    pub clamp: ClampDesign,
+    /// Turns ratio N_p/N_s per output.
+    pub turns: Vec<f64>,
+    /// Post filter gain at f per output.
+    pub filter_gain: Vec<Option<f64>>,
+}
+
+impl Context<'_> {
+    /// Load power (without bias) at a load fraction.
+    pub fn output_power(&self, load: f64) -> f64 {
+        load * self
+            .spec
+            .outputs
+            .iter()
+            .map(|o| o.power().value)
+            .sum::<f64>()
+    }
+
+    /// Evaluates a corner at a line voltage (RMS for AC, bus for DC) and a load fraction.
+    pub fn evaluate(&self, corner: &str, line: f64, load: f64) -> Result<OperatingPoint> {
+        let s = self.spec;
+        let lp = &s.losses;
+        let pout = self.output_power(load);
+        let rect_loss: f64 = load
+            * s.outputs
+                .iter()
+                .map(|o| (o.rectifier_drop * o.current).value)
+                .sum::<f64>();
+        let controller = match &s.bias {
+            Some(b) => ((b.voltage + b.rectifier_drop) * b.current).value,
+            None => lp.controller_power.value,
+        };
+        let transformer = lp.transformer_loss_fraction * pout;
+        let (mut eta, fixed) = match s.efficiency {
+            EfficiencyModel::Estimate(x) => (x, true),
+            EfficiencyModel::Computed { start } => (start, false),
+        };
+        let mut front = 0.0;
+        let mut iterations = 0;
+        let mut residual = f64::INFINITY;
+        let mut last: Option<OperatingPoint> = None;
+        let mut last_step = f64::INFINITY;
+        let mut first_p_line = None;
+        while iterations < MAX_EFFICIENCY_ITERATIONS {
+            iterations += 1;
+            let p_line = pout / eta;
+            first_p_line.get_or_insert(p_line);
+            let p_dc = p_line - front;
+            if !(p_dc > 0.0 && p_dc.is_finite()) {
+                return Err(Error::infeasible(format!(
+                    "corner {corner}: the input-side losses exceed the input power; check `bridge_diode_drop` and `bulk_esr`"
+                )));
+            }
+            let (vpk, vval, tc, i_lf, i_bridge_avg) = match s.input {
+                InputRange::Ac { line_frequency, .. } => {
+                    let b = bulk_capacitor(&BulkCapacitorSpec {
+                        line_voltage_rms: si(line),
+                        line_frequency,
+                        input_power: si(p_dc),
+                        capacitance: si(self.bulk_capacitance),
+                        bridge_diode_drop: s.bridge_diode_drop,
+                    })
+                    .map_err(|e| {
+                        // the bulk capacitor gave out while the iteration was pushing the
+                        // input power up: that is the losses running away
+                        match (&last, first_p_line) {
+                            (Some(op), Some(p0)) if !fixed && p_line > 1.5 * p0 => {
+                                runaway(corner, &op.losses, pout)
+                            }
+                            _ => e.context(&format!("corner {corner}")),
+                        }
+                    })?;
+                    (
+                        b.peak_voltage.value,
+                        b.valley_voltage.value,
+                        b.conduction_time.value,
+                        b.ripple_current_rms.value,
+                        b.bridge_current_avg.value,
+                    )
+                }
+                InputRange::Dc { .. } => (line, line, 0.0, 0.0, 0.0),
+            };
+            let cyc = cycle_for_power(self.l, vval, p_dc, self.vr, self.f);
+            let point = self.assemble(
+                corner, line, load, pout, p_line, p_dc, vpk, vval, tc, i_lf, &cyc,
+            );
+            let (mut op, bridge_avg) = (point, i_bridge_avg);
+            let b = &mut op.losses;
+            b.output_rectifiers = si(rect_loss);
+            b.controller = si(controller);
+            b.transformer = si(transformer);
+            b.bridge = si(2.0 * s.bridge_diode_drop.value * bridge_avg);
+            b.bulk_capacitor = si(op.bulk_ripple_current_rms.value.powi(2) * lp.bulk_esr.value);
+            let front_new = b.bridge.value + b.bulk_capacitor.value;
+            let total = b.modelled_losses().value;
+            let eta_new = if fixed { eta } else { pout / (pout + total) };
+            // a converging iteration shrinks its steps; growing steps mean the losses rise
+            // faster than the power (no efficiency satisfies the model)
+            let step = (eta_new - eta).abs();
+            if !fixed && iterations >= 4 && step > 1.2 * last_step && step > 1e-6 {
+                return Err(runaway(corner, b, pout));
+            }
+            last_step = step;
+            residual = (eta_new - eta).abs() + (front_new - front).abs() / p_line;
+            eta = eta_new;
+            front = front_new;
+            last = Some(op);
+            if residual < EFFICIENCY_TOLERANCE {
+                break;
+            }
+        }
+        let mut op = last.ok_or_else(|| Error::infeasible("no efficiency iteration ran"))?;
+        if residual >= EFFICIENCY_TOLERANCE {
+            return Err(Error::infeasible(format!(
+                "corner {corner}: the efficiency did not settle in {MAX_EFFICIENCY_ITERATIONS} iterations (residual {residual:.2e})"
+            )));
+        }
+        let b = &mut op.losses;
+        b.unaccounted = si(op.input_power.value - pout - b.modelled_losses().value);
+        if !fixed {
+            // the model closes the budget; what is left is the iteration residual
+            b.unaccounted = si(0.0);
+            op.input_power = b.total();
+        }
+        op.efficiency = pout / op.input_power.value;
+        op.efficiency_iterations = iterations;
+        op.efficiency_residual = residual;
+        Ok(op)
+    }
+
+    #[allow(clippy::too_many_arguments)]
+    fn assemble(
+        &self,
+        corner: &str,
+        line: f64,
+        load: f64,
+        pout: f64,
+        p_line: f64,
+        p_dc: f64,
+        vpk: f64,
+        vval: f64,
+        tc: f64,
+        i_lf: f64,
+        cyc: &Cycle,
+    ) -> OperatingPoint {
+        let s = self.spec;
+        let lp = &s.losses;
+        let (ipk, iv, d) = (cyc.i_peak, cyc.i_valley, cyc.duty);
+        let i_avg = trapezoid_avg(ipk, iv, d);
+        let i_rms = trapezoid_rms(ipk, iv, d).max(i_avg);
+        let i_hf = (i_rms * i_rms - i_avg * i_avg).max(0.0).sqrt();
+        let secondaries: Vec<SecondaryPoint> = s
+            .outputs
+            .iter()
+            .enumerate()
+            .map(|(k, o)| {
+                secondary_point(
+                    load * o.current.value,
+                    ipk,
+                    iv,
+                    cyc.demag_duty,
+                    self.f,
+                    vpk,
+                    self.turns[k],
+                    o.voltage.value,
+                    o.capacitance.value,
+                    o.esr.value,
+                    self.filter_gain[k],
+                )
+            })
+            .collect();
+        let (vc, p_clamp) = clamp_at(&self.clamp, self.vr, self.llk, ipk, self.f);
+        let rds = lp.switch_on_resistance.value * lp.on_resistance_hot_factor;
+        let coss = lp.switch_output_capacitance.value;
+        // CCM: the switch turns on at V_in + V_r. DCM: after demagnetisation the drain rings
+        // about V_in with amplitude V_r at ω = 1/√(L·C_oss); within the first quarter period the
+        // turn-on voltage follows the ring, later it is taken as V_in (no valley-switching credit).
+        // This keeps the loss continuous across the boundary.
+        let v_turn_on = match cyc.mode {
+            ConductionMode::Continuous => vval + self.vr,
+            _ => {
+                let idle = (1.0 - d - cyc.demag_duty).max(0.0) / self.f;
+                let phase = if coss > 0.0 {
+                    (idle / (self.l * coss).sqrt()).min(std::f64::consts::FRAC_PI_2)
+                } else {
+                    std::f64::consts::FRAC_PI_2
+                };
+                vval + self.vr * phase.cos()
+            }
+        };
+        let tt = lp.transition_time.value;
+        let overlap =
+            0.5 * (vval + vc) * ipk * tt * self.f + 0.5 * (vval + self.vr) * iv * tt * self.f;
+        let out_caps: f64 = s
+            .outputs
+            .iter()
+            .zip(&secondaries)
+            .map(|(o, sp)| sp.capacitor_ripple_current_rms.value.powi(2) * o.esr.value)
+            .sum();
+        let losses = LossBudget {
+            output: si(pout),
+            switch_conduction: si(i_rms * i_rms * rds),
+            switch_capacitive: si(0.5 * coss * v_turn_on * v_turn_on * self.f),
+            switch_overlap: si(overlap),
+            clamp: si(p_clamp),
+            output_capacitors: si(out_caps),
+            ..LossBudget::default()
+        };
+        OperatingPoint {
+            corner: corner.to_string(),
+            line_voltage: si(line),
+            load_fraction: load,
+            output_power: si(pout),
+            input_power: si(p_line),
+            converter_input_power: si(p_dc),
+            bulk_peak_voltage: si(vpk),
+            bulk_valley_voltage: si(vval),
+            bulk_conduction_time: si(tc),
+            bulk_ripple_current_rms: si((i_lf * i_lf + i_hf * i_hf).sqrt()),
+            mode: cyc.mode,
+            duty_cycle: d,
+            demagnetising_duty: cyc.demag_duty,
+            on_time: si(d / self.f),
+            inductance_ratio: cyc.inductance_ratio,
+            boundary_power: si(cyc.boundary_power),
+            primary_current_peak: si(ipk),
+            primary_current_valley: si(iv),
+            primary_current_rms: si(i_rms),
+            primary_current_avg: si(i_avg),
+            secondaries,
+            clamp_voltage: si(vc),
+            drain_voltage_peak: si(vpk + vc),
+            losses,
+            efficiency: pout / p_line,
+            efficiency_iterations: 0,
+            efficiency_residual: 0.0,
+        }
+    }
+}
+
+impl Record for OperatingPoint {
+    fn fields(&self) -> Vec<Field> {
+        let mut v = vec![
+            Field::new("corner", self.corner.as_str()),
+            Field::quantity("line_voltage", self.line_voltage),
+            Field::new("load_fraction", self.load_fraction),
+            Field::quantity("output_power", self.output_power),
+            Field::quantity("input_power", self.input_power),
+            Field::new("efficiency", self.efficiency),
+            Field::quantity("bulk_peak_voltage", self.bulk_peak_voltage),
+            Field::quantity("bulk_valley_voltage", self.bulk_valley_voltage),
+            Field::quantity("bulk_ripple_current_rms", self.bulk_ripple_current_rms),
+            Field::new("mode", self.mode.as_str()),
+            Field::new("duty_cycle", self.duty_cycle),
+            Field::quantity("on_time", self.on_time),
+            Field::quantity("primary_current_peak", self.primary_current_peak),
+            Field::quantity("primary_current_valley", self.primary_current_valley),
+            Field::quantity("primary_current_rms", self.primary_current_rms),
+            Field::quantity("primary_current_avg", self.primary_current_avg),
+            Field::quantity("boundary_power", self.boundary_power),
+            Field::quantity("clamp_voltage", self.clamp_voltage),
+            Field::quantity("drain_voltage_peak", self.drain_voltage_peak),
+        ];
+        for (k, sp) in self.secondaries.iter().enumerate() {
+            v.extend(sp.fields(&format!("output_{}.", k + 1)));
+        }
+        v.push(Field::quantity(
+            "total_losses",
+            self.losses.modelled_losses(),
+        ));
+        v.push(Field::new(
+            "efficiency_iterations",
+            self.efficiency_iterations as i64,
+        ));
+        v.push(Field::new("efficiency_residual", self.efficiency_residual));
+        v
+    }
+}
+
+#[cold]
+fn runaway(corner: &str, b: &LossBudget, pout: f64) -> Error {
+    let (name, worst) = b
+        .items()
+        .into_iter()
+        .skip(1)
+        .fold(
+            ("", 0.0),
+            |acc, (n, p)| {
+                if p.value > acc.1 {
+                    (n, p.value)
+                } else {
+                    acc
+                }
+            },
+        );
+    Error::infeasible(format!(
+        "corner {corner}: the losses run away ({} of losses for {} out, the largest `{name}` at \
+         {}); the leakage inductance, the currents or the switch are unsuited to this power",
+        Quantity::new(b.modelled_losses().value, crate::units::Dimension::POWER),
+        Quantity::new(pout, crate::units::Dimension::POWER),
+        Quantity::new(worst, crate::units::Dimension::POWER),
+    ))
+}
+
+/// Shows a quantity for messages.
+pub(crate) fn show<Q: crate::units::TypedQuantity>(q: Q) -> Quantity {
+    Quantity::from_typed(q)
+}

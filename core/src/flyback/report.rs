@@ -1,0 +1,49 @@
+//! A design report as Markdown: summary, corner table, loss budget, overload and rules, with
+//! the safety caution.
+
+use super::design::FlybackDesign;
+use crate::report::{Record, Table, SAFETY_CAUTION};
+use std::fmt::Write;
+
+fn markdown_table(t: &Table) -> String {
+    let cols = t.column_names().to_vec();
+    let mut s = String::new();
+    let _ = writeln!(s, "| {} |", cols.join(" | "));
+    let _ = writeln!(s, "|{}", "---|".repeat(cols.len()));
+    for r in 0..t.len() {
+        let cells: Vec<String> = cols
+            .iter()
+            .map(|c| t.get(r, c).map(|v| v.to_string()).unwrap_or_default())
+            .collect();
+        let _ = writeln!(s, "| {} |", cells.join(" | "));
+    }
+    s
+}
+
+/// The design as a Markdown report with the safety caution; `title` heads it.
+pub fn design_report_markdown(design: &FlybackDesign, title: &str) -> String {
+    let mut s = String::new();
+    let _ = writeln!(s, "# {title}\n");
+    let _ = writeln!(s, "> {SAFETY_CAUTION}\n");
+    let _ = writeln!(s, "## Summary\n");
+    let _ = writeln!(s, "| quantity | value |\n|---|---|");
+    for f in design.fields() {
+        let _ = writeln!(s, "| {} | {} |", f.name, f.value);
+    }
+    let _ = writeln!(s, "\n## Corners\n");
+    s.push_str(&markdown_table(&design.corner_table()));
+    if let Some(c) = design.corners.first() {
+        let _ = writeln!(s, "\n## Loss budget at {}\n", c.corner.replace('_', " "));
+        s.push_str(&markdown_table(&c.losses.table()));
+    }
+    let _ = writeln!(s, "\n## Output power at the current limit\n");
+    s.push_str(&markdown_table(&design.overload_table()));
+    let _ = writeln!(s, "\n## Design rules\n");
+    s.push_str(&markdown_table(&crate::rules::checks_table(&design.checks)));
+    let _ = writeln!(
+        s,
+        "\nThe bias winding voltage is an estimate from rectifier drops only; leakage spikes \
+         raise it at heavy load. Transformer losses are an estimate until the transformer is designed."
+    );
+    s
+}

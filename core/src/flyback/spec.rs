@@ -1,0 +1,444 @@
+//! What a flyback must do: input range, outputs, switching, mode target, stresses, losses.
+
+use crate::error::{Error, Result};
+use crate::units::validate::{non_negative, number_within, positive};
+use crate::units::{
+    si, Capacitance, ElectricCurrent, ElectricPotential, ElectricalResistance, Frequency,
+    Inductance, Power, Quantity, Time,
+};
+
+/// The supply's input.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub enum InputRange {
+    /// Mains through a full-wave bridge into a bulk capacitor.
+    Ac {
+        /// Lowest line voltage, RMS.
+        min_rms: ElectricPotential,
+        /// Highest line voltage, RMS.
+        max_rms: ElectricPotential,
+        /// Line frequency (use the lowest one the supply must work at: 50 Hz for universal).
+        line_frequency: Frequency,
+    },
+    /// A DC bus (no bridge, no line ripple).
+    Dc {
+        /// Lowest bus voltage.
+        min: ElectricPotential,
+        /// Highest bus voltage.
+        max: ElectricPotential,
+    },
+}
+
+/// How the bulk capacitor is given.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub enum BulkChoice {
+    /// This capacitance.
+    Capacitance(Capacitance),
+    /// Size it (rounded up to the E12 series) so that the valley at low line and full load is
+    /// at least this voltage.
+    TargetValley(ElectricPotential),
+}
+
+/// One output winding with its rectifier and capacitor.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct OutputWinding {
+    /// Output voltage (at the capacitor, before a post filter).
+    pub voltage: ElectricPotential,
+    /// Full-load output current.
+    pub current: ElectricCurrent,
+    /// Forward drop of the output rectifier at full load.
+    pub rectifier_drop: ElectricPotential,
+    /// Reverse voltage rating of the rectifier, if a part is chosen (for the derating rule).
+    pub rectifier_voltage_rating: Option<ElectricPotential>,
+    /// Output capacitance.
+    pub capacitance: Capacitance,
+    /// Equivalent series resistance of the output capacitance (at the switching frequency).
+    pub esr: ElectricalResistance,
+    /// Ripple current rating of the output capacitance, if chosen (for its rule).
+    pub ripple_current_rating: Option<ElectricCurrent>,
+    /// Post filter inductance (with `post_filter_capacitance`), if there is an LC post filter.
+    pub post_filter_inductance: Option<Inductance>,
+    /// Post filter capacitance.
+    pub post_filter_capacitance: Option<Capacitance>,
+}
+
+impl OutputWinding {
+    /// An output with a rectifier drop of 0.5 V, 1000 µF of 30 mΩ, no ratings and no post filter.
+    pub fn new(voltage: ElectricPotential, current: ElectricCurrent) -> Self {
+        Self {
+            voltage,
+            current,
+            rectifier_drop: si(0.5),
+            rectifier_voltage_rating: None,
+            capacitance: si(1000e-6),
+            esr: si(0.03),
+            ripple_current_rating: None,
+            post_filter_inductance: None,
+            post_filter_capacitance: None,
+        }
+    }
+    /// Power delivered to the load at full load.
+    pub fn power(&self) -> Power {
+        self.voltage * self.current
+    }
+}
+
+/// The auxiliary winding that supplies the controller.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct BiasWinding {
+    /// Wanted bias voltage at full load.
+    pub voltage: ElectricPotential,
+    /// Current the controller draws.
+    pub current: ElectricCurrent,
+    /// Forward drop of the bias rectifier.
+    pub rectifier_drop: ElectricPotential,
+}
+
+/// Which operating mode the primary inductance is chosen for (at low line, full load).
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub enum ModeTarget {
+    /// Discontinuous: the inductance is (1 − margin) times the boundary inductance.
+    Discontinuous {
+        /// Relative margin below the boundary inductance, 0 … 0.9.
+        margin: f64,
+    },
+    /// Continuous with the given peak-to-peak ripple over the mid (average on-time) current,
+    /// 0 < ripple_ratio < 2 (2 is the boundary).
+    Continuous {
+        /// ΔI / I_mid at low line, full load.
+        ripple_ratio: f64,
+    },
+    /// Boundary (critical) conduction at low line, full load.
+    Boundary,
+}
+
+/// The primary clamp against the leakage spike.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum ClampKind {
+    /// Resistor, capacitor and diode: the clamp voltage follows the leakage energy.
+    Rcd,
+    /// A Zener (transient suppressor) and diode: the clamp voltage is fixed.
+    Zener,
+}
+
+/// The leakage inductance of the transformer, referred to the primary.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub enum Leakage {
+    /// A fraction of the primary inductance (common practice: 1–3 %).
+    Fraction(f64),
+    /// A value (for example from the transformer design).
+    Value(Inductance),
+}
+
+/// How efficiency is obtained.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub enum EfficiencyModel {
+    /// A fixed estimate; the loss budget then shows the difference as unaccounted.
+    Estimate(f64),
+    /// Computed from the loss model, iterating until it settles (the estimate starts it).
+    Computed {
+        /// Starting estimate.
+        start: f64,
+    },
+}
+
+/// Parameters of the loss model.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct LossParameters {
+    /// Switch on-resistance at 25 °C.
+    pub switch_on_resistance: ElectricalResistance,
+    /// Ratio of on-resistance hot to 25 °C (about 1.8–2.2 at 100–125 °C for high-voltage
+    /// switches; common practice, no published source).
+    pub on_resistance_hot_factor: f64,
+    /// Switch output capacitance (energy-equivalent), discharged at each turn-on.
+    pub switch_output_capacitance: Capacitance,
+    /// Current-voltage overlap time of each switching transition.
+    pub transition_time: Time,
+    /// Controller supply power (drawn from the bias winding).
+    pub controller_power: Power,
+    /// Equivalent series resistance of the bulk capacitor.
+    pub bulk_esr: ElectricalResistance,
+    /// Transformer copper and core loss as a fraction of output power (an estimate until the
+    /// transformer is designed).
+    pub transformer_loss_fraction: f64,
+}
+
+impl Default for LossParameters {
+    fn default() -> Self {
+        Self {
+            switch_on_resistance: si(1.5),
+            on_resistance_hot_factor: 2.0,
+            switch_output_capacitance: si(20e-12),
+            transition_time: si(30e-9),
+            controller_power: si(0.1),
+            bulk_esr: si(1.0),
+            transformer_loss_fraction: 0.02,
+        }
+    }
+}
+
+/// The specification of an offline flyback power stage.
+#[derive(Clone, Debug, PartialEq)]
+pub struct FlybackSpec {
+    /// Input voltage range.
+    pub input: InputRange,
+    /// Bulk capacitor, given or sized for a valley (ignored for a DC input).
+    pub bulk: BulkChoice,
+    /// Forward drop of one bridge diode.
+    pub bridge_diode_drop: ElectricPotential,
+    /// Ripple current rating of the bulk capacitor, if chosen (for its rule).
+    pub bulk_ripple_current_rating: Option<ElectricCurrent>,
+    /// Output windings; the first with `regulated` is the one the loop regulates.
+    pub outputs: Vec<OutputWinding>,
+    /// Index into `outputs` of the regulated output.
+    pub regulated_output: usize,
+    /// Controller supply winding, if any.
+    pub bias: Option<BiasWinding>,
+    /// Switching frequency (fixed).
+    pub switching_frequency: Frequency,
+    /// Nominal peak current limit of the controller; None: chosen 10 % above the peak current
+    /// at low line and full load, at the low end of its tolerance.
+    pub current_limit: Option<ElectricCurrent>,
+    /// Relative tolerance of the current limit (0.1 = ±10 %).
+    pub current_limit_tolerance: f64,
+    /// Delay from the current sense reaching the limit to the switch turning off.
+    pub current_sense_delay: Time,
+    /// Largest duty cycle the controller can give.
+    pub max_duty_cycle: f64,
+    /// Mode target for choosing the primary inductance; with `primary_inductance` given, it
+    /// becomes a check.
+    pub mode: Option<ModeTarget>,
+    /// A given primary inductance (else chosen from `mode`).
+    pub primary_inductance: Option<Inductance>,
+    /// Reflected output voltage on the primary, n·(V_out + V_rectifier) of the regulated output.
+    pub reflected_voltage: ElectricPotential,
+    /// Drain-source voltage rating of the switch.
+    pub switch_voltage_rating: ElectricPotential,
+    /// Clamp type.
+    pub clamp: ClampKind,
+    /// Clamp voltage above the reflected voltage, at the worst case (current limit).
+    pub clamp_voltage_above_reflected: ElectricPotential,
+    /// Leakage inductance.
+    pub leakage: Leakage,
+    /// Efficiency estimate or loss model.
+    pub efficiency: EfficiencyModel,
+    /// Loss model parameters.
+    pub losses: LossParameters,
+    /// Light load as a fraction of full load on every output (0 < x < 1).
+    pub light_load_fraction: f64,
+    /// Bulk voltage down to which the supply must keep regulating after the line drops
+    /// (for the hold-up time); None: the lowest voltage at which the duty limit is met.
+    pub hold_up_end_voltage: Option<ElectricPotential>,
+    /// Required hold-up time, if any (adds the `hold_up_time` rule).
+    pub hold_up_time: Option<Time>,
+    /// Rule limits overridden by rule id.
+    pub rule_limits: Vec<(String, Quantity)>,
+}
+
+impl FlybackSpec {
+    /// A universal-input (90–264 V AC, 50 Hz) spec at 65 kHz with a 650 V switch, one output,
+    /// reflected voltage 100 V, CCM with ripple ratio 0.8 … every default as documented on the
+    /// fields' script keys (`help flyback_design`).
+    pub fn universal(output: OutputWinding) -> Self {
+        Self {
+            input: InputRange::Ac {
+                min_rms: si(90.0),
+                max_rms: si(264.0),
+                line_frequency: si(50.0),
+            },
+            bulk: BulkChoice::TargetValley(si(80.0)),
+            bridge_diode_drop: si(1.0),
+            bulk_ripple_current_rating: None,
+            outputs: vec![output],
+            regulated_output: 0,
+            bias: None,
+            switching_frequency: si(65e3),
+            current_limit: None,
+            current_limit_tolerance: 0.1,
+            current_sense_delay: si(100e-9),
+            max_duty_cycle: 0.7,
+            mode: Some(ModeTarget::Continuous { ripple_ratio: 0.8 }),
+            primary_inductance: None,
+            reflected_voltage: si(100.0),
+            switch_voltage_rating: si(650.0),
+            clamp: ClampKind::Rcd,
+            clamp_voltage_above_reflected: si(50.0),
+            leakage: Leakage::Fraction(0.02),
+            efficiency: EfficiencyModel::Computed { start: 0.85 },
+            losses: LossParameters::default(),
+            light_load_fraction: 0.1,
+            hold_up_end_voltage: None,
+            hold_up_time: None,
+            rule_limits: Vec::new(),
+        }
+    }
+
+    /// Total output power at full load (outputs and bias).
+    pub fn output_power(&self) -> Power {
+        let mut p: f64 = self.outputs.iter().map(|o| o.power().value).sum();
+        if let Some(b) = &self.bias {
+            p += (b.voltage * b.current).value;
+        }
+        si(p)
+    }
+
+    /// Checks every field: finite, positive where needed, ranges consistent.
+    pub fn validate(&self) -> Result<()> {
+        match self.input {
+            InputRange::Ac {
+                min_rms,
+                max_rms,
+                line_frequency,
+            } => {
+                positive("min_line_voltage", min_rms)?;
+                positive("max_line_voltage", max_rms)?;
+                positive("line_frequency", line_frequency)?;
+                if min_rms > max_rms {
+                    return Err(Error::invalid(format!(
+                        "`min_line_voltage` ({}) is above `max_line_voltage` ({})",
+                        Quantity::from_typed(min_rms),
+                        Quantity::from_typed(max_rms)
+                    )));
+                }
+            }
+            InputRange::Dc { min, max } => {
+                positive("min_line_voltage", min)?;
+                positive("max_line_voltage", max)?;
+                if min > max {
+                    return Err(Error::invalid(format!(
+                        "`min_line_voltage` ({}) of the DC bus is above `max_line_voltage` ({})",
+                        Quantity::from_typed(min),
+                        Quantity::from_typed(max)
+                    )));
+                }
+            }
+        }
+        match self.bulk {
+            BulkChoice::Capacitance(c) => {
+                positive("bulk_capacitance", c)?;
+            }
+            BulkChoice::TargetValley(v) => {
+                positive("target_valley_voltage", v)?;
+            }
+        }
+        non_negative("bridge_diode_drop", self.bridge_diode_drop)?;
+        if let Some(r) = self.bulk_ripple_current_rating {
+            positive("bulk_ripple_current_rating", r)?;
+        }
+        if self.outputs.is_empty() {
+            return Err(Error::invalid("`outputs` must list at least one output"));
+        }
+        if self.regulated_output >= self.outputs.len() {
+            return Err(Error::invalid(format!(
+                "`regulated_output` {} is not an output index (0 … {})",
+                self.regulated_output,
+                self.outputs.len() - 1
+            )));
+        }
+        for (i, o) in self.outputs.iter().enumerate() {
+            let n = |k: &str| format!("outputs[{i}].{k}");
+            positive(&n("voltage"), o.voltage)?;
+            positive(&n("current"), o.current)?;
+            non_negative(&n("rectifier_drop"), o.rectifier_drop)?;
+            if let Some(r) = o.rectifier_voltage_rating {
+                positive(&n("rectifier_voltage_rating"), r)?;
+            }
+            positive(&n("capacitance"), o.capacitance)?;
+            non_negative(&n("esr"), o.esr)?;
+            if let Some(r) = o.ripple_current_rating {
+                positive(&n("ripple_current_rating"), r)?;
+            }
+            match (o.post_filter_inductance, o.post_filter_capacitance) {
+                (Some(l), Some(c)) => {
+                    positive(&n("post_filter_inductance"), l)?;
+                    positive(&n("post_filter_capacitance"), c)?;
+                }
+                (None, None) => {}
+                _ => {
+                    return Err(Error::invalid(format!(
+                        "`{}` and `{}` must be given together",
+                        n("post_filter_inductance"),
+                        n("post_filter_capacitance")
+                    )))
+                }
+            }
+        }
+        if let Some(b) = &self.bias {
+            positive("bias_voltage", b.voltage)?;
+            non_negative("bias_current", b.current)?;
+            non_negative("bias_rectifier_drop", b.rectifier_drop)?;
+        }
+        positive("switching_frequency", self.switching_frequency)?;
+        if let Some(i) = self.current_limit {
+            positive("current_limit", i)?;
+        }
+        number_within(
+            "current_limit_tolerance",
+            self.current_limit_tolerance,
+            0.0,
+            0.5,
+        )?;
+        non_negative("current_sense_delay", self.current_sense_delay)?;
+        number_within("max_duty_cycle", self.max_duty_cycle, 0.05, 0.95)?;
+        match self.mode {
+            Some(ModeTarget::Discontinuous { margin }) => {
+                number_within("dcm_margin", margin, 0.0, 0.9)?;
+            }
+            Some(ModeTarget::Continuous { ripple_ratio }) => {
+                number_within("ripple_ratio", ripple_ratio, 0.05, 1.99)?;
+            }
+            _ => {}
+        }
+        if let Some(l) = self.primary_inductance {
+            positive("primary_inductance", l)?;
+        } else if self.mode.is_none() {
+            return Err(Error::missing(
+                "give either a `mode` target or a `primary_inductance` (H)",
+            ));
+        }
+        positive("reflected_voltage", self.reflected_voltage)?;
+        positive("switch_voltage_rating", self.switch_voltage_rating)?;
+        positive(
+            "clamp_voltage_above_reflected",
+            self.clamp_voltage_above_reflected,
+        )?;
+        match self.leakage {
+            Leakage::Fraction(x) => {
+                number_within("leakage_fraction", x, 0.0, 0.2)?;
+            }
+            Leakage::Value(l) => {
+                non_negative("leakage_inductance", l)?;
+            }
+        }
+        match self.efficiency {
+            EfficiencyModel::Estimate(x) | EfficiencyModel::Computed { start: x } => {
+                number_within("efficiency", x, 0.3, 1.0)?;
+            }
+        }
+        let l = &self.losses;
+        non_negative("switch_on_resistance", l.switch_on_resistance)?;
+        number_within(
+            "on_resistance_hot_factor",
+            l.on_resistance_hot_factor,
+            1.0,
+            4.0,
+        )?;
+        non_negative("switch_output_capacitance", l.switch_output_capacitance)?;
+        non_negative("transition_time", l.transition_time)?;
+        non_negative("controller_power", l.controller_power)?;
+        non_negative("bulk_esr", l.bulk_esr)?;
+        number_within(
+            "transformer_loss_fraction",
+            l.transformer_loss_fraction,
+            0.0,
+            0.3,
+        )?;
+        number_within("light_load_fraction", self.light_load_fraction, 0.01, 0.99)?;
+        if let Some(v) = self.hold_up_end_voltage {
+            positive("hold_up_end_voltage", v)?;
+        }
+        if let Some(t) = self.hold_up_time {
+            positive("hold_up_time", t)?;
+        }
+        Ok(())
+    }
+}
