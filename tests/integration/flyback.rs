@@ -350,7 +350,7 @@ fn script_design_reads_with_units() {
     assert!(eval(&format!("{d} d.primary_inductance")).ends_with("mH"));
     assert_eq!(eval(&format!("{d} corner_table(d).rows")), "6");
     assert_eq!(eval(&format!("{d} overload_table(d).rows")), "4");
-    assert_eq!(eval(&format!("{d} d.mode_low_line_full_load")), "\"ccm\"");
+    assert_eq!(eval(&format!("{d} d.mode_low_line_full_load")), "ccm");
     let q = eval_quantity(&format!(
         "{d} flyback_corner(d, \"high_line_full_load\").drain_voltage_peak"
     ));

@@ -135,7 +135,7 @@ pub fn bulk_capacitor(spec: &BulkCapacitorSpec) -> Result<BulkCapacitor> {
         bridge_current_rms: si(irms_bridge),
         bridge_current_peak: si(ipk),
         ripple_current_rms: si(iripple),
-        capacitance_per_watt: Quantity::new(c / p, Dimension::CAPACITANCE.div(Dimension::POWER)),
+        capacitance_per_watt: Quantity::new(c / p, Dimension::CAPACITANCE / Dimension::POWER),
         input_power: spec.input_power,
     })
 }
