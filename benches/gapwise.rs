@@ -125,6 +125,34 @@ fn family(host: &ScriptHost) {
     );
 }
 
+fn flyback(host: &ScriptHost) {
+    use gapwise::flyback::{flyback_design, FlybackSpec, OutputWinding};
+    use gapwise::units::si;
+    println!("-- one full flyback design (all corners, efficiency iterated)");
+    let spec = FlybackSpec::universal(OutputWinding::new(si(12.0), si(1.25)));
+    time_per_iteration("native flyback_design, 12 V / 1.25 A", 1, || {
+        black_box(flyback_design(black_box(&spec)).ok());
+    });
+    let source = "flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A})";
+    let ast = compile(host, source);
+    time_per_iteration("script flyback_design, 12 V / 1.25 A", 1, || {
+        run(host, &ast, source)
+    });
+    let family = r#"
+        let variants = [];
+        for i in 0..10000 {
+            variants.push(#{output_voltage: (5 + (i % 44)) * V, output_current: (0.5 + (i % 7) * 0.25) * A});
+        }
+        family(|v| flyback_summary(flyback_design(v)), variants)
+    "#;
+    let ast = compile(host, family);
+    time_per_iteration(
+        "flyback family of 10,000 variants, all cores (per variant)",
+        10_000,
+        || run(host, &ast, family),
+    );
+}
+
 fn main() {
     // `cargo test --benches` passes --bench-less flags; only time under `cargo bench`.
     if std::env::args().any(|a| a == "--list") {
@@ -137,4 +165,5 @@ fn main() {
     );
     call_overhead(&host);
     family(&host);
+    flyback(&host);
 }
