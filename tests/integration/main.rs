@@ -2,6 +2,7 @@
 //! Each check of a computed value names its source beside it.
 
 mod common;
+mod magnetics;
 mod passives;
 mod recipes;
 mod sandbox;
