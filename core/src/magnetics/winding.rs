@@ -255,11 +255,15 @@ fn size_at_or_below(system: WireSystem, d: f64) -> Result<(Option<i64>, f64)> {
     }
 }
 
+const MIN_WOUND_DIAMETER: f64 = 0.1e-3;
+
 /// Chooses a wire for an RMS current: copper area I_rms/J_max; one strand when its
 /// diameter fits under `max_strand_diameter` (commonly two skin depths at the switching
 /// frequency), otherwise that largest allowed strand size in parallel (or as litz strands).
-/// Sizes from ASTM B258 (AWG) or the metric R20 series. Reference for the two-skin-depth
-/// rule: common practice, no published source.
+/// Sizes from ASTM B258 (AWG) or the metric R20 series; no strand thinner than 0.1 mm is
+/// chosen (thinner wire breaks when wound by hand), unless the strand limit is thinner.
+/// Reference for the two-skin-depth rule and the 0.1 mm floor: common practice, no
+/// published source.
 pub fn choose_wire(
     rms_current: ElectricCurrent,
     max_current_density: crate::units::ElectricCurrentDensity,
@@ -271,7 +275,7 @@ pub fn choose_wire(
     let j = positive("max_current_density", max_current_density)?.value;
     let dmax = positive("max_strand_diameter", max_strand_diameter)?.value;
     let area = i / j;
-    let d_one = (4.0 * area / PI).sqrt();
+    let d_one = (4.0 * area / PI).sqrt().max(MIN_WOUND_DIAMETER.min(dmax));
     let single = match system {
         WireSystem::Awg => awg_at_or_above(d_one).ok().map(|(g, d)| (Some(g), d)),
         WireSystem::Metric => metric_wire_at_or_above(si(d_one))
