@@ -303,8 +303,8 @@ impl Core {
         Ok(Core {
             name: name.to_string(),
             family: CoreFamily::Custom,
-            effective_area: effective_area,
-            effective_length: effective_length,
+            effective_area,
+            effective_length,
             effective_volume: si(ae * le),
             minimum_area: effective_area,
             centre_leg_area: effective_area,

@@ -304,7 +304,7 @@ pub fn choose_wire(
     Ok(WireChoice {
         strand_diameter: si(d),
         gauge,
-        strands: if litz { strands } else { strands },
+        strands,
         insulation,
         overall_diameter: overall,
     })
@@ -361,7 +361,7 @@ pub fn layer_fit(
     let m = non_negative("margin", margin)?.value;
     let usable = w - 2.0 * m;
     let tpl = (usable / wire.turn_width()).floor();
-    if !(tpl >= 1.0) {
+    if tpl.is_nan() || tpl < 1.0 {
         return Err(Error::infeasible(format!(
             "not one turn of {} fits in {:.3} mm of bobbin width less 2 × {:.3} mm margin",
             wire.describe(),
