@@ -230,7 +230,7 @@ fn q<T: crate::units::TypedQuantity>(x: T) -> Quantity {
 
 /// Designs the transformer.
 ///
-/// Steps and formulas: Np,min = L·(1 + tol_L)·I_lim·(1 + tol_I)/(B_max·Amin); Ns is the
+/// Steps and formulas: Np,min = L·(1 + tol_L)·I_lim·(1 + tol_I)/(B_max·min(Amin, Ae)); Ns is the
 /// smallest integer with Np = round(Ns·V_or/(Vo + Vf)) ≥ Np,min; V_or = (Np/Ns)·(Vo + Vf);
 /// Nb = round(Ns·(Vb + Vfb)/(Vo + Vf)); the gap by [`air_gap_for_inductance`] (McLyman
 /// fringing, iterated); B_pk = L·I_pk/(Np·Ae); ΔB = L·(I_pk − I_valley)/(Np·Ae); core loss
@@ -300,7 +300,7 @@ pub fn transformer_design(spec: &TransformerSpec) -> Result<TransformerDesign> {
 
     // turns
     let ae = core.effective_area.value;
-    let amin = core.minimum_area.value;
+    let amin = core.minimum_area.value.min(ae);
     let l_max = l * (1.0 + tol_l);
     let ilim_max = ilim * (1.0 + tol_i);
     let np_min = l_max * ilim_max / (bmax * amin);
