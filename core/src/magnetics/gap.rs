@@ -70,6 +70,11 @@ fn gap_reluctance(core: &Core, g: f64, placement: GapPlacement) -> Result<f64> {
     if g == 0.0 {
         return Ok(0.0);
     }
+    if placement == GapPlacement::Spacer && core.family == super::cores::CoreFamily::Toroid {
+        return Err(Error::invalid(
+            "a toroid has no legs to put a spacer under; use `gap_placement` \"centre_leg\" for a cut ring",
+        ));
+    }
     let h = window_height(core);
     let ac = core.centre_leg_area.value;
     let fc = fringing_factor(si(g), si(ac), si(h))?;

@@ -304,6 +304,11 @@ pub fn transformer_design(spec: &TransformerSpec) -> Result<TransformerDesign> {
     let l_max = l * (1.0 + tol_l);
     let ilim_max = ilim * (1.0 + tol_i);
     let np_min = l_max * ilim_max / (bmax * amin);
+    if !(np_min.is_finite() && np_min <= 100_000.0) {
+        return Err(Error::infeasible(format!(
+            "the flux limit needs {np_min:.4e} primary turns; raise `max_flux_density` or choose a larger core"
+        )));
+    }
     let ratio = vor_target / (vo + vf);
     let mut ns = 1u32;
     let np = loop {
