@@ -401,6 +401,18 @@ fn transformer_design_bad_inputs_name_the_parameter() {
 }
 
 #[test]
+fn secondary_wire_kinds() {
+    // litz: strands of the given diameter, copper area for 6 A/mm², and a lower AC factor
+    // than solid parallel strands at the same current (Dowell per strand layer)
+    let litz = eval(&format!("let s = {DESIGN}; s.secondary_litz = true; transformer_design(s).design[\"secondary.wire\"]"));
+    assert!(litz.contains("litz") && litz.contains("0.100 mm"), "{litz}");
+    let tiw = eval(&format!("let s = {DESIGN}; s.secondary_triple_insulated = true; transformer_design(s).design[\"secondary.wire\"]"));
+    assert!(tiw.contains("triple-insulated"), "{tiw}");
+    let e = eval_err(&format!("let s = {DESIGN}; s.secondary_triple_insulated = true; s.secondary_litz = true; transformer_design(s)"));
+    assert!(e.message.contains("exclude each other"), "{}", e.message);
+}
+
+#[test]
 fn materials_are_editable_from_scripts() {
     let b = eval_quantity(
         "ferrite_material(\"mnzn_power_100khz\", #{saturation_100c: 0.35 * T}).saturation_100c",
@@ -440,6 +452,14 @@ fn temperature_rise_mclyman() {
 
 proptest! {
     #![proptest_config(ProptestConfig::with_cases(64))]
+
+    #[test]
+    fn dowell_rises_with_layers(delta in 0.01f64..15.0, m in 1.0f64..20.0, more in 0.5f64..5.0) {
+        // Dowell 1966: at a fixed penetration ratio, more layers never lower Fr, and Fr ≥ 1
+        let a = dowell_resistance_factor(delta, m).unwrap();
+        let b = dowell_resistance_factor(delta, m + more).unwrap();
+        prop_assert!(a >= 1.0 - 1e-12 && b >= a);
+    }
 
     #[test]
     fn more_turns_never_lower_inductance(n in 1.0f64..300.0, extra in 0.0f64..100.0, g in 0.0f64..1.5) {
@@ -534,6 +554,9 @@ mod tests_support {
             wire_system: WireSystem::Metric,
             enamel_grade: 2,
             secondary_triple_insulated: false,
+            primary_litz: false,
+            secondary_litz: false,
+            litz_strand_diameter: si(0.1e-3),
             max_strand_diameter: None,
             max_current_density: si(6e6),
             max_window_fill: 0.35,

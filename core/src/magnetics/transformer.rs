@@ -109,6 +109,12 @@ pub struct TransformerSpec {
     pub enamel_grade: u8,
     /// True: the secondary is triple-insulated wire (no margin tape needed).
     pub secondary_triple_insulated: bool,
+    /// True: the primary is litz wire of `litz_strand_diameter` strands.
+    pub primary_litz: bool,
+    /// True: the secondary is litz wire (not with a triple-insulated secondary).
+    pub secondary_litz: bool,
+    /// Strand diameter of litz windings.
+    pub litz_strand_diameter: Length,
     /// Largest strand diameter; `None` takes two skin depths at the switching frequency.
     pub max_strand_diameter: Option<Length>,
     /// House limit: current density.
@@ -386,18 +392,44 @@ pub fn transformer_design(spec: &TransformerSpec) -> Result<TransformerDesign> {
         None => si(2.0 * delta.value),
     };
     let enamel = WireInsulation::Enamel(spec.enamel_grade);
-    let wp = choose_wire(primary_current.rms()?, jmax, dmax, spec.wire_system, enamel)?;
-    let ws = choose_wire(
-        secondary_current.rms()?,
-        jmax,
-        dmax,
-        spec.wire_system,
-        if spec.secondary_triple_insulated {
-            WireInsulation::TripleInsulated
-        } else {
-            enamel
-        },
-    )?;
+    if spec.secondary_litz && spec.secondary_triple_insulated {
+        return Err(Error::invalid(
+            "`secondary_litz` and `secondary_triple_insulated` exclude each other",
+        ));
+    }
+    let litz_d = positive("litz_strand_diameter", spec.litz_strand_diameter)?;
+    let wp = if spec.primary_litz {
+        choose_wire(
+            primary_current.rms()?,
+            jmax,
+            litz_d,
+            spec.wire_system,
+            WireInsulation::Litz(0),
+        )?
+    } else {
+        choose_wire(primary_current.rms()?, jmax, dmax, spec.wire_system, enamel)?
+    };
+    let ws = if spec.secondary_litz {
+        choose_wire(
+            secondary_current.rms()?,
+            jmax,
+            litz_d,
+            spec.wire_system,
+            WireInsulation::Litz(0),
+        )?
+    } else {
+        choose_wire(
+            secondary_current.rms()?,
+            jmax,
+            dmax,
+            spec.wire_system,
+            if spec.secondary_triple_insulated {
+                WireInsulation::TripleInsulated
+            } else {
+                enamel
+            },
+        )?
+    };
     let wb = match bias_current {
         Some(c) => Some(choose_wire(c.rms()?, jmax, dmax, spec.wire_system, enamel)?),
         None => None,
