@@ -401,6 +401,29 @@ fn transformer_design_bad_inputs_name_the_parameter() {
 }
 
 #[test]
+fn interleaving_lowers_leakage_and_creepage_is_checked() {
+    // MMF energy method (Erickson & Maksimović 3rd ed., magnetics chapter, interleaved
+    // windings): splitting the primary around the secondary halves the peak MMF, so the
+    // leakage drops to well under half
+    let split = eval_quantity(&format!(
+        "transformer_design({DESIGN}).design.leakage_inductance"
+    ));
+    let plain = eval_quantity(&format!(
+        "let s = {DESIGN}; s.winding_order = \"primary_secondary_bias\"; transformer_design(s).design.leakage_inductance"
+    ));
+    assert!(split.value() < 0.5 * plain.value(), "{split} vs {plain}");
+    let st = eval(&format!(
+        "let s = {DESIGN}; s.required_creepage = 6.4 * mm; let c = transformer_design(s).checks; c.filter(|x| x.id == \"creepage_along_bobbin\")[0].status"
+    ));
+    assert_eq!(st, "\"fail\"", "2 × 2 mm margins are below 6.4 mm");
+    // a given thermal resistance replaces the surface fit: ΔT = Rθ·P
+    let r = eval_quantity(&format!(
+        "let s = {DESIGN}; s.thermal_resistance = 30 * K / W; let d = transformer_design(s).design; d.temperature_rise / d.total_loss"
+    ));
+    check_near(r, "30 K/W", 1e-9);
+}
+
+#[test]
 fn secondary_wire_kinds() {
     // litz: strands of the given diameter, copper area for 6 A/mm², and a lower AC factor
     // than solid parallel strands at the same current (Dowell per strand layer)
@@ -566,6 +589,8 @@ mod tests_support {
             functional_tape_layers: 1,
             tape_thickness: si(50e-6),
             margin_width: si(2e-3),
+            required_creepage: None,
+            thermal_resistance: None,
             winding_order: WindingOrder::SplitPrimary,
             insulation_class: "B".into(),
         }

@@ -134,6 +134,12 @@ pub struct TransformerSpec {
     /// Margin tape width on each side of each winding (creepage along the bobbin; half the
     /// required creepage is common); ignored with a triple-insulated secondary.
     pub margin_width: Length,
+    /// Creepage required along the bobbin from primary to secondary windings (from the
+    /// safety analysis); checked against the two margins it crosses. `None`: not checked.
+    pub required_creepage: Option<Length>,
+    /// Thermal resistance transformer-to-ambient, when known (measured or from a maker);
+    /// `None` uses McLyman's surface fit.
+    pub thermal_resistance: Option<crate::units::ThermalResistance>,
     /// Winding order.
     pub winding_order: WindingOrder,
     /// Insulation thermal class (A, E, B, F, H).
@@ -244,7 +250,8 @@ fn q<T: crate::units::TypedQuantity>(x: T) -> Quantity {
 /// [`layer_fit`]; copper loss by Dowell per harmonic ([`winding_copper_loss`]); leakage by
 /// the MMF energy method L_lk = µ0·Σ MLT·∫MMF²dx / b_w (secondary shorted, bias open;
 /// Kazimierczuk 2014, chapter on leakage / Erickson & Maksimović 3rd ed., magnetics
-/// chapter); ΔT = 450·(P/At)^0.826 (McLyman 2011, chapter 6).
+/// chapter); ΔT = 450·(P/At)^0.826 (McLyman 2011, chapter 6), or Rθ·P when a thermal
+/// resistance is given.
 /// Assumptions: the main secondary carries the whole reflected primary current
 /// (conservative when a bias winding is present); the bias current is a triangle over the
 /// secondary conduction time; all windings have the same direction and the layer
@@ -599,7 +606,10 @@ pub fn transformer_design(spec: &TransformerSpec) -> Result<TransformerDesign> {
     }
     let leakage = MU0 * leak_integral / usable_width;
     let total = core_loss + copper_total;
-    let rise = temperature_rise(si(total), core.surface_area)?;
+    let rise = match spec.thermal_resistance {
+        Some(r) => super::thermal::temperature_rise_thermal_resistance(si(total), r)?,
+        None => temperature_rise(si(total), core.surface_area)?,
+    };
     let hot = spec.ambient_temperature.value + rise.value;
     for v in [
         b_pk,
@@ -789,6 +799,17 @@ pub fn transformer_checks(
             num(d.insulation_layers_present as f64),
         )?,
     ];
+    if let (Some(c), false) = (spec.required_creepage, spec.secondary_triple_insulated) {
+        let c = positive("required_creepage", c)?;
+        out.push(rule(
+            "creepage_along_bobbin",
+            "creepage from primary to secondary along the bobbin: the two margins it crosses",
+            "required creepage from the safety analysis (IEC 62368-1 / IEC 60664-1)",
+            Comparison::AtLeast,
+            q(c),
+            q(si::<Length>(2.0 * spec.margin_width.value)),
+        )?);
+    }
     for s in &d.sections {
         let id = s.name.replace([',', ' '], "_").replace("__", "_");
         out.push(rule(

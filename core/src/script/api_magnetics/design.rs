@@ -277,6 +277,8 @@ static DESIGN: FunctionDoc = FunctionDoc {
         ParamDoc::with_default("functional_tape_layers", ParamKind::Integer, "1", "tape layers between same-side windings"),
         ParamDoc::with_default("tape_thickness", ParamKind::Quantity("m"), "0.05 mm", "one tape layer"),
         ParamDoc::with_default("margin_width", ParamKind::Quantity("m"), "2.5 mm", "margin tape each side (half the creepage)"),
+        ParamDoc::optional("required_creepage", ParamKind::Quantity("m"), "creepage along the bobbin from the safety analysis (checked against 2 × margin)"),
+        ParamDoc::optional("thermal_resistance", ParamKind::Quantity("K/W"), "transformer-to-ambient (default: McLyman's surface fit)"),
         ParamDoc::with_default("winding_order", ParamKind::Text, "split_primary", "\"split_primary\" or \"primary_secondary_bias\""),
         ParamDoc::with_default("insulation_class", ParamKind::Text, "B", "thermal class A, E, B, F or H"),
     ],
@@ -549,6 +551,8 @@ fn transformer_spec(s: &Spec) -> Result<TransformerSpec> {
         functional_tape_layers: count("functional_tape_layers")?,
         tape_thickness: s.quantity("tape_thickness")?,
         margin_width: s.quantity("margin_width")?,
+        required_creepage: s.optional_quantity("required_creepage")?,
+        thermal_resistance: s.optional_quantity("thermal_resistance")?,
         winding_order: WindingOrder::parse(&s.text("winding_order")?)?,
         insulation_class: s.text("insulation_class")?,
     })
