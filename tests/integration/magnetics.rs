@@ -116,6 +116,29 @@ fn gap_and_inductance_are_inverse() {
 }
 
 #[test]
+fn gap_functions_refuse_bad_input() {
+    for (src, needle) in [
+        ("air_gap_for_inductance(\"ETD29\", -3, 1 * mH)", "turns"),
+        ("air_gap_for_inductance(\"ETD29\", 40, 1 * A)", "inductance"),
+        ("inductance_for_air_gap(\"ETD29\", 40, -0.1 * mm)", "gap"),
+        (
+            "inductance_for_air_gap(\"T25/15/10\", 40, 0.1 * mm, \"spacer\")",
+            "toroid",
+        ),
+        (
+            "inductance_for_air_gap(\"ETD29\", 40, 0.1 * mm, \"sideways\")",
+            "gap_placement",
+        ),
+        ("air_gap_for_inductance(\"ETD29\", 40, 1 * H)", "no air gap"),
+        ("core_by_size(\"ETD 99\")", "unknown core size"),
+        ("dowell_resistance_factor(1.0, 0)", "layers"),
+    ] {
+        let e = eval_err(src);
+        assert!(e.message.contains(needle), "{src}: {}", e.message);
+    }
+}
+
+#[test]
 fn fringing_factor_formula() {
     // McLyman, Transformer and Inductor Design Handbook, 4th ed. 2011, ch. 8:
     // F = 1 + (lg/√A)·ln(2G/lg); hand calculation of the same formula (not an independent
