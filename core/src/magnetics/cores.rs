@@ -556,9 +556,9 @@ fn normalise(name: &str) -> String {
         .collect()
 }
 
-/// A built-in core by its size name (`"ETD29"`, `"E25/13/7"` is also accepted as `"EF25"`'s
-/// neighbour only if listed); case, spaces, `-` and `_` are ignored. An unknown name is an
-/// error that lists the nearest known names.
+/// A built-in core by its size name (`"ETD29"`, `"E19/8/5"`, `"T25/15/10"`); case, spaces,
+/// `-` and `_` are ignored. An unknown name is an error that suggests the nearest known
+/// name and lists them all.
 pub fn core_by_size(name: &str) -> Result<Core> {
     let want = normalise(name);
     let all = core_shapes()?;
