@@ -447,6 +447,28 @@ fn interleaving_lowers_leakage_and_creepage_is_checked() {
 }
 
 #[test]
+fn wire_by_current_density_and_skin_depth() {
+    // 2.6 A at 6 A/mm² needs 0.433 mm² (d = 0.743 mm), above two skin depths at 65 kHz and
+    // 100 °C (2 × 0.297 mm), so 0.56 mm strands in parallel: 2 give 0.493 mm²
+    // (hand calculation of the rule, not a reference)
+    let w = "winding_wire(#{rms_current: 2.6 * A, frequency: 65 * kHz})";
+    assert_eq!(eval(&format!("{w}.strands")), "2");
+    check_near(
+        eval_quantity(&format!("{w}.strand_diameter")),
+        "0.56 mm",
+        1e-9,
+    );
+    assert!(eval_quantity(&format!("{w}.current_density")).value() <= 6e6);
+    // AWG: 0.5 A needs 0.0833 mm² (d = 0.326 mm); ASTM B258: AWG 27 is 0.361 mm, AWG 28
+    // is 0.321 mm (too thin), so one strand of AWG 27
+    let a = "winding_wire(#{rms_current: 0.5 * A, wire_system: \"awg\", frequency: 65 * kHz})";
+    assert_eq!(eval(&format!("{a}.gauge")), "27");
+    assert_eq!(eval(&format!("{a}.strands")), "1");
+    let e = eval_err("winding_wire(#{rms_current: 0.5 * A, insulation: \"paper\"})");
+    assert!(e.message.contains("insulation"), "{}", e.message);
+}
+
+#[test]
 fn secondary_wire_kinds() {
     // litz: strands of the given diameter, copper area for 6 A/mm², and a lower AC factor
     // than solid parallel strands at the same current (Dowell per strand layer)

@@ -203,6 +203,24 @@ static DOWELL: FunctionDoc = FunctionDoc {
     returns: "number",
     example: "dowell_resistance_factor(1.0, 3)",
 };
+static WIRE: FunctionDoc = FunctionDoc {
+    name: "winding_wire",
+    domain: Domain::Magnetics,
+    summary: "Wire for an RMS current by current density, with strands in parallel (or litz) when one strand would exceed the strand limit.",
+    params: &[ParamDoc::required("spec", ParamKind::Map, "see keys")],
+    keys: &[
+        ParamDoc::required("rms_current", ParamKind::Quantity("A"), "RMS current of the winding"),
+        ParamDoc::with_default("max_current_density", ParamKind::Quantity("A/m²"), "6 A/mm2", "current density allowed"),
+        ParamDoc::optional("max_strand_diameter", ParamKind::Quantity("m"), "largest strand (default two skin depths at `frequency`)"),
+        ParamDoc::with_default("frequency", ParamKind::Quantity("Hz"), "100 kHz", "switching frequency for the skin depth"),
+        ParamDoc::with_default("temperature", ParamKind::Quantity("°C"), "100 °C", "copper temperature for the skin depth"),
+        ParamDoc::with_default("wire_system", ParamKind::Text, "metric", "\"metric\" or \"awg\""),
+        ParamDoc::with_default("insulation", ParamKind::Text, "enamel", "\"enamel\", \"triple_insulated\" or \"litz\""),
+        ParamDoc::with_default("enamel_grade", ParamKind::Integer, "2", "enamel grade 1 … 3"),
+    ],
+    returns: "record: description, strand_diameter, gauge (AWG, or 0), strands, overall_diameter, copper_area, current_density",
+    example: "winding_wire(#{rms_current: 2.6 * A, frequency: 65 * kHz})",
+};
 static RISE: FunctionDoc = FunctionDoc {
     name: "transformer_temperature_rise",
     domain: Domain::Magnetics,
@@ -598,6 +616,49 @@ fn core_loss(s: &Spec) -> Result<ScriptRecord> {
     Ok(ScriptRecord::new("core_loss_igse", fields))
 }
 
+fn wire(s: &Spec) -> Result<ScriptRecord> {
+    use crate::magnetics::WireInsulation;
+    let i: crate::units::ElectricCurrent = s.quantity("rms_current")?;
+    let j: crate::units::ElectricCurrentDensity = s.quantity("max_current_density")?;
+    let dmax = match s.optional_quantity("max_strand_diameter")? {
+        Some(d) => d,
+        None => si(2.0
+            * magnetics::skin_depth(s.quantity("frequency")?, s.quantity("temperature")?)?.value),
+    };
+    let grade = s.integer("enamel_grade")?;
+    if !(1..=3).contains(&grade) {
+        return Err(Error::out_of_range(format!(
+            "`enamel_grade` = {grade} is outside 1 … 3"
+        )));
+    }
+    let ins = match s.text("insulation")?.as_str() {
+        "enamel" => WireInsulation::Enamel(grade as u8),
+        "triple_insulated" => WireInsulation::TripleInsulated,
+        "litz" => WireInsulation::Litz(0),
+        o => {
+            return Err(Error::unknown(format!(
+                "unknown `insulation` '{o}'; expected \"enamel\", \"triple_insulated\" or \"litz\""
+            )))
+        }
+    };
+    let w = magnetics::choose_wire(i, j, dmax, WireSystem::parse(&s.text("wire_system")?)?, ins)?;
+    Ok(ScriptRecord::new(
+        "winding_wire",
+        vec![
+            Field::new("description", w.describe()),
+            Field::quantity("strand_diameter", w.strand_diameter),
+            Field::new("gauge", w.gauge.unwrap_or(0)),
+            Field::new("strands", w.strands as i64),
+            Field::quantity("overall_diameter", w.overall_diameter),
+            Field::quantity("copper_area", si::<crate::units::Area>(w.copper_area())),
+            Field::quantity(
+                "current_density",
+                si::<crate::units::ElectricCurrentDensity>(i.value / w.copper_area()),
+            ),
+        ],
+    ))
+}
+
 fn selection(s: &Spec) -> Result<Table> {
     let stock = match s.value("stock")? {
         Some(v) => {
@@ -857,6 +918,10 @@ pub(crate) fn register(api: &mut Api, state: &Arc<HostState>) {
         let d = lift(dynamic_to_number(&d, "penetration_ratio"))?;
         let m = lift(dynamic_to_number(&m, "layers"))?;
         lift(magnetics::dowell_resistance_factor(d, m))
+    });
+    def!(api, &WIRE, |m: Map| -> ScriptResult<ScriptRecord> {
+        let s = lift(Spec::new(&WIRE, &m))?;
+        lift(wire(&s))
     });
     def!(api, &RISE, |p: Dynamic,
                       a: Dynamic|
