@@ -4,6 +4,7 @@
 mod common;
 mod emi;
 mod flyback;
+mod magnetics;
 mod mains;
 mod passives;
 mod readme;

@@ -1,11 +1,16 @@
-//! Script API of magnetics: copper, skin depth and wire sizes.
+//! Script API of magnetics: copper, skin depth, wire sizes, cores, materials, gaps, core
+//! loss, windings, temperature rise and transformer design.
 
 use super::convert::{dynamic_to_integer, dynamic_to_typed, lift, ScriptResult};
 use super::docs::{Domain, FunctionDoc, ParamDoc, ParamKind};
+use super::host::HostState;
 use super::{def, overload, Api};
 use crate::magnetics;
 use crate::units::{Quantity, ThermodynamicTemperature};
 use rhai::{Array, Dynamic};
+use std::sync::Arc;
+
+mod design;
 
 const TEMPERATURE: ParamDoc = ParamDoc::with_default(
     "temperature",
@@ -99,7 +104,8 @@ fn temperature(t: &Dynamic) -> ScriptResult<ThermodynamicTemperature> {
     lift(dynamic_to_typed(t, "temperature"))
 }
 
-pub(crate) fn register(api: &mut Api) {
+pub(crate) fn register(api: &mut Api, state: &Arc<HostState>) {
+    design::register(api, state);
     def!(api, &SKIN, |f: Dynamic,
                       t: Dynamic|
      -> ScriptResult<Quantity> {

@@ -78,7 +78,7 @@ pub(crate) fn register_all(
     api_family::register(&mut api, state, limits);
     api_rules::register(&mut api, state);
     api_passives::register(&mut api);
-    api_magnetics::register(&mut api);
+    api_magnetics::register(&mut api, state);
     api_safety::register(&mut api, state);
     api_emi::register(&mut api, state);
     api_mains::register(&mut api);

@@ -1,0 +1,991 @@
+//! A flyback transformer from an operating point: turns, gap, flux at the current limit,
+//! core and copper loss, winding build with insulation, leakage, temperature rise, rules
+//! and a build sheet. Also core selection by area product.
+
+use super::conductor::{skin_depth, VACUUM_PERMEABILITY as MU0};
+use super::core_loss::{flyback_flux_segments, igse_loss_density};
+use super::cores::Core;
+use super::gap::{air_gap_for_inductance, GapPlacement, GapResult};
+use super::material::FerriteMaterial;
+use super::thermal::{insulation_class_limit, temperature_rise};
+use super::winding::{
+    choose_wire, layer_fit, winding_copper_loss, CopperLoss, LayerFit, WindingCurrent, WireChoice,
+    WireInsulation, WireSystem,
+};
+use crate::error::{Error, Result};
+use crate::report::{Field, Record};
+use crate::rules::{CheckResult, Comparison, Rule};
+use crate::units::validate::{non_negative, number_within, positive, positive_number};
+use crate::units::{
+    si, ElectricCurrent, ElectricCurrentDensity, ElectricPotential, Frequency, Inductance, Length,
+    MagneticFluxDensity, Power, Quantity, TemperatureInterval, ThermodynamicTemperature,
+};
+use std::f64::consts::PI;
+use std::fmt::Write;
+
+/// The order of windings from the centre leg outwards.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum WindingOrder {
+    /// Primary, secondary, bias.
+    PrimarySecondaryBias,
+    /// Half the primary, the secondary, the bias, the other half of the primary
+    /// (interleaved: lower leakage and proximity loss).
+    SplitPrimary,
+}
+
+impl WindingOrder {
+    /// Reads `primary_secondary_bias` / `split_primary`.
+    pub fn parse(text: &str) -> Result<Self> {
+        match text.trim() {
+            "primary_secondary_bias" | "primary_first" => Ok(WindingOrder::PrimarySecondaryBias),
+            "split_primary" | "interleaved" => Ok(WindingOrder::SplitPrimary),
+            o => Err(Error::unknown(format!(
+                "unknown `winding_order` '{o}'; expected \"split_primary\" or \"primary_secondary_bias\""
+            ))),
+        }
+    }
+}
+
+/// A bias (auxiliary) winding that powers the controller.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct BiasWinding {
+    /// Wanted bias voltage after its rectifier.
+    pub voltage: ElectricPotential,
+    /// Forward drop of the bias rectifier.
+    pub rectifier_drop: ElectricPotential,
+    /// Average load current of the bias supply.
+    pub current: ElectricCurrent,
+}
+
+/// Everything the transformer design needs, explicit (fill from a flyback operating point).
+#[derive(Clone, Debug, PartialEq)]
+pub struct TransformerSpec {
+    /// The core.
+    pub core: Core,
+    /// The ferrite material class.
+    pub material: FerriteMaterial,
+    /// Nominal primary inductance.
+    pub primary_inductance: Inductance,
+    /// Relative tolerance of the primary inductance (0.1 = ±10 %).
+    pub inductance_tolerance: f64,
+    /// Switching frequency.
+    pub switching_frequency: Frequency,
+    /// Peak primary current at the nominal design point (worst-case load and line).
+    pub primary_peak_current: ElectricCurrent,
+    /// Valley (start) primary current: zero in DCM, positive in CCM.
+    pub primary_valley_current: ElectricCurrent,
+    /// Switch duty cycle at the design point.
+    pub duty_cycle: f64,
+    /// Fraction of the period the secondary conducts (1 − D in CCM, t_reset/T in DCM;
+    /// the rest is the dead time).
+    pub secondary_conduction_fraction: f64,
+    /// Peak-current limit of the controller (nominal).
+    pub current_limit: ElectricCurrent,
+    /// Relative tolerance of the current limit (0.1 = +10 % worst case).
+    pub current_limit_tolerance: f64,
+    /// Reflected voltage target.
+    pub reflected_voltage: ElectricPotential,
+    /// Regulated output voltage.
+    pub output_voltage: ElectricPotential,
+    /// Output rectifier forward drop.
+    pub rectifier_drop: ElectricPotential,
+    /// Optional bias winding.
+    pub bias: Option<BiasWinding>,
+    /// House limit: peak flux density at the worst-case current limit, hot.
+    pub max_flux_density: MagneticFluxDensity,
+    /// Required margin below the 100 °C saturation flux density (0.1 = 10 %).
+    pub saturation_margin: f64,
+    /// Core temperature for loss.
+    pub core_temperature: ThermodynamicTemperature,
+    /// Winding temperature for copper resistance.
+    pub winding_temperature: ThermodynamicTemperature,
+    /// Ambient temperature around the transformer.
+    pub ambient_temperature: ThermodynamicTemperature,
+    /// Gap placement.
+    pub gap_placement: GapPlacement,
+    /// Wire sizes from AWG or metric.
+    pub wire_system: WireSystem,
+    /// Enamel grade (1 … 3) for enamelled windings.
+    pub enamel_grade: u8,
+    /// True: the secondary is triple-insulated wire (no margin tape needed).
+    pub secondary_triple_insulated: bool,
+    /// True: the primary is litz wire of `litz_strand_diameter` strands.
+    pub primary_litz: bool,
+    /// True: the secondary is litz wire (not with a triple-insulated secondary).
+    pub secondary_litz: bool,
+    /// Strand diameter of litz windings.
+    pub litz_strand_diameter: Length,
+    /// Largest strand diameter; `None` takes two skin depths at the switching frequency.
+    pub max_strand_diameter: Option<Length>,
+    /// House limit: current density.
+    pub max_current_density: ElectricCurrentDensity,
+    /// House limit: copper area over window area.
+    pub max_window_fill: f64,
+    /// House limit: temperature rise.
+    pub max_temperature_rise: TemperatureInterval,
+    /// House limit: layers per winding section (proximity loss).
+    pub max_layers: u32,
+    /// Insulation layers required between primary and secondary (from the safety analysis).
+    pub insulation_layers: u32,
+    /// Tape layers between windings on the same side of the barrier.
+    pub functional_tape_layers: u32,
+    /// Thickness of one tape layer.
+    pub tape_thickness: Length,
+    /// Margin tape width on each side of each winding (creepage along the bobbin; half the
+    /// required creepage is common); ignored with a triple-insulated secondary.
+    pub margin_width: Length,
+    /// Creepage required along the bobbin from primary to secondary windings (from the
+    /// safety analysis); checked against the two margins it crosses. `None`: not checked.
+    pub required_creepage: Option<Length>,
+    /// Thermal resistance transformer-to-ambient, when known (measured or from a maker);
+    /// `None` uses McLyman's surface fit.
+    pub thermal_resistance: Option<crate::units::ThermalResistance>,
+    /// Winding order.
+    pub winding_order: WindingOrder,
+    /// Insulation thermal class (A, E, B, F, H).
+    pub insulation_class: String,
+}
+
+/// One winding section of the build.
+#[derive(Clone, Debug, PartialEq)]
+pub struct WindingSection {
+    /// Name (`primary (first half)`, `secondary`, `bias`, …).
+    pub name: String,
+    /// Start pin label.
+    pub start_pin: String,
+    /// Finish pin label.
+    pub finish_pin: String,
+    /// Turns.
+    pub turns: u32,
+    /// Wire.
+    pub wire: WireChoice,
+    /// Layer fit.
+    pub fit: LayerFit,
+    /// Margin tape each side.
+    pub margin: Length,
+    /// Tape layers wound over this section.
+    pub tape_layers_after: u32,
+    /// Mean turn length of this section.
+    pub mean_turn_length: Length,
+    /// Copper loss.
+    pub copper: CopperLoss,
+    /// RMS current density.
+    pub current_density: ElectricCurrentDensity,
+}
+
+/// The designed transformer.
+#[derive(Clone, Debug, PartialEq)]
+pub struct TransformerDesign {
+    /// Core name.
+    pub core_name: String,
+    /// Material class name.
+    pub material_name: String,
+    /// Least primary turns for the flux limit at the worst-case current limit.
+    pub minimum_primary_turns: f64,
+    /// Primary turns.
+    pub primary_turns: u32,
+    /// Secondary turns.
+    pub secondary_turns: u32,
+    /// Bias turns (0 without a bias winding).
+    pub bias_turns: u32,
+    /// Turns ratio Np/Ns.
+    pub turns_ratio: f64,
+    /// Reflected voltage with the integer turns: (Np/Ns)·(Vo + Vf).
+    pub reflected_voltage: ElectricPotential,
+    /// (actual − target)/target of the reflected voltage.
+    pub reflected_voltage_error: f64,
+    /// Bias voltage with the integer turns.
+    pub bias_voltage: ElectricPotential,
+    /// (actual − wanted)/wanted of the bias voltage.
+    pub bias_voltage_error: f64,
+    /// Gap.
+    pub gap: GapResult,
+    /// Peak flux density at the nominal design point.
+    pub flux_density_peak: MagneticFluxDensity,
+    /// Peak-to-peak flux swing at the nominal design point.
+    pub flux_density_swing_pp: MagneticFluxDensity,
+    /// Peak flux density at the worst-case current limit with the inductance at its upper
+    /// tolerance, in the smallest core section.
+    pub flux_density_limit_peak: MagneticFluxDensity,
+    /// Saturation flux density at 100 °C.
+    pub saturation_hot: MagneticFluxDensity,
+    /// 1 − B_limit/Bsat(100 °C).
+    pub saturation_margin: f64,
+    /// Core loss (iGSE).
+    pub core_loss: Power,
+    /// Copper loss, all windings.
+    pub copper_loss: Power,
+    /// Total loss.
+    pub total_loss: Power,
+    /// Copper area over window area.
+    pub window_fill: f64,
+    /// Build height over bobbin winding height.
+    pub build_fraction: f64,
+    /// Leakage inductance referred to the primary (energy method).
+    pub leakage_inductance: Inductance,
+    /// Temperature rise (McLyman).
+    pub temperature_rise: TemperatureInterval,
+    /// Hot-spot estimate: ambient + rise.
+    pub hot_spot: ThermodynamicTemperature,
+    /// Insulation layers between primary and secondary in the build (3 for a
+    /// triple-insulated secondary: its own three layers).
+    pub insulation_layers_present: u32,
+    /// The winding sections, from the centre leg outwards.
+    pub sections: Vec<WindingSection>,
+    /// Skin depth at the switching frequency and winding temperature.
+    pub skin_depth: Length,
+}
+
+fn q<T: crate::units::TypedQuantity>(x: T) -> Quantity {
+    Quantity::from_typed(x)
+}
+
+/// Designs the transformer.
+///
+/// Steps and formulas: Np,min = L·(1 + tol_L)·I_lim·(1 + tol_I)/(B_max·min(Amin, Ae)); Ns is the
+/// smallest integer with Np = round(Ns·V_or/(Vo + Vf)) ≥ Np,min; V_or = (Np/Ns)·(Vo + Vf);
+/// Nb = round(Ns·(Vb + Vfb)/(Vo + Vf)); the gap by [`air_gap_for_inductance`] (McLyman
+/// fringing, iterated); B_pk = L·I_pk/(Np·Ae); ΔB = L·(I_pk − I_valley)/(Np·Ae); core loss
+/// by iGSE ([`igse_loss_density`]) × ct(T) × Ve; wires by [`choose_wire`]; layers by
+/// [`layer_fit`]; copper loss by Dowell per harmonic ([`winding_copper_loss`]); leakage by
+/// the MMF energy method L_lk = µ0·Σ MLT·∫MMF²dx / b_w (secondary shorted, bias open;
+/// Kazimierczuk 2014, chapter on leakage / Erickson & Maksimović 3rd ed., magnetics
+/// chapter); ΔT = 450·(P/At)^0.826 (McLyman 2011, chapter 6), or Rθ·P when a thermal
+/// resistance is given.
+/// Assumptions: the main secondary carries the whole reflected primary current
+/// (conservative when a bias winding is present); the bias current is a triangle over the
+/// secondary conduction time; all windings have the same direction and the layer
+/// structure fills the bobbin width (Dowell's one-dimensional field).
+pub fn transformer_design(spec: &TransformerSpec) -> Result<TransformerDesign> {
+    let core = &spec.core;
+    let mat = &spec.material;
+    mat.validate()?;
+    let l = positive("primary_inductance", spec.primary_inductance)?.value;
+    let tol_l = number_within("inductance_tolerance", spec.inductance_tolerance, 0.0, 0.5)?;
+    let fsw = positive("switching_frequency", spec.switching_frequency)?;
+    let ip = positive("primary_peak_current", spec.primary_peak_current)?.value;
+    let iv = non_negative("primary_valley_current", spec.primary_valley_current)?.value;
+    if iv >= ip {
+        return Err(Error::invalid(format!(
+            "`primary_valley_current` ({} A) must be below `primary_peak_current` ({} A)",
+            iv, ip
+        )));
+    }
+    let duty = number_within("duty_cycle", spec.duty_cycle, 0.01, 0.95)?;
+    let cs = number_within(
+        "secondary_conduction_fraction",
+        spec.secondary_conduction_fraction,
+        0.01,
+        0.99,
+    )?;
+    if duty + cs > 1.0 + 1e-9 {
+        return Err(Error::invalid(format!(
+            "`duty_cycle` + `secondary_conduction_fraction` = {:.4} exceeds 1",
+            duty + cs
+        )));
+    }
+    let ilim = positive("current_limit", spec.current_limit)?.value;
+    let tol_i = number_within(
+        "current_limit_tolerance",
+        spec.current_limit_tolerance,
+        0.0,
+        0.5,
+    )?;
+    if ilim < ip * (1.0 - 1e-9) {
+        return Err(Error::invalid(format!(
+            "`current_limit` ({ilim} A) is below `primary_peak_current` ({ip} A): the design point cannot be reached"
+        )));
+    }
+    let vor_target = positive("reflected_voltage", spec.reflected_voltage)?.value;
+    let vo = positive("output_voltage", spec.output_voltage)?.value;
+    let vf = non_negative("rectifier_drop", spec.rectifier_drop)?.value;
+    let bmax = positive("max_flux_density", spec.max_flux_density)?.value;
+    number_within("saturation_margin", spec.saturation_margin, 0.0, 0.9)?;
+    let jmax = positive("max_current_density", spec.max_current_density)?;
+    number_within("max_window_fill", spec.max_window_fill, 0.01, 1.0)?;
+    positive("max_temperature_rise", spec.max_temperature_rise)?;
+    if spec.max_layers == 0 {
+        return Err(Error::invalid("`max_layers` must be at least 1"));
+    }
+    let tape = non_negative("tape_thickness", spec.tape_thickness)?.value;
+    let margin = non_negative("margin_width", spec.margin_width)?;
+    insulation_class_limit(&spec.insulation_class)?;
+
+    // turns
+    let ae = core.effective_area.value;
+    let amin = core.minimum_area.value.min(ae);
+    let l_max = l * (1.0 + tol_l);
+    let ilim_max = ilim * (1.0 + tol_i);
+    let np_min = l_max * ilim_max / (bmax * amin);
+    if !(np_min.is_finite() && np_min <= 100_000.0) {
+        return Err(Error::infeasible(format!(
+            "the flux limit needs {np_min:.4e} primary turns; raise `max_flux_density` or choose a larger core"
+        )));
+    }
+    let ratio = vor_target / (vo + vf);
+    let mut ns = 1u32;
+    let np = loop {
+        let np = (ns as f64 * ratio).round().max(1.0);
+        if np >= np_min.ceil() {
+            break np as u32;
+        }
+        ns += 1;
+        if ns > 10_000 {
+            return Err(Error::infeasible(
+                "no integer turns found below 10 000 secondary turns",
+            ));
+        }
+    };
+    let n = np as f64 / ns as f64;
+    let vor = n * (vo + vf);
+    let (nb, vb_actual, vb_err) = match &spec.bias {
+        Some(b) => {
+            let vb = positive("bias voltage", b.voltage)?.value;
+            let vfb = non_negative("bias rectifier_drop", b.rectifier_drop)?.value;
+            positive("bias current", b.current)?;
+            let nb = (ns as f64 * (vb + vfb) / (vo + vf)).round().max(1.0) as u32;
+            let actual = nb as f64 / ns as f64 * (vo + vf) - vfb;
+            (nb, actual, (actual - vb) / vb)
+        }
+        None => (0, 0.0, 0.0),
+    };
+
+    // gap and flux
+    let gap = air_gap_for_inductance(
+        core,
+        np as f64,
+        spec.primary_inductance,
+        spec.gap_placement,
+        mat.working_permeability,
+    )?;
+    let b_pk = l * ip / (np as f64 * ae);
+    let b_swing = l * (ip - iv) / (np as f64 * ae);
+    let b_lim = l_max * ilim_max / (np as f64 * amin);
+    let bsat = mat.saturation_100c.value;
+    let sat_margin = 1.0 - b_lim / bsat;
+
+    // core loss
+    let period = 1.0 / fsw.value;
+    let band = mat.band_at(fsw)?;
+    let segs = flyback_flux_segments(si(b_swing), si(duty * period), si(cs * period), si(period))?;
+    let pv =
+        igse_loss_density(&band, &segs)?.value * mat.temperature_factor(spec.core_temperature)?;
+    let core_loss = pv * core.effective_volume.value;
+
+    // currents
+    let primary_current = WindingCurrent {
+        start_fraction: 0.0,
+        conduction_fraction: duty,
+        initial: si(iv),
+        final_value: si(ip),
+    };
+    let secondary_current = WindingCurrent {
+        start_fraction: duty,
+        conduction_fraction: cs,
+        initial: si(n * ip),
+        final_value: si(n * iv),
+    };
+    let bias_current = spec.bias.map(|b| WindingCurrent {
+        start_fraction: duty,
+        conduction_fraction: cs,
+        initial: si(2.0 * b.current.value / cs),
+        final_value: si(0.0),
+    });
+
+    // wires
+    let delta = skin_depth(fsw, spec.winding_temperature)?;
+    let dmax = match spec.max_strand_diameter {
+        Some(d) => positive("max_strand_diameter", d)?,
+        None => si(2.0 * delta.value),
+    };
+    let enamel = WireInsulation::Enamel(spec.enamel_grade);
+    if spec.secondary_litz && spec.secondary_triple_insulated {
+        return Err(Error::invalid(
+            "`secondary_litz` and `secondary_triple_insulated` exclude each other",
+        ));
+    }
+    let litz_d = positive("litz_strand_diameter", spec.litz_strand_diameter)?;
+    let wp = if spec.primary_litz {
+        choose_wire(
+            primary_current.rms()?,
+            jmax,
+            litz_d,
+            spec.wire_system,
+            WireInsulation::Litz(0),
+        )?
+    } else {
+        choose_wire(primary_current.rms()?, jmax, dmax, spec.wire_system, enamel)?
+    };
+    let ws = if spec.secondary_litz {
+        choose_wire(
+            secondary_current.rms()?,
+            jmax,
+            litz_d,
+            spec.wire_system,
+            WireInsulation::Litz(0),
+        )?
+    } else {
+        choose_wire(
+            secondary_current.rms()?,
+            jmax,
+            dmax,
+            spec.wire_system,
+            if spec.secondary_triple_insulated {
+                WireInsulation::TripleInsulated
+            } else {
+                enamel
+            },
+        )?
+    };
+    let wb = match bias_current {
+        Some(c) => Some(choose_wire(c.rms()?, jmax, dmax, spec.wire_system, enamel)?),
+        None => None,
+    };
+    let m: Length = if spec.secondary_triple_insulated {
+        si(0.0)
+    } else {
+        margin
+    };
+
+    // sections: (name, start, finish, turns, wire, current, is_primary_side, is_main_secondary)
+    struct Plan {
+        name: &'static str,
+        start: &'static str,
+        finish: &'static str,
+        turns: u32,
+        wire: WireChoice,
+        current: WindingCurrent,
+        primary_side: bool,
+        mmf_per_primary_amp: f64,
+    }
+    let primary_plan = |name, start, finish, turns: u32| Plan {
+        name,
+        start,
+        finish,
+        turns,
+        wire: wp,
+        current: primary_current,
+        primary_side: true,
+        mmf_per_primary_amp: turns as f64,
+    };
+    let secondary_plan = Plan {
+        name: "secondary",
+        start: "secondary rectifier (anode) pin",
+        finish: "secondary return pin",
+        turns: ns,
+        wire: ws,
+        current: secondary_current,
+        primary_side: false,
+        mmf_per_primary_amp: -(np as f64),
+    };
+    let bias_plan = match (wb, bias_current) {
+        (Some(w), Some(c)) => Some(Plan {
+            name: "bias",
+            start: "bias rectifier pin",
+            finish: "bias return pin",
+            turns: nb,
+            wire: w,
+            current: c,
+            primary_side: true,
+            mmf_per_primary_amp: 0.0,
+        }),
+        _ => None,
+    };
+    let mut plans = Vec::new();
+    match spec.winding_order {
+        WindingOrder::PrimarySecondaryBias => {
+            plans.push(primary_plan(
+                "primary",
+                "drain pin",
+                "bulk-capacitor (+) pin",
+                np,
+            ));
+            plans.push(secondary_plan);
+            if let Some(b) = bias_plan {
+                plans.push(b);
+            }
+        }
+        WindingOrder::SplitPrimary => {
+            let first = np.div_ceil(2);
+            let second = np - first;
+            plans.push(primary_plan(
+                "primary, first half",
+                "drain pin",
+                "primary tie pin (no connection)",
+                first,
+            ));
+            plans.push(secondary_plan);
+            if let Some(b) = bias_plan {
+                plans.push(b);
+            }
+            if second > 0 {
+                plans.push(primary_plan(
+                    "primary, second half",
+                    "primary tie pin (no connection)",
+                    "bulk-capacitor (+) pin",
+                    second,
+                ));
+            }
+        }
+    }
+
+    // build: positions, tapes, MLT, losses, leakage integral
+    let bh = core.winding_height.value;
+    let usable_width = (core.winding_width.value - 2.0 * m.value).max(1e-6);
+    let mut x = 0.0;
+    let mut mmf = 0.0;
+    let mut leak_integral = 0.0; // Σ MLT·∫MMF² dx
+    let mut sections = Vec::new();
+    let mut insulation_present = u32::MAX;
+    let mut copper_total = 0.0;
+    let mut copper_area = 0.0;
+    for (k, p) in plans.iter().enumerate() {
+        let fit = layer_fit(p.turns, &p.wire, core.winding_width, m)?;
+        let h = fit.build_height.value;
+        let mlt = core.mean_turn_length.value + 2.0 * PI * (x + h / 2.0 - bh / 2.0);
+        let mlt = mlt.max(core.mean_turn_length.value * 0.3);
+        let copper = winding_copper_loss(
+            &p.current,
+            p.turns,
+            &p.wire,
+            &fit,
+            si(mlt),
+            fsw,
+            spec.winding_temperature,
+        )?;
+        copper_total += copper.loss.value;
+        copper_area += p.turns as f64 * p.wire.copper_area();
+        // MMF ramps across the winding
+        let m0 = mmf;
+        let m1 = mmf + p.mmf_per_primary_amp;
+        leak_integral += mlt * h * (m0 * m0 + m0 * m1 + m1 * m1) / 3.0;
+        mmf = m1;
+        x += h;
+        // tape over this section
+        let next_side = plans.get(k + 1).map(|n| n.primary_side);
+        let crosses = next_side.is_some_and(|s| s != p.primary_side);
+        let layers = if crosses {
+            if spec.secondary_triple_insulated {
+                spec.functional_tape_layers
+            } else {
+                spec.insulation_layers
+            }
+        } else if next_side.is_none() {
+            spec.insulation_layers.max(spec.functional_tape_layers)
+        } else {
+            spec.functional_tape_layers
+        };
+        if crosses {
+            let present = if spec.secondary_triple_insulated {
+                3
+            } else {
+                layers
+            };
+            insulation_present = insulation_present.min(present);
+        }
+        let t = layers as f64 * tape;
+        leak_integral += mlt * t * mmf * mmf;
+        x += t;
+        let density = si(p.current.rms()?.value / p.wire.copper_area());
+        sections.push(WindingSection {
+            name: p.name.to_string(),
+            start_pin: p.start.to_string(),
+            finish_pin: p.finish.to_string(),
+            turns: p.turns,
+            wire: p.wire,
+            fit,
+            margin: m,
+            tape_layers_after: layers,
+            mean_turn_length: si(mlt),
+            copper,
+            current_density: density,
+        });
+    }
+    if insulation_present == u32::MAX {
+        insulation_present = 0;
+    }
+    let leakage = MU0 * leak_integral / usable_width;
+    let total = core_loss + copper_total;
+    let rise = match spec.thermal_resistance {
+        Some(r) => super::thermal::temperature_rise_thermal_resistance(si(total), r)?,
+        None => temperature_rise(si(total), core.surface_area)?,
+    };
+    let hot = spec.ambient_temperature.value + rise.value;
+    for v in [
+        b_pk,
+        b_lim,
+        core_loss,
+        copper_total,
+        leakage,
+        rise.value,
+        hot,
+    ] {
+        if !v.is_finite() {
+            return Err(Error::infeasible(
+                "the design produced a non-finite value; check the inputs",
+            ));
+        }
+    }
+    Ok(TransformerDesign {
+        core_name: core.name.clone(),
+        material_name: mat.name.clone(),
+        minimum_primary_turns: np_min,
+        primary_turns: np,
+        secondary_turns: ns,
+        bias_turns: nb,
+        turns_ratio: n,
+        reflected_voltage: si(vor),
+        reflected_voltage_error: (vor - vor_target) / vor_target,
+        bias_voltage: si(vb_actual),
+        bias_voltage_error: vb_err,
+        gap,
+        flux_density_peak: si(b_pk),
+        flux_density_swing_pp: si(b_swing),
+        flux_density_limit_peak: si(b_lim),
+        saturation_hot: si(bsat),
+        saturation_margin: sat_margin,
+        core_loss: si(core_loss),
+        copper_loss: si(copper_total),
+        total_loss: si(total),
+        window_fill: copper_area / core.window_area.value,
+        build_fraction: x / bh,
+        leakage_inductance: si(leakage),
+        temperature_rise: rise,
+        hot_spot: si(hot),
+        insulation_layers_present: insulation_present,
+        sections,
+        skin_depth: delta,
+    })
+}
+
+impl Record for TransformerDesign {
+    fn fields(&self) -> Vec<Field> {
+        let mut v = vec![
+            Field::new("core", self.core_name.as_str()),
+            Field::new("material", self.material_name.as_str()),
+            Field::new("minimum_primary_turns", self.minimum_primary_turns),
+            Field::new("primary_turns", self.primary_turns as i64),
+            Field::new("secondary_turns", self.secondary_turns as i64),
+            Field::new("bias_turns", self.bias_turns as i64),
+            Field::new("turns_ratio", self.turns_ratio),
+            Field::quantity("reflected_voltage", self.reflected_voltage),
+            Field::new("reflected_voltage_error", self.reflected_voltage_error),
+            Field::quantity("bias_voltage", self.bias_voltage),
+            Field::new("bias_voltage_error", self.bias_voltage_error),
+            Field::quantity("gap", self.gap.gap),
+            Field::quantity("gap_in_path", self.gap.gap_in_path),
+            Field::quantity("inductance_factor", self.gap.inductance_factor),
+            Field::new("fringing_factor", self.gap.fringing_factor),
+            Field::quantity("flux_density_peak", self.flux_density_peak),
+            Field::quantity("flux_density_swing_pp", self.flux_density_swing_pp),
+            Field::quantity("flux_density_limit_peak", self.flux_density_limit_peak),
+            Field::quantity("saturation_hot", self.saturation_hot),
+            Field::new("saturation_margin", self.saturation_margin),
+            Field::quantity("core_loss", self.core_loss),
+            Field::quantity("copper_loss", self.copper_loss),
+            Field::quantity("total_loss", self.total_loss),
+            Field::new("window_fill", self.window_fill),
+            Field::new("build_fraction", self.build_fraction),
+            Field::quantity("leakage_inductance", self.leakage_inductance),
+            Field::quantity("temperature_rise", self.temperature_rise),
+            Field::quantity("hot_spot", self.hot_spot),
+            Field::new(
+                "insulation_layers_present",
+                self.insulation_layers_present as i64,
+            ),
+            Field::quantity("skin_depth", self.skin_depth),
+        ];
+        for s in &self.sections {
+            let key = s.name.replace([',', ' '], "_").replace("__", "_");
+            v.push(Field::new(format!("{key}.wire"), s.wire.describe()));
+            v.push(Field::new(format!("{key}.layers"), s.fit.layers as i64));
+            v.push(Field::quantity(
+                format!("{key}.rms_current"),
+                s.copper.rms_current,
+            ));
+            v.push(Field::quantity(
+                format!("{key}.current_density"),
+                s.current_density,
+            ));
+            v.push(Field::quantity(
+                format!("{key}.dc_resistance"),
+                s.copper.dc_resistance,
+            ));
+            v.push(Field::new(
+                format!("{key}.resistance_factor"),
+                s.copper.resistance_factor,
+            ));
+            v.push(Field::quantity(format!("{key}.copper_loss"), s.copper.loss));
+        }
+        v
+    }
+}
+
+fn rule(
+    id: &str,
+    what: &str,
+    reference: &str,
+    cmp: Comparison,
+    limit: Quantity,
+    value: Quantity,
+) -> Result<CheckResult> {
+    Rule::new(id, what, reference, cmp, limit, 0.05)?.check(value)
+}
+
+/// The design rules of a transformer: flux at the worst-case current limit against the
+/// house limit and against hot saturation with margin, window fill, current density,
+/// temperature rise, hot spot against the insulation class, layers per section, build
+/// height, insulation layers present.
+pub fn transformer_checks(
+    spec: &TransformerSpec,
+    d: &TransformerDesign,
+) -> Result<Vec<CheckResult>> {
+    let num = Quantity::number;
+    let mut out = vec![
+        rule(
+            "flux_at_current_limit",
+            "peak flux density at the worst-case current limit, upper inductance tolerance, smallest section",
+            "house rule",
+            Comparison::AtMost,
+            q(spec.max_flux_density),
+            q(d.flux_density_limit_peak),
+        )?,
+        rule(
+            "saturation_margin_hot",
+            "margin of that flux density below saturation at 100 °C",
+            "common practice, no published source",
+            Comparison::AtLeast,
+            num(spec.saturation_margin),
+            num(d.saturation_margin),
+        )?,
+        rule(
+            "window_fill",
+            "copper area over window area",
+            "McLyman 2011, window utilisation (chapter 4); limit is a house rule",
+            Comparison::AtMost,
+            num(spec.max_window_fill),
+            num(d.window_fill),
+        )?,
+        rule(
+            "build_fits_bobbin",
+            "winding build height over bobbin winding height",
+            "common practice, no published source",
+            Comparison::AtMost,
+            num(1.0),
+            num(d.build_fraction),
+        )?,
+        rule(
+            "temperature_rise",
+            "temperature rise by McLyman's surface fit",
+            "McLyman 2011, chapter 6; limit is a house rule",
+            Comparison::AtMost,
+            q(spec.max_temperature_rise),
+            q(d.temperature_rise),
+        )?,
+        rule(
+            "hot_spot_insulation_class",
+            "hot spot against the insulation thermal class",
+            "IEC 60085 thermal classes",
+            Comparison::AtMost,
+            Quantity::celsius(insulation_class_limit(&spec.insulation_class)?),
+            q(d.hot_spot),
+        )?,
+        rule(
+            "insulation_layers_present",
+            "insulation layers between primary and secondary in the build",
+            "required count from the safety analysis (IEC 62368-1 thin-sheet rules)",
+            Comparison::AtLeast,
+            num(spec.insulation_layers as f64),
+            num(d.insulation_layers_present as f64),
+        )?,
+    ];
+    if let (Some(c), false) = (spec.required_creepage, spec.secondary_triple_insulated) {
+        let c = positive("required_creepage", c)?;
+        out.push(rule(
+            "creepage_along_bobbin",
+            "creepage from primary to secondary along the bobbin: the two margins it crosses",
+            "required creepage from the safety analysis (IEC 62368-1 / IEC 60664-1)",
+            Comparison::AtLeast,
+            q(c),
+            q(si::<Length>(2.0 * spec.margin_width.value)),
+        )?);
+    }
+    for s in &d.sections {
+        let id = s.name.replace([',', ' '], "_").replace("__", "_");
+        out.push(rule(
+            &format!("current_density_{id}"),
+            &format!("RMS current density in the {}", s.name),
+            "house rule",
+            Comparison::AtMost,
+            q(spec.max_current_density),
+            q(s.current_density),
+        )?);
+        out.push(rule(
+            &format!("layers_{id}"),
+            &format!("layers of the {} (proximity loss)", s.name),
+            "Dowell 1966: loss rises with layer count; limit is a house rule",
+            Comparison::AtMost,
+            num(spec.max_layers as f64),
+            num(s.fit.layers as f64),
+        )?);
+    }
+    Ok(out)
+}
+
+/// The ordered winding instructions (our own format, Markdown-compatible text), with the
+/// gap, the bench inductance check and the safety caution.
+pub fn build_sheet(spec: &TransformerSpec, d: &TransformerDesign) -> String {
+    let mut s = String::new();
+    let mm = |x: Length| x.value * 1e3;
+    let _ = writeln!(
+        s,
+        "# Transformer build sheet: {} core, {}",
+        d.core_name, d.material_name
+    );
+    let _ = writeln!(s);
+    let _ = writeln!(s, "{}", crate::SAFETY_CAUTION);
+    let _ = writeln!(s);
+    let _ = writeln!(
+        s,
+        "All windings are wound in the same direction (clockwise seen from the pin side). Each winding starts at the pin named first, so the starts are the non-dot ends and the flyback polarity holds."
+    );
+    let _ = writeln!(s);
+    for (i, w) in d.sections.iter().enumerate() {
+        let _ = writeln!(s, "## Step {}: {}", i + 1, w.name);
+        let _ = writeln!(s, "- start: {}; finish: {}", w.start_pin, w.finish_pin);
+        let _ = writeln!(s, "- turns: {} of {}", w.turns, w.wire.describe());
+        let _ = writeln!(
+            s,
+            "- layers: {} ({} turns per layer), wound edge to edge across the bobbin",
+            w.fit.layers, w.fit.turns_per_layer
+        );
+        if w.margin.value > 0.0 {
+            let _ = writeln!(
+                s,
+                "- margin tape: {:.2} mm at each flange, built to the winding height",
+                mm(w.margin)
+            );
+        }
+        let _ = writeln!(
+            s,
+            "- then: {} layer(s) of tape, {:.3} mm each",
+            w.tape_layers_after,
+            mm(spec.tape_thickness)
+        );
+        let _ = writeln!(s);
+    }
+    let _ = writeln!(s, "## Gap and bench check");
+    match spec.gap_placement {
+        GapPlacement::CentreLeg => {
+            let _ = writeln!(s, "- grind the centre leg: {:.3} mm in total (split between the halves as convenient)", mm(d.gap.gap));
+        }
+        GapPlacement::Spacer => {
+            let _ = writeln!(
+                s,
+                "- spacer of {:.3} mm under all legs ({:.3} mm in the flux path)",
+                mm(d.gap.gap),
+                mm(d.gap.gap_in_path)
+            );
+        }
+    }
+    let _ = writeln!(
+        s,
+        "- primary inductance: {} ± {:.0} % (measure at a low level, e.g. 10 kHz); AL = {}",
+        q(spec.primary_inductance),
+        spec.inductance_tolerance * 100.0,
+        q(d.gap.inductance_factor)
+    );
+    let _ = writeln!(
+        s,
+        "- leakage inductance, secondary shorted: about {} (estimate)",
+        q(d.leakage_inductance)
+    );
+    let _ = writeln!(
+        s,
+        "- varnish or impregnate per the insulation class {}; hipot test primary to secondary",
+        spec.insulation_class
+    );
+    s
+}
+
+/// What core selection needs.
+#[derive(Clone, Debug, PartialEq)]
+pub struct CoreSelectionSpec {
+    /// Primary inductance.
+    pub primary_inductance: Inductance,
+    /// Peak current at the worst-case current limit.
+    pub peak_current: ElectricCurrent,
+    /// Primary RMS current.
+    pub primary_rms_current: ElectricCurrent,
+    /// Total secondary RMS current referred to the primary (Σ I_s,rms·Ns/Np).
+    pub secondary_rms_current_referred: ElectricCurrent,
+    /// Peak flux density allowed.
+    pub max_flux_density: MagneticFluxDensity,
+    /// Current density allowed.
+    pub max_current_density: ElectricCurrentDensity,
+    /// Window utilisation Ku (copper over window; 0.2 … 0.3 for a safety-insulated
+    /// flyback transformer, common practice).
+    pub window_utilisation: f64,
+    /// Restrict to these size names (a company's stock list); empty = all built-in.
+    pub stock: Vec<String>,
+}
+
+/// One ranked core.
+#[derive(Clone, Debug, PartialEq)]
+pub struct CoreCandidate {
+    /// The core.
+    pub core: Core,
+    /// Its area product Ae·Aw in m⁴.
+    pub area_product: f64,
+    /// Area product over the required one (≥ 1 fits).
+    pub area_product_ratio: f64,
+    /// Energy to store at the current limit, ½·L·I².
+    pub energy: f64,
+}
+
+/// Ranks cores by area product: Ap,req = L·I_pk·(I_p,rms + I_s,rms,referred)/(Ku·J·B_max)
+/// (Ae from the flux limit L·I_pk/(N·B_max), Aw from the copper N·ΣI_rms/(J·Ku)); returns
+/// the cores with Ap ≥ Ap,req, smallest effective volume first. Reference: McLyman,
+/// *Transformer and Inductor Design Handbook*, 4th ed. (2011), area-product method
+/// (chapters on inductor and flyback design).
+pub fn core_selection(spec: &CoreSelectionSpec) -> Result<Vec<CoreCandidate>> {
+    let l = positive("primary_inductance", spec.primary_inductance)?.value;
+    let ipk = positive("peak_current", spec.peak_current)?.value;
+    let ip = positive("primary_rms_current", spec.primary_rms_current)?.value;
+    let is = non_negative(
+        "secondary_rms_current_referred",
+        spec.secondary_rms_current_referred,
+    )?
+    .value;
+    let b = positive("max_flux_density", spec.max_flux_density)?.value;
+    let j = positive("max_current_density", spec.max_current_density)?.value;
+    let ku = positive_number("window_utilisation", spec.window_utilisation)?;
+    number_within("window_utilisation", ku, 0.01, 1.0)?;
+    let req = l * ipk * (ip + is) / (ku * j * b);
+    let mut all = super::cores::core_shapes()?;
+    if !spec.stock.is_empty() {
+        let mut chosen = Vec::new();
+        for name in &spec.stock {
+            chosen.push(super::cores::core_by_size(name)?);
+        }
+        all = chosen;
+        all.sort_by(|a, b| {
+            a.effective_volume
+                .value
+                .total_cmp(&b.effective_volume.value)
+        });
+    }
+    Ok(all
+        .into_iter()
+        .map(|c| {
+            let ap = c.area_product();
+            CoreCandidate {
+                area_product_ratio: ap / req,
+                area_product: ap,
+                energy: 0.5 * l * ipk * ipk,
+                core: c,
+            }
+        })
+        .filter(|c| c.area_product_ratio >= 1.0)
+        .collect())
+}
