@@ -641,3 +641,29 @@ mod tests_support {
         }
     }
 }
+
+#[test]
+fn transformer_inputs_come_from_the_flyback_design() {
+    // The adapter carries the design's own numbers: the corner with the highest primary peak
+    // below the current limit (low line, full load), the nominal limit and its tolerance.
+    // Checked against the same design's fields read independently (a consistency check, not
+    // a reference value).
+    let d = "let d = flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A, bias_voltage: 13 * V}); let t = transformer_inputs_from_flyback(d); ";
+    let peak = eval_quantity(&format!("{d} t.primary_peak_current / flyback_corner(d, \"low_line_full_load\").primary_current_peak"));
+    check_near(peak, "1", 1e-12);
+    let limit = eval_quantity(&format!("{d} t.current_limit / d.current_limit"));
+    check_near(limit, "1", 1e-12);
+    let l = eval_quantity(&format!("{d} t.primary_inductance / d.primary_inductance"));
+    check_near(l, "1", 1e-12);
+    // CCM at low line: the secondary conducts for the rest of the period
+    let sum = eval_quantity(&format!(
+        "{d} t.duty_cycle + t.secondary_conduction_fraction"
+    ));
+    check_near(sum, "1", 1e-12);
+    assert_eq!(eval(&format!("{d} t.bias_voltage")), "13 V");
+    // the transformer designed from it keeps the flux at the current limit under the house rule
+    let b = eval_quantity(&format!(
+        "{d} t.core = \"EF25\"; t.max_flux_density = 0.32 * T; transformer_design(t).design.flux_density_limit_peak"
+    ));
+    assert!(b.value() <= 0.32, "{b}");
+}

@@ -5,6 +5,7 @@
 mod conductor;
 mod core_loss;
 mod cores;
+mod from_flyback;
 mod gap;
 mod material;
 mod thermal;
@@ -23,6 +24,7 @@ pub use core_loss::{
 pub use cores::{
     core_by_size, core_shapes, Core, CoreFamily, PairedCoreDimensions, ToroidDimensions,
 };
+pub use from_flyback::{transformer_operating_point, TransformerOperatingPoint};
 pub use gap::{
     air_gap_for_inductance, effective_gap_from_inductance, fringing_factor, inductance_for_air_gap,
     spacer_for_target_inductance, GapPlacement, GapResult,

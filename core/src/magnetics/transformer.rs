@@ -46,16 +46,9 @@ impl WindingOrder {
     }
 }
 
-/// A bias (auxiliary) winding that powers the controller.
-#[derive(Clone, Copy, Debug, PartialEq)]
-pub struct BiasWinding {
-    /// Wanted bias voltage after its rectifier.
-    pub voltage: ElectricPotential,
-    /// Forward drop of the bias rectifier.
-    pub rectifier_drop: ElectricPotential,
-    /// Average load current of the bias supply.
-    pub current: ElectricCurrent,
-}
+/// A bias (auxiliary) winding that powers the controller: the same description the flyback
+/// specification uses, so one value serves both.
+pub use crate::flyback::BiasWinding;
 
 /// Everything the transformer design needs, explicit (fill from a flyback operating point).
 #[derive(Clone, Debug, PartialEq)]

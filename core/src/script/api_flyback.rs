@@ -224,6 +224,18 @@ static POST: FunctionDoc = FunctionDoc {
 pub struct ScriptFlyback {
     design: Arc<FlybackDesign>,
     summary: ScriptRecord,
+    spec: Arc<crate::flyback::FlybackSpec>,
+}
+
+impl ScriptFlyback {
+    /// The specification the design was made from.
+    pub(crate) fn spec(&self) -> &crate::flyback::FlybackSpec {
+        &self.spec
+    }
+    /// The native design.
+    pub(crate) fn design(&self) -> &FlybackDesign {
+        &self.design
+    }
 }
 
 fn output_from(s: &Spec, prefix_single: bool) -> Result<(OutputWinding, bool)> {
@@ -479,6 +491,7 @@ pub(crate) fn register(api: &mut Api, state: &Arc<HostState>) {
         Ok(ScriptFlyback {
             design: Arc::new(d),
             summary,
+            spec: Arc::new(spec),
         })
     });
     def!(api, &SUMMARY, |d: ScriptFlyback| d.summary.clone());

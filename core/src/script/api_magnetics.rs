@@ -104,8 +104,34 @@ fn temperature(t: &Dynamic) -> ScriptResult<ThermodynamicTemperature> {
     lift(dynamic_to_typed(t, "temperature"))
 }
 
+static FROM_FLYBACK: FunctionDoc = FunctionDoc {
+    name: "transformer_inputs_from_flyback",
+    domain: Domain::Magnetics,
+    summary: "The transformer's operating point from a flyback design (corner with the highest primary peak), as a map of transformer_design keys; add the core and construction, then design.",
+    params: &[ParamDoc::required("design", ParamKind::Any, "a result of flyback_design")],
+    keys: &[],
+    returns: "map: primary_inductance, switching_frequency, primary_peak_current, primary_valley_current, duty_cycle, secondary_conduction_fraction, current_limit, current_limit_tolerance, reflected_voltage, output_voltage, rectifier_drop (and bias_* keys with a bias winding)",
+    example: "let t = transformer_inputs_from_flyback(flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A})); t.core = \"EF25\"; transformer_design(t).design.primary_turns",
+};
+
 pub(crate) fn register(api: &mut Api, state: &Arc<HostState>) {
     design::register(api, state);
+    def!(
+        api,
+        &FROM_FLYBACK,
+        |d: super::api_flyback::ScriptFlyback| -> ScriptResult<rhai::Map> {
+            let op = lift(magnetics::transformer_operating_point(d.spec(), d.design()))?;
+            Ok(crate::report::Record::fields(&op)
+                .iter()
+                .map(|f| {
+                    (
+                        f.name.as_str().into(),
+                        super::convert::value_to_dynamic(&f.value),
+                    )
+                })
+                .collect())
+        }
+    );
     def!(api, &SKIN, |f: Dynamic,
                       t: Dynamic|
      -> ScriptResult<Quantity> {

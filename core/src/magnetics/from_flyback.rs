@@ -1,0 +1,146 @@
+//! The transformer's operating point taken from a flyback design, so that the transformer is
+//! designed for the currents, duty cycle and current limit the power stage computed.
+
+use super::transformer::{BiasWinding, TransformerSpec};
+use crate::error::{Error, Result};
+use crate::flyback::{ConductionMode, FlybackDesign, FlybackSpec, OperatingPoint};
+use crate::report::{Field, Record};
+use crate::units::{ElectricCurrent, ElectricPotential, Frequency, Inductance};
+
+/// The operating-point inputs of a [`TransformerSpec`], read from a flyback design.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct TransformerOperatingPoint {
+    /// The corner the currents come from (the highest primary peak below the current limit).
+    pub corner: &'static str,
+    /// Nominal primary inductance of the design.
+    pub primary_inductance: Inductance,
+    /// Switching frequency.
+    pub switching_frequency: Frequency,
+    /// Primary peak current at that corner.
+    pub primary_peak_current: ElectricCurrent,
+    /// Primary valley current at that corner (zero in DCM).
+    pub primary_valley_current: ElectricCurrent,
+    /// Switch duty cycle at that corner.
+    pub duty_cycle: f64,
+    /// Fraction of the period the secondary conducts (1 − D in CCM and at the boundary,
+    /// the demagnetising fraction in DCM).
+    pub secondary_conduction_fraction: f64,
+    /// The controller's nominal peak-current limit.
+    pub current_limit: ElectricCurrent,
+    /// Its relative tolerance.
+    pub current_limit_tolerance: f64,
+    /// Reflected voltage.
+    pub reflected_voltage: ElectricPotential,
+    /// Regulated output voltage.
+    pub output_voltage: ElectricPotential,
+    /// Its rectifier's forward drop.
+    pub rectifier_drop: ElectricPotential,
+    /// The bias winding, if the specification has one.
+    pub bias: Option<BiasWinding>,
+}
+
+/// The transformer's operating point from a flyback specification and its design.
+///
+/// Takes the corner with the highest primary peak current among the corners below the current
+/// limit (in practice low line, full load): it sets the copper loss, the flux swing and the
+/// core loss. The flux limit is checked separately at the current limit with its tolerance,
+/// which this carries. The regulated output and its rectifier drop come from the
+/// specification; `design` must have been made from `spec`.
+/// Reference: the flyback's magnetising-current waveform, Erickson & Maksimović, 3rd ed.
+/// (2020), chapter 6 (flyback) and chapter 5 (DCM).
+pub fn transformer_operating_point(
+    spec: &FlybackSpec,
+    design: &FlybackDesign,
+) -> Result<TransformerOperatingPoint> {
+    let output = spec.outputs.get(spec.regulated_output).ok_or_else(|| {
+        Error::invalid(format!(
+            "`regulated_output` = {} does not name one of the {} outputs",
+            spec.regulated_output,
+            spec.outputs.len()
+        ))
+    })?;
+    let corner: &OperatingPoint = design
+        .corners
+        .iter()
+        .filter(|c| !c.corner.contains("limit"))
+        .max_by(|a, b| {
+            a.primary_current_peak
+                .value
+                .total_cmp(&b.primary_current_peak.value)
+        })
+        .ok_or_else(|| Error::invalid("the flyback design has no operating corner"))?;
+    let conduction = match corner.mode {
+        ConductionMode::Discontinuous => corner.demagnetising_duty,
+        ConductionMode::Continuous | ConductionMode::Boundary => 1.0 - corner.duty_cycle,
+    };
+    let name = match corner.corner.as_str() {
+        "low_line_full_load" => "low_line_full_load",
+        "high_line_full_load" => "high_line_full_load",
+        "low_line_light_load" => "low_line_light_load",
+        "high_line_light_load" => "high_line_light_load",
+        _ => "other",
+    };
+    Ok(TransformerOperatingPoint {
+        corner: name,
+        primary_inductance: design.primary_inductance,
+        switching_frequency: design.switching_frequency,
+        primary_peak_current: corner.primary_current_peak,
+        primary_valley_current: corner.primary_current_valley,
+        duty_cycle: corner.duty_cycle,
+        secondary_conduction_fraction: conduction,
+        current_limit: design.current_limit,
+        current_limit_tolerance: design.current_limit_tolerance,
+        reflected_voltage: design.reflected_voltage,
+        output_voltage: output.voltage,
+        rectifier_drop: output.rectifier_drop,
+        bias: spec.bias,
+    })
+}
+
+impl TransformerOperatingPoint {
+    /// Writes these operating-point values into a transformer specification, leaving the core,
+    /// material, construction and house limits as they are.
+    pub fn apply_to(&self, spec: &mut TransformerSpec) {
+        spec.primary_inductance = self.primary_inductance;
+        spec.switching_frequency = self.switching_frequency;
+        spec.primary_peak_current = self.primary_peak_current;
+        spec.primary_valley_current = self.primary_valley_current;
+        spec.duty_cycle = self.duty_cycle;
+        spec.secondary_conduction_fraction = self.secondary_conduction_fraction;
+        spec.current_limit = self.current_limit;
+        spec.current_limit_tolerance = self.current_limit_tolerance;
+        spec.reflected_voltage = self.reflected_voltage;
+        spec.output_voltage = self.output_voltage;
+        spec.rectifier_drop = self.rectifier_drop;
+        spec.bias = self.bias;
+    }
+}
+
+impl Record for TransformerOperatingPoint {
+    /// Field names match the keys of the script function `transformer_design`, so the record
+    /// converts into a spec map that only needs the core and construction added.
+    fn fields(&self) -> Vec<Field> {
+        let mut f = vec![
+            Field::quantity("primary_inductance", self.primary_inductance),
+            Field::quantity("switching_frequency", self.switching_frequency),
+            Field::quantity("primary_peak_current", self.primary_peak_current),
+            Field::quantity("primary_valley_current", self.primary_valley_current),
+            Field::new("duty_cycle", self.duty_cycle),
+            Field::new(
+                "secondary_conduction_fraction",
+                self.secondary_conduction_fraction,
+            ),
+            Field::quantity("current_limit", self.current_limit),
+            Field::new("current_limit_tolerance", self.current_limit_tolerance),
+            Field::quantity("reflected_voltage", self.reflected_voltage),
+            Field::quantity("output_voltage", self.output_voltage),
+            Field::quantity("rectifier_drop", self.rectifier_drop),
+        ];
+        if let Some(b) = self.bias {
+            f.push(Field::quantity("bias_voltage", b.voltage));
+            f.push(Field::quantity("bias_rectifier_drop", b.rectifier_drop));
+            f.push(Field::quantity("bias_current", b.current));
+        }
+        f
+    }
+}
