@@ -6,11 +6,14 @@
 //! the test: they test the wiring, not a published value (no reference test here).
 
 use super::common::{eval, eval_err, eval_quantity, host};
-use gapwise::emi::{emi_source_from_flyback, PrimaryCurrentShape, DEFAULT_DRAIN_RISE_TIME_S};
+use gapwise::emi::{
+    emi_source_from_flyback, input_filter_design, DrainVoltageShape, EmissionClass,
+    InputFilterSpec, PrimaryCurrentShape, DEFAULT_DRAIN_RISE_TIME_S,
+};
 use gapwise::flyback::*;
 use gapwise::report::{Record, Value};
 use gapwise::safety::{flyback_design_working_voltage, primary_swing_peak, FlybackBarrierSpec};
-use gapwise::units::si;
+use gapwise::units::{si, Decibel};
 use gapwise::ErrorKind;
 use proptest::prelude::*;
 
@@ -162,6 +165,64 @@ fn ccm_corner_gives_a_trapezoid_and_dcm_a_triangle() {
         d.corner("low_line_full_load").unwrap().mode,
         ConductionMode::Discontinuous
     );
+}
+
+/// The filter choices of a class II 12 V supply; the converter side is overwritten from the
+/// design by `apply_to`.
+fn filter_choices() -> InputFilterSpec {
+    InputFilterSpec {
+        switching_frequency: si(1.0),
+        primary_current: PrimaryCurrentShape::Discontinuous {
+            peak: si(1.0),
+            duty: 0.5,
+        },
+        drain_voltage: DrainVoltageShape {
+            amplitude: si(1.0),
+            duty: 0.5,
+            rise_time: si(0.0),
+            fall_time: si(0.0),
+        },
+        bulk_capacitance: si(1.0),
+        bulk_esr: si(0.8),
+        bulk_esl: si(20e-9),
+        parasitic_capacitance: si(15e-12),
+        class: EmissionClass::B,
+        margin: Decibel::ratio(6.0),
+        stages: 1,
+        x_capacitance: si(100e-9),
+        inductor_resistance: si(0.3),
+        max_y_capacitance: si(1e-9),
+        minimum_input_voltage: si(1.0),
+        input_power: si(1.0),
+        middlebrook_margin: Decibel::ratio(6.0),
+        maximum_line_voltage: si(1.0),
+        line_frequency: si(60.0),
+        discharge_time: si(2.0),
+        discharge_voltage: si(60.0),
+    }
+}
+
+#[test]
+fn native_flow_from_design_to_filter() {
+    let d = ccm();
+    let src = emi_source_from_flyback(&d, "low_line_full_load", si(40e-9)).unwrap();
+    let mut spec = filter_choices();
+    src.apply_to(&mut spec);
+    assert_eq!(spec.primary_current, src.primary_current);
+    assert_eq!(spec.drain_voltage, src.drain_voltage);
+    same(spec.switching_frequency.value, d.switching_frequency.value);
+    same(
+        spec.bulk_capacitance.value,
+        d.bulk_capacitance.unwrap().value,
+    );
+    same(spec.maximum_line_voltage.value, 264.0);
+    // the filter choices stay
+    same(spec.x_capacitance.value, 100e-9);
+    same(spec.bulk_esr.value, 0.8);
+    let f = input_filter_design(&spec).unwrap();
+    // the design's filter meets the margin it was asked for
+    assert!(f.worst_margin_filtered.value >= 6.0 - 1e-9);
+    finite(f.fields());
 }
 
 #[test]
