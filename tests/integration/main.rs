@@ -2,6 +2,7 @@
 //! Each check of a computed value names its source beside it.
 
 mod common;
+mod design_flow;
 mod emi;
 mod flyback;
 mod magnetics;

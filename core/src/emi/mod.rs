@@ -21,6 +21,7 @@ mod complex;
 mod design;
 mod differential_mode;
 mod filter;
+mod from_flyback;
 mod limits;
 mod lisn;
 mod plot;
@@ -37,6 +38,10 @@ pub use filter::{
     damping_network, filter_corner_frequency, filter_output_impedance_peak, lc_filter_attenuation,
     middlebrook_criterion, required_attenuation, DampingNetwork, ImpedancePeak, LcFilterResponse,
     MiddlebrookCheck,
+};
+pub use from_flyback::{
+    emi_source_from_flyback, FlybackEmiSource, DEFAULT_DRAIN_RISE_TIME_S,
+    MAX_EDGE_SHARE_OF_OFF_TIME,
 };
 pub use limits::{
     conducted_band_end, conducted_band_start, emi_limit, limit_segments, Detector, EmissionClass,

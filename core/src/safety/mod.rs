@@ -27,6 +27,7 @@ mod capacitors;
 mod classes;
 mod clearance;
 mod creepage;
+mod from_flyback;
 mod impulse;
 mod report;
 pub mod tables;
@@ -43,6 +44,7 @@ pub use classes::{
 };
 pub use clearance::{clearance_distance, reinforced_withstand_voltage, Clearance, ClearanceSpec};
 pub use creepage::{creepage_distance, minimum_groove_width, Creepage, CreepageSpec, GrooveWidth};
+pub use from_flyback::{flyback_design_working_voltage, primary_swing_peak};
 pub use impulse::{altitude_correction, rated_impulse_voltage, AltitudeCorrection, RatedImpulse};
 pub use report::{
     barrier_checks, isolation_report, isolation_table, ProvidedInsulation, ISOLATION_WARN_MARGIN,

@@ -17,6 +17,7 @@ use crate::flyback::{
 use crate::report::{Field, Table};
 use crate::units::{Frequency, Inductance};
 use rhai::{Array, Dynamic, ImmutableString, Map};
+use std::sync::atomic::{AtomicBool, Ordering};
 use std::sync::Arc;
 
 use ParamKind::{Flag, List, Number, Quantity as Q, Text};
@@ -172,7 +173,7 @@ static OVERLOAD: FunctionDoc = FunctionDoc {
 static CHECKS: FunctionDoc = FunctionDoc {
     name: "flyback_checks",
     domain: Domain::Flyback,
-    summary: "The design's rule results (count toward the runner's strict mode); print with checks_table.",
+    summary: "The design's rule results; their failures count once per design toward the runner's strict mode, however often they are asked for; print with checks_table.",
     params: &[ParamDoc::required("design", ParamKind::Any, "a FlybackDesign")],
     keys: &[],
     returns: "array of CheckResult",
@@ -225,6 +226,9 @@ pub struct ScriptFlyback {
     design: Arc<FlybackDesign>,
     summary: ScriptRecord,
     spec: Arc<crate::flyback::FlybackSpec>,
+    /// Set once this design's failed checks have gone into the strict-mode count (shared by
+    /// every copy of the design, so asking for the checks again does not count them again).
+    counted: Arc<AtomicBool>,
 }
 
 impl ScriptFlyback {
@@ -492,6 +496,7 @@ pub(crate) fn register(api: &mut Api, state: &Arc<HostState>) {
             design: Arc::new(d),
             summary,
             spec: Arc::new(spec),
+            counted: Arc::new(AtomicBool::new(false)),
         })
     });
     def!(api, &SUMMARY, |d: ScriptFlyback| d.summary.clone());
@@ -511,10 +516,15 @@ pub(crate) fn register(api: &mut Api, state: &Arc<HostState>) {
     });
     def!(api, &OVERLOAD, |d: ScriptFlyback| d.design.overload_table());
     let st = state.clone();
-    def!(api, &CHECKS, move |d: ScriptFlyback| checks_to_array(
-        &st,
-        d.design.checks.clone()
-    ));
+    def!(api, &CHECKS, move |d: ScriptFlyback| {
+        let checks = d.design.checks.clone();
+        if d.counted.swap(true, Ordering::Relaxed) {
+            // Already counted for this design: hand the results back without counting again.
+            checks.into_iter().map(Dynamic::from).collect::<Array>()
+        } else {
+            checks_to_array(&st, checks)
+        }
+    });
     def!(api, &REPORT, |d: ScriptFlyback, title: ImmutableString| {
         design_report_markdown(&d.design, &title)
     });

@@ -4,6 +4,7 @@
 //! Each `api_*` file registers one domain; every function is registered together with its
 //! [`FunctionDoc`], so the prompt's help, completion and the README reference share one source.
 
+mod api_design_flow;
 mod api_emi;
 mod api_family;
 mod api_flyback;
@@ -83,4 +84,5 @@ pub(crate) fn register_all(
     api_emi::register(&mut api, state);
     api_mains::register(&mut api);
     api_flyback::register(&mut api, state);
+    api_design_flow::register(&mut api);
 }

@@ -1,0 +1,87 @@
+//! The voltages across a flyback transformer's primary–secondary barrier, read from a flyback
+//! design: bulk peak at high line, reflected voltage, clamp overshoot, the secondary's swing.
+
+use super::working_voltage::{flyback_working_voltage, BarrierWorkingVoltage, FlybackBarrierSpec};
+use crate::error::{Error, Result};
+use crate::flyback::FlybackDesign;
+use crate::units::{si, ElectricPotential};
+
+fn largest(values: impl Iterator<Item = f64>) -> f64 {
+    values.fold(f64::NEG_INFINITY, f64::max)
+}
+
+impl FlybackBarrierSpec {
+    /// The barrier voltages of a flyback design, at its highest line.
+    ///
+    /// - `bulk_voltage_peak`: the largest bulk peak voltage over the corners (high line,
+    ///   light load, where the ripple is smallest).
+    /// - `reflected_voltage`: the design's reflected voltage n·(V_out + V_rectifier).
+    /// - `clamp_overshoot`: the largest clamp voltage (the clamp as sized, or any corner's
+    ///   clamp voltage, whichever is higher) minus the reflected voltage, never below zero.
+    /// - `secondary_voltage_peak`: the largest rectifier reverse voltage over outputs and
+    ///   corners, V_bulk,peak/n + V_out: the largest swing of any secondary winding end against
+    ///   the secondary return, for the rectifier on either end of the winding (conservative).
+    /// - `secondary_voltage_rms`: none, so the peak is used (conservative).
+    /// - `duty_cycle`: the smallest duty cycle over the corners at the highest line voltage
+    ///   (a smaller duty gives the larger RMS in [`flyback_working_voltage`]).
+    /// - `switching_frequency`: the design's.
+    ///
+    /// Assumes the primary return is the reference for the primary side, as in
+    /// [`flyback_working_voltage`]; measure the real waveform on the prototype.
+    /// Valid for any design [`crate::flyback::flyback_design`] returns. Reference: the
+    /// composition is common practice, no published source; the design's voltages follow
+    /// Erickson & Maksimović, *Fundamentals of Power Electronics*, 3rd ed. (2020), ch. 6.
+    pub fn from_flyback(design: &FlybackDesign) -> Result<Self> {
+        if design.corners.is_empty() {
+            return Err(Error::invalid(
+                "the flyback design has no corners to read the barrier voltages from",
+            ));
+        }
+        let vr = design.reflected_voltage.value;
+        let bulk = largest(design.corners.iter().map(|c| c.bulk_peak_voltage.value));
+        let clamp = largest(
+            design
+                .corners
+                .iter()
+                .map(|c| c.clamp_voltage.value)
+                .chain(std::iter::once(design.clamp.clamp_voltage.value)),
+        );
+        let secondary = largest(design.corners.iter().flat_map(|c| {
+            c.secondaries
+                .iter()
+                .map(|s| s.rectifier_reverse_voltage.value)
+        }));
+        let high_line = largest(design.corners.iter().map(|c| c.line_voltage.value));
+        let duty = design
+            .corners
+            .iter()
+            .filter(|c| c.line_voltage.value >= high_line * (1.0 - 1e-12))
+            .map(|c| c.duty_cycle)
+            .fold(f64::INFINITY, f64::min);
+        Ok(FlybackBarrierSpec {
+            bulk_voltage_peak: si(bulk),
+            reflected_voltage: design.reflected_voltage,
+            clamp_overshoot: si((clamp - vr).max(0.0)),
+            secondary_voltage_peak: si(secondary.max(0.0)),
+            secondary_voltage_rms: None,
+            duty_cycle: duty,
+            switching_frequency: design.switching_frequency,
+        })
+    }
+}
+
+/// Primary–secondary working voltage (peak and RMS) of a flyback design:
+/// [`flyback_working_voltage`] of [`FlybackBarrierSpec::from_flyback`].
+///
+/// Formula: peak = V_bulk,peak + V_r + V_overshoot + V_secondary,peak; RMS =
+/// max(V_bulk, (V_bulk + V_r)·√(1 − D)) + V_secondary (conservative sum, common practice,
+/// no published source). Valid for any design [`crate::flyback::flyback_design`] returns.
+pub fn flyback_design_working_voltage(design: &FlybackDesign) -> Result<BarrierWorkingVoltage> {
+    flyback_working_voltage(&FlybackBarrierSpec::from_flyback(design)?)
+}
+
+/// The drain's highest voltage against the primary return that the working voltage includes,
+/// V_bulk,peak + V_r + V_overshoot, of a barrier spec.
+pub fn primary_swing_peak(spec: &FlybackBarrierSpec) -> ElectricPotential {
+    spec.bulk_voltage_peak + spec.reflected_voltage + spec.clamp_overshoot
+}

@@ -1,0 +1,95 @@
+//! Script API that connects the flyback design to the EMI and isolation work:
+//! `flyback_emi_source` (the converter keys of `input_filter_design` from a corner) and
+//! `flyback_barrier_voltage` (the primary–secondary working voltage from the design).
+
+use super::api_flyback::ScriptFlyback;
+use super::convert::{dynamic_to_typed, lift, value_to_dynamic, ScriptResult};
+use super::docs::{Domain, FunctionDoc, ParamDoc, ParamKind};
+use super::record::ScriptRecord;
+use super::{def, overload, Api};
+use crate::emi::{emi_source_from_flyback, FlybackEmiSource, DEFAULT_DRAIN_RISE_TIME_S};
+use crate::report::{Field, Record};
+use crate::safety::{flyback_working_voltage, FlybackBarrierSpec};
+use crate::units::{si, Time};
+use rhai::{Dynamic, ImmutableString, Map};
+
+static EMI_SOURCE: FunctionDoc = FunctionDoc {
+    name: "flyback_emi_source",
+    domain: Domain::Emi,
+    summary: "The converter keys of input_filter_design read from one corner of a flyback design: switching frequency, primary current (CCM trapezoid or DCM triangle), drain trapezoid (bulk peak + reflected), bulk capacitance, lowest bulk voltage and input power at full load, highest line. Add the filter keys (parasitic_capacitance, max_y_capacitance, class, margin, …) and pass it to input_filter_design.",
+    params: &[
+        ParamDoc::required("design", ParamKind::Any, "a FlybackDesign"),
+        ParamDoc::required("corner", ParamKind::Text, "corner name, e.g. \"low_line_full_load\" or \"high_line_full_load\""),
+        ParamDoc::with_default("rise_time", ParamKind::Quantity("s"), "30 ns", "drain rise and fall time (shortened to fit half the off-time)"),
+    ],
+    keys: &[],
+    returns: "map with the keys switching_frequency, conduction_mode, peak_current, valley_current, duty, drain_voltage, rise_time, fall_time, bulk_capacitance, minimum_input_voltage, input_power, maximum_line_voltage",
+    example: "input_filter_design(flyback_emi_source(flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A}), \"low_line_full_load\") + #{parasitic_capacitance: 15 * pF, max_y_capacitance: 1 * nF}).summary",
+};
+
+static BARRIER_VOLTAGE: FunctionDoc = FunctionDoc {
+    name: "flyback_barrier_voltage",
+    domain: Domain::Safety,
+    summary: "Primary–secondary working voltage (peak and RMS) of a flyback design: bulk peak at high line + reflected voltage + clamp overshoot + the secondary's largest swing (conservative sum); its fields feed barrier_requirements.",
+    params: &[ParamDoc::required("design", ParamKind::Any, "a FlybackDesign")],
+    keys: &[],
+    returns: "record: bulk_voltage_peak, reflected_voltage, clamp_overshoot, secondary_voltage_peak, duty_cycle, working_voltage_peak, working_voltage_rms, working_frequency, rule",
+    example: "flyback_barrier_voltage(flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A})).working_voltage_peak",
+};
+
+fn source_map(s: &FlybackEmiSource) -> Map {
+    let mut m = Map::new();
+    for f in s.fields() {
+        if f.name == "corner" {
+            continue;
+        }
+        m.insert(f.name.as_str().into(), value_to_dynamic(&f.value));
+    }
+    m
+}
+
+fn emi_source(d: &ScriptFlyback, corner: &str, rise: Time) -> ScriptResult<Map> {
+    let s = lift(
+        emi_source_from_flyback(d.design(), corner, rise)
+            .map_err(|e| e.context("flyback_emi_source")),
+    )?;
+    Ok(source_map(&s))
+}
+
+pub(crate) fn register(api: &mut Api) {
+    def!(api, &EMI_SOURCE, |d: ScriptFlyback,
+                            corner: ImmutableString|
+     -> ScriptResult<Map> {
+        emi_source(&d, &corner, si(DEFAULT_DRAIN_RISE_TIME_S))
+    });
+    overload!(api, "flyback_emi_source", |d: ScriptFlyback,
+                                          corner: ImmutableString,
+                                          rise: Dynamic|
+     -> ScriptResult<Map> {
+        let rise: Time = lift(dynamic_to_typed(&rise, "rise_time"))?;
+        emi_source(&d, &corner, rise)
+    });
+    def!(
+        api,
+        &BARRIER_VOLTAGE,
+        |d: ScriptFlyback| -> ScriptResult<ScriptRecord> {
+            let (spec, w) = lift(
+                (|| {
+                    let spec = FlybackBarrierSpec::from_flyback(d.design())?;
+                    let w = flyback_working_voltage(&spec)?;
+                    Ok((spec, w))
+                })()
+                .map_err(|e: crate::error::Error| e.context("flyback_barrier_voltage")),
+            )?;
+            let mut fields = vec![
+                Field::quantity("bulk_voltage_peak", spec.bulk_voltage_peak),
+                Field::quantity("reflected_voltage", spec.reflected_voltage),
+                Field::quantity("clamp_overshoot", spec.clamp_overshoot),
+                Field::quantity("secondary_voltage_peak", spec.secondary_voltage_peak),
+                Field::new("duty_cycle", spec.duty_cycle),
+            ];
+            fields.extend(w.fields());
+            Ok(ScriptRecord::new("flyback_barrier_voltage", fields))
+        }
+    );
+}
