@@ -6,10 +6,10 @@ use gapwise::emi::{
     common_mode_noise, damping_network, differential_mode_noise, emi_limit,
     filter_corner_frequency, filter_output_impedance_peak, harmonic_table, input_filter_design,
     lc_filter_attenuation, lisn_impedance, middlebrook_criterion, required_attenuation,
-    spectrum_svg, x_capacitor_discharge, y_capacitor_touch_current, CommonModeSpec, Detector,
-    DifferentialModeSpec, DrainVoltageShape, EmissionClass, FilterStage, InputFilterSpec,
-    PeriodicWaveform, PrimaryCurrentShape,
+    spectrum_svg, CommonModeSpec, Detector, DifferentialModeSpec, DrainVoltageShape, EmissionClass,
+    FilterStage, InputFilterSpec, PeriodicWaveform, PrimaryCurrentShape,
 };
+use gapwise::safety::{x_discharge_resistor, y_capacitor_touch_current, DischargeSpec};
 use gapwise::units::{si, DbReference, Decibel, ElectricCurrent, ElectricPotential};
 use gapwise::ErrorKind;
 use proptest::prelude::*;
@@ -355,10 +355,16 @@ fn middlebrook_example() {
 fn x_capacitor_discharge_resistor() {
     // RC discharge v = V0·e^(−t/RC) (hand calculation of the same formula, not a reference):
     // 470 nF from √2·264 V to 60 V in 1 s needs R ≤ 1/(470e−9·ln(373.35/60)) = 1.1638 MΩ
-    let x = x_capacitor_discharge(si(470e-9), si(264.0), si(1.0), si(60.0)).unwrap();
-    assert!((x.maximum_resistance.value / 1.1638e6 - 1.0).abs() < 1e-3);
-    assert!((x.power_loss.value - 264.0 * 264.0 / x.maximum_resistance.value).abs() < 1e-12);
-    assert!(x_capacitor_discharge(si(470e-9), si(264.0), si(1.0), si(400.0)).is_err());
+    let spec = |limit: f64| DischargeSpec {
+        x_capacitance: si(470e-9),
+        mains_voltage: si(264.0),
+        discharge_time: si(1.0),
+        residual_voltage_limit: si(limit),
+    };
+    let x = x_discharge_resistor(&spec(60.0)).unwrap();
+    assert!((x.resistance.value / 1.1638e6 - 1.0).abs() < 1e-3);
+    assert!((x.standby_loss.value - 264.0 * 264.0 / x.resistance.value).abs() < 1e-12);
+    assert!(x_discharge_resistor(&spec(400.0)).is_err());
 }
 
 fn fernbank_like(fsw: f64) -> InputFilterSpec {
@@ -585,7 +591,12 @@ proptest! {
         }
         let _ = damping_network(si(x), si(y), duty);
         let _ = middlebrook_criterion(si(x), si(y), si(f), Decibel::ratio(duty));
-        let _ = x_capacitor_discharge(si(x * 1e-9), si(y), si(duty), si(x));
+        let _ = x_discharge_resistor(&DischargeSpec {
+            x_capacitance: si(x * 1e-9),
+            mains_voltage: si(y),
+            discharge_time: si(duty),
+            residual_voltage_limit: si(x),
+        });
         let s = PrimaryCurrentShape::Continuous { valley: si(y), peak: si(x), duty };
         if let Ok(a) = s.harmonic_amplitude(n) { prop_assert!(a.value.is_finite()); }
         let d = DrainVoltageShape { amplitude: si(x), duty, rise_time: si(y * 1e-9), fall_time: si(y * 1e-9) };

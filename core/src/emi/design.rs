@@ -9,14 +9,14 @@ use super::filter::{
     ImpedancePeak, MiddlebrookCheck,
 };
 use super::limits::{emi_limit, Detector, EmissionClass};
-use super::safety_capacitors::{
-    x_capacitor_discharge, y_capacitor_touch_current, XCapacitorDischarge,
-};
 use super::spectrum::{DrainVoltageShape, PrimaryCurrentShape};
 use super::{in_band_harmonics, level_of_peak};
 use crate::error::{Error, Result};
 use crate::report::{Field, Record, Table, SAFETY_CAUTION};
 use crate::rules::{CheckResult, Comparison, Rule};
+use crate::safety::{
+    x_discharge_resistor, y_capacitor_touch_current, DischargeResistor, DischargeSpec,
+};
 use crate::units::validate::{non_negative, positive};
 use crate::units::{
     si, Capacitance, DbReference, Decibel, ElectricCurrent, ElectricPotential,
@@ -168,7 +168,7 @@ pub struct InputFilterDesign {
     /// Middlebrook margin on its own (useful when the bulk ESR is low).
     pub damping: Option<DampingNetwork>,
     /// The X capacitors' discharge resistor.
-    pub x_discharge: XCapacitorDischarge,
+    pub x_discharge: DischargeResistor,
     /// Touch current of the Y capacitance at the highest line voltage and line frequency.
     pub y_touch_current: ElectricCurrent,
 }
@@ -404,12 +404,12 @@ pub fn input_filter_design(spec: &InputFilterSpec) -> Result<InputFilterDesign> 
     };
 
     let total_x: Capacitance = si(cx * stages.len().max(1) as f64);
-    let x_discharge = x_capacitor_discharge(
-        total_x,
-        spec.maximum_line_voltage,
-        spec.discharge_time,
-        spec.discharge_voltage,
-    )?;
+    let x_discharge = x_discharge_resistor(&DischargeSpec {
+        x_capacitance: total_x,
+        mains_voltage: spec.maximum_line_voltage,
+        discharge_time: spec.discharge_time,
+        residual_voltage_limit: spec.discharge_voltage,
+    })?;
     let y_touch_current = y_capacitor_touch_current(
         spec.max_y_capacitance,
         spec.maximum_line_voltage,
@@ -487,11 +487,11 @@ impl Record for InputFilterDesign {
         }
         f.push(Field::quantity(
             "discharge_resistance",
-            self.x_discharge.maximum_resistance,
+            self.x_discharge.resistance,
         ));
         f.push(Field::quantity(
             "discharge_loss",
-            self.x_discharge.power_loss,
+            self.x_discharge.standby_loss,
         ));
         f.push(Field::quantity("y_touch_current", self.y_touch_current));
         f

@@ -1,7 +1,7 @@
 //! Conducted EMI of an offline flyback: CISPR 32 limit lines, the CISPR 16-1-2 LISN, harmonic
 //! spectra of the converter's waveforms, differential- and common-mode noise estimates, the
 //! input filter that brings them under the limit with margin (with its damping and
-//! Middlebrook's criterion), the X capacitor's discharge resistor, the harmonic table and an
+//! Middlebrook's criterion), the X capacitor's discharge resistor (from the safety domain), the harmonic table and an
 //! SVG plot of the spectrum against the limit lines.
 //!
 //! The converter is described by its own waveforms ([`PrimaryCurrentShape`],
@@ -25,7 +25,6 @@ mod from_flyback;
 mod limits;
 mod lisn;
 mod plot;
-mod safety_capacitors;
 mod spectrum;
 
 pub use common_mode::{common_mode_noise, CommonModeSpec};
@@ -52,10 +51,6 @@ pub use lisn::{
     LISN_MAINS_CAPACITANCE, LISN_RECEIVER_RESISTANCE,
 };
 pub use plot::spectrum_svg;
-pub use safety_capacitors::{
-    x_capacitor_discharge, y_capacitance_for_touch_current, y_capacitor_touch_current,
-    XCapacitorDischarge,
-};
 pub use spectrum::{DrainVoltageShape, PeriodicWaveform, PrimaryCurrentShape};
 
 use crate::error::{Error, Result};

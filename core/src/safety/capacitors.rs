@@ -84,6 +84,24 @@ pub struct YCapacitanceLimit {
     pub rule: String,
 }
 
+/// Touch current through a Y capacitance from the mains: I = 2π·f·C·V (RMS).
+///
+/// Assumes the whole mains voltage across the capacitance (the worst case), a sinusoidal
+/// mains, and a capacitive path only (a harmonic-rich mains raises it); ignores the measuring
+/// network. The inverse is [`largest_y_capacitance`]. Valid for positive, finite inputs.
+/// Reference: the reactance of a capacitor, I = V/X_C (Erickson & Maksimović, 3rd ed. 2020,
+/// ch. 8); the limit to compare with comes from IEC 62368-1 (value recalled from memory).
+pub fn y_capacitor_touch_current(
+    y_capacitance: Capacitance,
+    mains_voltage: ElectricPotential,
+    mains_frequency: Frequency,
+) -> Result<ElectricCurrent> {
+    let c = positive("y_capacitance", y_capacitance)?.value;
+    let v = positive("mains_voltage", mains_voltage)?.value;
+    let f = positive("mains_frequency", mains_frequency)?.value;
+    Ok(si(2.0 * PI * f * c * v))
+}
+
 /// Largest total Y capacitance from primary to the touchable secondary (class II) so that the
 /// touch current stays within a limit.
 ///

@@ -36,8 +36,8 @@ mod working_voltage;
 
 pub use barrier::{barrier_requirements, BarrierRequirement, BarrierSpec, HIGH_FREQUENCY_LIMIT_HZ};
 pub use capacitors::{
-    largest_y_capacitance, safety_capacitor_class, x_discharge_resistor, DischargeResistor,
-    DischargeSpec, SafetyCapacitorClass, YCapacitanceLimit,
+    largest_y_capacitance, safety_capacitor_class, x_discharge_resistor, y_capacitor_touch_current,
+    DischargeResistor, DischargeSpec, SafetyCapacitorClass, YCapacitanceLimit,
 };
 pub use classes::{
     Barrier, FieldCase, InsulationGrade, MaterialGroup, OvervoltageCategory, PollutionDegree,

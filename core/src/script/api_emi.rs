@@ -312,57 +312,27 @@ static MIDDLEBROOK: FunctionDoc = FunctionDoc {
     returns: "record: negative_input_resistance, peak_output_impedance, margin, required_margin, satisfied",
     example: "middlebrook_criterion(#{peak_output_impedance: 15 * ohm, input_voltage: 100 * V, input_power: 33 * W})",
 };
-static XDIS: FunctionDoc = FunctionDoc {
-    name: "x_capacitor_discharge",
-    domain: Domain::Emi,
-    summary: "Largest discharge resistor across the X capacitance, R = t/(C·ln(V0/Vf)), and its loss V²/R.",
-    params: &[ParamDoc::required("spec", ParamKind::Map, "see keys")],
-    keys: &[
-        ParamDoc::required("x_capacitance", ParamKind::Quantity("F"), "total X capacitance"),
-        ParamDoc::with_default("line_voltage_rms", ParamKind::Quantity("V"), "264 V", "highest line voltage"),
-        ParamDoc::required("discharge_time", ParamKind::Quantity("s"), "time allowed (safety standard)"),
-        ParamDoc::required("final_voltage", ParamKind::Quantity("V"), "voltage to reach (safety standard)"),
-    ],
-    returns: "record: x_capacitance, initial_voltage, maximum_resistance, time_constant, power_loss",
-    example: "x_capacitor_discharge(#{x_capacitance: 220 * nF, discharge_time: 2 * s, final_voltage: 60 * V})",
-};
 static TOUCH: FunctionDoc = FunctionDoc {
     name: "y_capacitor_touch_current",
-    domain: Domain::Emi,
-    summary: "Touch current through a Y capacitance, 2π·f·C·V.",
+    domain: Domain::Safety,
+    summary:
+        "Touch current through a Y capacitance, 2π·f·C·V (the inverse is largest_y_capacitance).",
     params: &[
         ParamDoc::required("y_capacitance", ParamKind::Quantity("F"), "Y capacitance"),
-        ParamDoc::required("line_voltage_rms", ParamKind::Quantity("V"), "line voltage"),
         ParamDoc::required(
-            "line_frequency",
+            "mains_voltage",
+            ParamKind::Quantity("V"),
+            "highest mains voltage, RMS",
+        ),
+        ParamDoc::required(
+            "mains_frequency",
             ParamKind::Quantity("Hz"),
-            "line frequency",
+            "highest mains frequency",
         ),
     ],
     keys: &[],
     returns: "A (RMS)",
     example: "y_capacitor_touch_current(2.2 * nF, 264 * V, 60 * Hz)",
-};
-static Y_FOR: FunctionDoc = FunctionDoc {
-    name: "y_capacitance_for_touch_current",
-    domain: Domain::Emi,
-    summary: "Largest Y capacitance for a touch-current limit, I/(2π·f·V).",
-    params: &[
-        ParamDoc::required(
-            "touch_current_limit",
-            ParamKind::Quantity("A"),
-            "limit (safety domain)",
-        ),
-        ParamDoc::required("line_voltage_rms", ParamKind::Quantity("V"), "line voltage"),
-        ParamDoc::required(
-            "line_frequency",
-            ParamKind::Quantity("Hz"),
-            "line frequency",
-        ),
-    ],
-    keys: &[],
-    returns: "F",
-    example: "y_capacitance_for_touch_current(0.25 * mA, 264 * V, 60 * Hz)",
 };
 
 const DESIGN_EXAMPLE: &str = "input_filter_design(#{switching_frequency: 65 * kHz, peak_current: 1 * A, valley_current: 0.4 * A, duty: 0.45, bulk_capacitance: 47 * uF, drain_voltage: 480 * V, parasitic_capacitance: 20 * pF, max_y_capacitance: 2.2 * nF, minimum_input_voltage: 100 * V, input_power: 33 * W})";
@@ -742,29 +712,11 @@ pub(crate) fn register(api: &mut Api, state: &Arc<HostState>) {
             Ok(ScriptRecord::from_record("middlebrook_criterion", &x))
         })())
     });
-    def!(api, &XDIS, |m: Map| -> ScriptResult<ScriptRecord> {
-        lift((|| {
-            let s = Spec::new(&XDIS, &m)?;
-            let x = emi::x_capacitor_discharge(
-                s.quantity("x_capacitance")?,
-                s.quantity("line_voltage_rms")?,
-                s.quantity("discharge_time")?,
-                s.quantity("final_voltage")?,
-            )?;
-            Ok(ScriptRecord::from_record("x_capacitor_discharge", &x))
-        })())
-    });
     def!(api, &TOUCH, |c: Dynamic, v: Dynamic, f: Dynamic| three(
         (&c, "y_capacitance"),
-        (&v, "line_voltage_rms"),
-        (&f, "line_frequency"),
-        emi::y_capacitor_touch_current
-    ));
-    def!(api, &Y_FOR, |i: Dynamic, v: Dynamic, f: Dynamic| three(
-        (&i, "touch_current_limit"),
-        (&v, "line_voltage_rms"),
-        (&f, "line_frequency"),
-        emi::y_capacitance_for_touch_current
+        (&v, "mains_voltage"),
+        (&f, "mains_frequency"),
+        crate::safety::y_capacitor_touch_current
     ));
     let st = state.clone();
     def!(api, &DESIGN, move |m: Map| -> ScriptResult<Map> {
