@@ -163,3 +163,11 @@ fn every_registered_function_has_help() {
         }
     }
 }
+
+#[test]
+fn select_keeps_the_given_order_and_names_unknown_columns() {
+    let out = eval("table([#{a: 1 * V, b: 2 * A}]).select([\"b\", \"a\"]).columns");
+    assert_eq!(out, "[\"b\", \"a\"]");
+    let e = eval_err("table([#{alpha: 1 * V}]).select([\"alpah\"])");
+    assert!(e.message.contains("did you mean `alpha`"), "{}", e.message);
+}

@@ -63,6 +63,31 @@ impl Table {
         self.errors.push(error);
     }
 
+    /// A table with only the named columns, in the order given (error messages are kept).
+    /// Unknown names are an error that suggests the nearest column.
+    pub fn select(&self, names: &[&str]) -> crate::Result<Table> {
+        let mut index = Vec::with_capacity(names.len());
+        for n in names {
+            let i = self.names.iter().position(|c| c == n).ok_or_else(|| {
+                let have: Vec<&str> = self.names.iter().map(String::as_str).collect();
+                crate::Error::unknown(format!(
+                    "the table has no column `{n}`{}",
+                    crate::script::suggest::did_you_mean(n, &have)
+                ))
+            })?;
+            index.push(i);
+        }
+        Ok(Table {
+            names: names.iter().map(|n| n.to_string()).collect(),
+            rows: self
+                .rows
+                .iter()
+                .map(|r| index.iter().map(|i| r[*i].clone()).collect())
+                .collect(),
+            errors: self.errors.clone(),
+        })
+    }
+
     /// Number of rows.
     pub fn len(&self) -> usize {
         self.rows.len()

@@ -87,6 +87,18 @@ static COLUMN: FunctionDoc = FunctionDoc {
     returns: "array",
     example: "table([#{a: 1 * V}, #{a: 2 * V}]).column(\"a\")",
 };
+static SELECT: FunctionDoc = FunctionDoc {
+    name: "select",
+    domain: Domain::Families,
+    summary: "A table with only the named columns, in the order given (error rows kept).",
+    params: &[
+        ParamDoc::required("table", ParamKind::Any, "the Table"),
+        ParamDoc::required("columns", ParamKind::List, "column names"),
+    ],
+    keys: &[],
+    returns: "a Table",
+    example: "table([#{a: 1 * V, b: 2 * A}]).select([\"b\", \"a\"])",
+};
 static ROW: FunctionDoc = FunctionDoc {
     name: "row",
     domain: Domain::Families,
@@ -297,6 +309,24 @@ pub(crate) fn register(api: &mut Api, state: &Arc<HostState>, limits: &EngineLim
                     .unwrap_or(Dynamic::UNIT)
             })
             .collect())
+    });
+    def!(api, &SELECT, |t: &mut Table,
+                        columns: Array|
+     -> ScriptResult<Table> {
+        let names: Vec<String> = columns
+            .into_iter()
+            .map(|c| {
+                c.into_immutable_string()
+                    .map(|s| s.to_string())
+                    .map_err(|t| {
+                        script_error(Error::invalid(format!(
+                            "column names must be text, got {t}"
+                        )))
+                    })
+            })
+            .collect::<ScriptResult<_>>()?;
+        let refs: Vec<&str> = names.iter().map(String::as_str).collect();
+        lift(t.select(&refs))
     });
     def!(api, &ROW, |t: &mut Table, i: INT| -> ScriptResult<Map> {
         let i = usize::try_from(i)
