@@ -36,7 +36,7 @@ fn e_type_effective_parameters_against_handbook_values() {
     // IEC 60205 summation method from our built-in dimensions against makers' handbook
     // values (every handbook value here is a value recalled from memory, as are the
     // dimensions). Tolerances are what the method achieves with those dimensions:
-    // ETD and EFD within 2.5 % on Ae and 6 % on le (IEC 60205 method, recalled handbook values)
+    // ETD and EFD within 2.5 % on Ae and 3.5 % on le (IEC 60205 method, recalled handbook values)
     for (name, ae, le) in [
         ("ETD29", "76 mm2", "72.0 mm"),
         ("ETD34", "97.1 mm2", "78.6 mm"),
@@ -47,12 +47,12 @@ fn e_type_effective_parameters_against_handbook_values() {
     ] {
         let c = format!("core_by_size(\"{name}\")");
         check_near(eval_quantity(&format!("{c}.effective_area")), ae, 0.025);
-        check_near(eval_quantity(&format!("{c}.effective_length")), le, 0.06);
+        check_near(eval_quantity(&format!("{c}.effective_length")), le, 0.035);
     }
     // plain E and EF cores: le within 6 %, Ae high by up to 17 % because the recalled
     // centre-leg and depth dimensions are too large (E16/8/5: every section of the path is
     // at least 22 mm², above the handbook Ae of 20.1 mm²); RM and PQ are shaped cores the
-    // E-type model only approximates: Ae within 11 %, le within 10 %
+    // E-type model only approximates: Ae within 12 %, le within 6 %
     // (IEC 60205 method, recalled handbook values)
     for (name, ae, le, tol_ae, tol_le) in [
         ("E16/8/5", "20.1 mm2", "37.6 mm", 0.17, 0.06),
@@ -60,11 +60,11 @@ fn e_type_effective_parameters_against_handbook_values() {
         ("E32/16/9", "83 mm2", "74 mm", 0.17, 0.06),
         ("EF20", "32 mm2", "46 mm", 0.17, 0.06),
         ("EF25", "52.5 mm2", "57.5 mm", 0.17, 0.06),
-        ("RM8", "64 mm2", "38 mm", 0.11, 0.10),
-        ("RM10", "98 mm2", "44 mm", 0.11, 0.10),
-        ("PQ20/16", "62 mm2", "37.4 mm", 0.11, 0.10),
-        ("PQ26/25", "120 mm2", "54.3 mm", 0.11, 0.10),
-        ("PQ32/30", "161 mm2", "74.7 mm", 0.11, 0.10),
+        ("RM8", "64 mm2", "38 mm", 0.12, 0.06),
+        ("RM10", "98 mm2", "44 mm", 0.12, 0.06),
+        ("PQ20/16", "62 mm2", "37.4 mm", 0.12, 0.06),
+        ("PQ26/25", "120 mm2", "54.3 mm", 0.12, 0.06),
+        ("PQ32/30", "161 mm2", "74.7 mm", 0.12, 0.06),
     ] {
         let c = format!("core_by_size(\"{name}\")");
         check_near(eval_quantity(&format!("{c}.effective_area")), ae, tol_ae);

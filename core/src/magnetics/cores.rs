@@ -152,16 +152,18 @@ impl Core {
     /// yokes (l2 = window width − centre-leg width, A2 = 2·h·depth for yoke thickness h),
     /// outer legs (l3 = window height, A3 = their total area), the corners at the outer legs
     /// (l4 = π/4·(s + h), A4 = (A2 + A3)/2) and at the centre leg (l5 = π/4·(p + h),
-    /// A5 = (A1 + A2)/2), where s is one outer leg's width and p half the centre-leg width
-    /// (for a round or non-full-depth leg: its area over twice the depth). Each corner term
+    /// A5 = (A1 + A2)/2), where s is one outer leg's width (for given outer-leg areas: their
+    /// area over twice the depth) and p half the centre-leg width across the core (the radius
+    /// of a round leg). Each corner term
     /// covers the top and bottom quarter-ellipse arcs through the middle of the joined parts.
     /// Then C1 = Σ l/A, C2 = Σ l/A², le = C1²/C2, Ae = C1/C2, Ve = Ae·le, Amin = smallest
     /// segment area.
     ///
     /// Valid for E, EF, EFD and ETD pairs; RM, PQ and EQ are treated as E-type pairs with
     /// their outer-leg area given, which ignores the standard's separate terms for their
-    /// shaped legs (expect le up to about 10 % short there). Against makers' handbook values
-    /// with our built-in dimensions: ETD and EFD Ae within 2 %, le within 6 %; plain E and EF
+    /// shaped legs (le within about 6 %, Ae up to about 12 % high there). Against makers'
+    /// handbook values with our built-in dimensions: ETD and EFD Ae within 2 %, le within
+    /// 3.5 %; plain E and EF
     /// Ae up to about 10 % high, which the dimensions themselves cause (on E16/8/5 every
     /// segment is at least 22 mm², so no corner model can give the handbook 20.1 mm²).
     /// Bobbin winding width and height use a common-practice wall allowance. Reference:
@@ -195,7 +197,10 @@ impl Core {
             None => (a - ww) * c,
         };
         let ay = 2.0 * h * c;
-        let wc = ac / (2.0 * c);
+        // p of the standard: half the centre leg's own width across the core (its radius
+        // for a round leg), not an area-equivalent width at full depth, which shortened the
+        // corner path of flat (EFD) and round legs
+        let wc = f / 2.0;
         let wo = ao / (2.0 * c);
         let segs = [
             Segment {
