@@ -79,7 +79,11 @@ fn e_core_of_uniform_section_has_that_section_as_ae() {
     // segment is 80 mm²; then Ae = 80 mm² exactly and le is the plain sum of the lengths:
     // 2·12 mm (legs) + (24 − 8) mm (yokes) + π/4·(4 + 4) + π/4·(4 + 4) (corners)
     let c = "core_from_dimensions(#{family: \"E\", overall_width: 32 * mm, overall_height: 20 * mm, depth: 10 * mm, window_height: 12 * mm, window_width: 24 * mm, centre_leg_width: 8 * mm})";
-    check_near(eval_quantity(&format!("{c}.effective_area")), "80 mm2", 1e-9);
+    check_near(
+        eval_quantity(&format!("{c}.effective_area")),
+        "80 mm2",
+        1e-9,
+    );
     check_near(eval_quantity(&format!("{c}.minimum_area")), "80 mm2", 1e-9);
     let le = 2.0 * 12.0 + 16.0 + 2.0 * PI / 4.0 * 8.0;
     check_near(
@@ -104,11 +108,19 @@ fn every_built_in_core_is_plausible() {
             c.effective_volume.value,
             c.minimum_area.value,
         );
-        assert!((ve / (ae * le) - 1.0).abs() < 1e-9, "{}: Ve = Ae·le", c.name);
+        assert!(
+            (ve / (ae * le) - 1.0).abs() < 1e-9,
+            "{}: Ve = Ae·le",
+            c.name
+        );
         let wh = c.window_height.value;
         if c.family == magnetics::CoreFamily::Toroid {
             let r1 = (c.window_area.value / PI).sqrt();
-            assert!(le > 2.0 * PI * r1, "{}: le beyond the inner circumference", c.name);
+            assert!(
+                le > 2.0 * PI * r1,
+                "{}: le beyond the inner circumference",
+                c.name
+            );
             assert!(ae <= amin, "{}: a ring's Ae is below its section", c.name);
             continue;
         }
@@ -116,16 +128,23 @@ fn every_built_in_core_is_plausible() {
         let inner = 2.0 * (wh + half_ww);
         assert!(amin <= ae * (1.0 + 1e-12), "{}: Amin ≤ Ae", c.name);
         assert!(ae <= 1.6 * amin, "{}: Ae within 1.6·Amin", c.name);
-        assert!(le > inner, "{}: le {le} beyond the window perimeter {inner}", c.name);
+        assert!(
+            le > inner,
+            "{}: le {le} beyond the window perimeter {inner}",
+            c.name
+        );
         assert!(
             le < inner + 8.0 * ae.sqrt(),
             "{}: le {le} within the core outline",
             c.name
         );
-        assert!(c.centre_leg_area.value >= amin * (1.0 - 1e-12), "{}", c.name);
+        assert!(
+            c.centre_leg_area.value >= amin * (1.0 - 1e-12),
+            "{}",
+            c.name
+        );
     }
 }
-
 
 #[test]
 fn user_cores_by_dimensions_and_by_effective_parameters() {
@@ -692,6 +711,8 @@ mod tests_support {
             reflected_voltage: si(90.0),
             output_voltage: si(12.0),
             rectifier_drop: si(0.5),
+            output_current: None,
+            additional_outputs: Vec::new(),
             bias: None,
             max_flux_density: si(0.3),
             saturation_margin: 0.1,
@@ -746,4 +767,67 @@ fn transformer_inputs_come_from_the_flyback_design() {
         "{d} t.core = \"EF25\"; t.max_flux_density = 0.32 * T; transformer_design(t).design.flux_density_limit_peak"
     ));
     assert!(b.value() <= 0.32, "{b}");
+}
+
+#[test]
+fn several_outputs_share_the_secondary_ampere_turns() {
+    // 12 V / 1 A regulated plus 5 V / 1 A (0.4 V drop) on the EF25 design above
+    let two = "let s = DESIGN_SPEC; s.output_current = 1 * A; s.additional_outputs = [#{voltage: 5 * V, current: 1 * A, rectifier_drop: 0.4 * V}]; let d = transformer_design(s).design; ";
+    let two = two.replace("DESIGN_SPEC", DESIGN);
+    let turns = |e: &str| -> f64 { eval(&format!("{two} {e}")).parse().unwrap() };
+    let ns = turns("d.secondary_turns");
+    let n2 = turns("d[\"output_2.turns\"]");
+    // hand calculation of the same turns formula (not a reference): N2 = round(Ns·5.4/12.5)
+    assert_eq!(n2, (ns * 5.4 / 12.5).round());
+    // ampere-turn balance of coupled windings, Σ Nk·ik = Np·ip (Erickson & Maksimović, 3rd
+    // ed. (2020), chapter 6, flyback with several outputs): the two secondaries' RMS
+    // ampere-turns add up to those of the single secondary of the one-output design
+    let single = eval_quantity(&format!(
+        "let d = transformer_design({DESIGN}).design; d.secondary_turns * d[\"secondary.rms_current\"]"
+    ));
+    let shared = eval_quantity(&format!(
+        "{two} d.secondary_turns * d[\"secondary.rms_current\"] + d[\"output_2.turns\"] * d[\"secondary_2.rms_current\"]"
+    ));
+    check_near(shared, &format!("{} A", single.value()), 1e-9);
+    // shares follow Nk·Ik and add up to one (definition)
+    let s1 = eval_quantity(&format!("{two} d.secondary_current_share")).value();
+    let s2 = eval_quantity(&format!("{two} d[\"output_2.current_share\"]")).value();
+    assert!((s1 + s2 - 1.0).abs() < 1e-12);
+    assert!((s2 / s1 - n2 / ns).abs() < 1e-12, "{s1} {s2}");
+    // integer turns: the output voltage lands within half a turn's volts of the wish
+    let v2 = eval_quantity(&format!("{two} d[\"output_2.voltage\"]")).value();
+    assert!((v2 - 5.0).abs() <= 0.5 * 12.5 / ns + 1e-9, "{v2}");
+    // the extra winding is wound and appears in the build sheet and losses
+    let sheet = eval(&format!(
+        "let s = {DESIGN}; s.output_current = 1 * A; s.additional_outputs = [#{{voltage: 5 * V, current: 1 * A}}]; transformer_design(s).build_sheet"
+    ));
+    assert!(sheet.contains("secondary 2"), "{sheet}");
+    // bad input names the parameter
+    let e = eval_err(&format!(
+        "let s = {DESIGN}; s.additional_outputs = [#{{voltage: 5 * V, current: 1 * A}}]; transformer_design(s)"
+    ));
+    assert!(e.message.contains("output_current"), "{}", e.message);
+    let e = eval_err(&format!(
+        "let s = {DESIGN}; s.output_current = 1 * A; s.additional_outputs = [#{{voltage: -5 * V, current: 1 * A}}]; transformer_design(s)"
+    ));
+    assert!(
+        e.message.contains("additional_outputs[0]") && e.message.contains("voltage"),
+        "{}",
+        e.message
+    );
+}
+
+#[test]
+fn every_flyback_output_reaches_the_transformer() {
+    // the adapter carries the second output of a two-output flyback (consistency check)
+    let d = "let d = flyback_design(#{outputs: [#{voltage: 12 * V, current: 1 * A}, #{voltage: 5 * V, current: 0.6 * A}]}); let t = transformer_inputs_from_flyback(d); ";
+    assert_eq!(eval(&format!("{d} t.additional_outputs.len()")), "1");
+    assert_eq!(eval(&format!("{d} t.additional_outputs[0].voltage")), "5 V");
+    assert_eq!(eval(&format!("{d} t.output_current")), "1 A");
+    let n2: i64 = eval(&format!(
+        "{d} t.core = \"EF25\"; t.max_flux_density = 0.32 * T; transformer_design(t).design[\"output_2.turns\"]"
+    ))
+    .parse()
+    .unwrap();
+    assert!(n2 >= 1);
 }
