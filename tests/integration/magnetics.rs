@@ -831,3 +831,27 @@ fn every_flyback_output_reaches_the_transformer() {
     .unwrap();
     assert!(n2 >= 1);
 }
+
+#[test]
+fn spacer_fringing_belongs_to_each_outer_leg() {
+    // McLyman, Transformer and Inductor Design Handbook, 4th ed. 2011, ch. 8: the fringing
+    // factor F = 1 + (lg/√A)·ln(2G/lg) is for one pole face. With a spacer the two outer
+    // legs are two faces of Ao/2 each, in parallel. Hand calculation of the same formulas
+    // (not an independent reference): L = N²/(le/(µ0·µr·Ae) + lg/(µ0·Ac·Fc) + lg/(µ0·Ao·Fo))
+    let core = core_by_size("ETD29").unwrap();
+    let (n, g, mu_r) = (60.0, 0.2e-3, 2000.0);
+    let mu0 = 4e-7 * PI;
+    let h = core.window_height;
+    let ac = core.centre_leg_area.value;
+    let ao = core.outer_leg_area.value;
+    let fc = magnetics::fringing_factor(si(g), si(ac), h).unwrap();
+    let fo = magnetics::fringing_factor(si(g), si(ao / 2.0), h).unwrap();
+    let r = core.effective_length.value / (mu0 * mu_r * core.effective_area.value)
+        + g / (mu0 * ac * fc)
+        + g / (mu0 * ao * fo);
+    let l = inductance_for_air_gap(&core, n, si(g), GapPlacement::Spacer, mu_r).unwrap();
+    assert!((l.value / (n * n / r) - 1.0).abs() < 1e-6, "{}", l.value);
+    // a smaller face fringes relatively more: the per-leg factor exceeds the whole-area one
+    let fo_whole = magnetics::fringing_factor(si(g), si(ao), h).unwrap();
+    assert!(fo > fo_whole);
+}

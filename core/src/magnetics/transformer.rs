@@ -998,7 +998,7 @@ pub fn build_sheet(spec: &TransformerSpec, d: &TransformerDesign) -> String {
     );
     let _ = writeln!(
         s,
-        "- leakage inductance, secondary shorted: about {} (estimate)",
+        "- leakage inductance, every secondary shorted: about {} (estimate)",
         q(d.leakage_inductance)
     );
     let _ = writeln!(
