@@ -147,14 +147,25 @@ fn bobbin(window_height: f64, half_window_width: f64) -> (f64, f64) {
 impl Core {
     /// A pair of E-type halves from its dimensions.
     ///
-    /// Effective parameters by the IEC 60205 summation method: the mean flux path is split
-    /// into centre leg (length = window height, area = centre-leg area), yokes (length =
-    /// window width − centre-leg width, area = 2·yoke thickness·depth), outer legs (length
-    /// = window height, their total area) and two sets of corners (length π/4·(w + h) for a
-    /// leg half-width w and yoke thickness h, area = mean of the joined parts), then
-    /// C1 = Σ l/A, C2 = Σ l/A², le = C1²/C2, Ae = C1/C2, Ve = Ae·le. The corner model is
-    /// our simplified reading of the standard's corner terms; expect le within a few per
-    /// cent and Ae within about ten per cent of the makers' published values.
+    /// Effective parameters by the IEC 60205 summation method for E-type pairs. The mean
+    /// flux path has five segments: centre leg (l1 = window height, A1 = centre-leg area),
+    /// yokes (l2 = window width − centre-leg width, A2 = 2·h·depth for yoke thickness h),
+    /// outer legs (l3 = window height, A3 = their total area), the corners at the outer legs
+    /// (l4 = π/4·(s + h), A4 = (A2 + A3)/2) and at the centre leg (l5 = π/4·(p + h),
+    /// A5 = (A1 + A2)/2), where s is one outer leg's width (for given outer-leg areas: their
+    /// area over twice the depth) and p half the centre-leg width across the core (the radius
+    /// of a round leg). Each corner term
+    /// covers the top and bottom quarter-ellipse arcs through the middle of the joined parts.
+    /// Then C1 = Σ l/A, C2 = Σ l/A², le = C1²/C2, Ae = C1/C2, Ve = Ae·le, Amin = smallest
+    /// segment area.
+    ///
+    /// Valid for E, EF, EFD and ETD pairs; RM, PQ and EQ are treated as E-type pairs with
+    /// their outer-leg area given, which ignores the standard's separate terms for their
+    /// shaped legs (le within about 6 %, Ae up to about 12 % high there). Against makers'
+    /// handbook values with our built-in dimensions: ETD and EFD Ae within 2 %, le within
+    /// 3.5 %; plain E and EF
+    /// Ae up to about 10 % high, which the dimensions themselves cause (on E16/8/5 every
+    /// segment is at least 22 mm², so no corner model can give the handbook 20.1 mm²).
     /// Bobbin winding width and height use a common-practice wall allowance. Reference:
     /// IEC 60205 (calculation of the effective parameters of magnetic piece parts).
     pub fn paired(name: &str, family: CoreFamily, d: &PairedCoreDimensions) -> Result<Core> {
@@ -186,7 +197,10 @@ impl Core {
             None => (a - ww) * c,
         };
         let ay = 2.0 * h * c;
-        let wc = ac / (2.0 * c);
+        // p of the standard: half the centre leg's own width across the core (its radius
+        // for a round leg), not an area-equivalent width at full depth, which shortened the
+        // corner path of flat (EFD) and round legs
+        let wc = f / 2.0;
         let wo = ao / (2.0 * c);
         let segs = [
             Segment {
@@ -354,11 +368,19 @@ impl Record for Core {
     }
 }
 
-/// Built-in pair sizes in mm: name, family, overall width, overall pair height, depth,
-/// window height (pair), window width, centre-leg width or diameter, centre-leg depth (0 for
-/// round), round?, outer-leg area in mm² (0 = rectangular legs). IEC 62317 family sizes;
-/// dimensions are nominal values recalled from memory — check them against the drawing of
-/// the core you buy, or define the core yourself.
+/// Built-in pair sizes in mm: name, family, overall width, overall pair height (both
+/// halves), depth, window height (pair), window width, centre-leg width (across the core) or
+/// diameter, centre-leg depth (into the page; 0 for round), round?, outer-leg area in mm²
+/// (0 = rectangular legs). IEC 62317 family sizes; dimensions are nominal values recalled
+/// from memory — check them against the drawing of the core you buy, or define the core
+/// yourself.
+///
+/// Heights are for the mated pair: the EFD entries once carried single-half heights and the
+/// body length as depth, which halved their path length and inflated Ae. An EFD centre leg
+/// is flat: wide across the core (8.9 mm on EFD20) and thin into the page (3.6 mm). The
+/// ETD29 outer legs are given by their area (71 mm², the makers' Amin, value recalled from
+/// memory): the rectangle estimate (overall width − window width)·depth gives 84 mm², which
+/// made its Ae 9 % high.
 #[allow(clippy::type_complexity)]
 const PAIRED: &[(&str, CoreFamily, [f64; 8], bool, f64)] = &[
     (
@@ -406,21 +428,21 @@ const PAIRED: &[(&str, CoreFamily, [f64; 8], bool, f64)] = &[
     (
         "EFD20",
         CoreFamily::Efd,
-        [20.0, 10.0, 13.5, 7.7, 15.4, 8.9, 3.6, 0.0],
+        [20.0, 20.0, 6.65, 15.4, 15.4, 8.9, 3.6, 0.0],
         false,
         0.0,
     ),
     (
         "EFD25",
         CoreFamily::Efd,
-        [25.0, 12.5, 18.5, 9.3, 18.7, 11.4, 5.2, 0.0],
+        [25.0, 25.0, 9.1, 18.6, 18.7, 11.4, 5.2, 0.0],
         false,
         0.0,
     ),
     (
         "ETD29",
         CoreFamily::Etd,
-        [30.6, 31.6, 9.8, 22.0, 22.0, 9.8, 0.0, 0.0],
+        [30.6, 31.6, 9.8, 22.0, 22.0, 9.8, 0.0, 71.0],
         true,
         0.0,
     ),

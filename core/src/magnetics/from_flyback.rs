@@ -1,14 +1,14 @@
 //! The transformer's operating point taken from a flyback design, so that the transformer is
 //! designed for the currents, duty cycle and current limit the power stage computed.
 
-use super::transformer::{BiasWinding, TransformerSpec};
+use super::transformer::{AdditionalOutput, BiasWinding, TransformerSpec};
 use crate::error::{Error, Result};
 use crate::flyback::{ConductionMode, FlybackDesign, FlybackSpec, OperatingPoint};
 use crate::report::{Field, Record};
 use crate::units::{ElectricCurrent, ElectricPotential, Frequency, Inductance};
 
 /// The operating-point inputs of a [`TransformerSpec`], read from a flyback design.
-#[derive(Clone, Copy, Debug, PartialEq)]
+#[derive(Clone, Debug, PartialEq)]
 pub struct TransformerOperatingPoint {
     /// The corner the currents come from (the highest primary peak below the current limit).
     pub corner: &'static str,
@@ -35,6 +35,10 @@ pub struct TransformerOperatingPoint {
     pub output_voltage: ElectricPotential,
     /// Its rectifier's forward drop.
     pub rectifier_drop: ElectricPotential,
+    /// Full-load current of the regulated output.
+    pub output_current: ElectricCurrent,
+    /// Every other output of the specification, in its order.
+    pub additional_outputs: Vec<AdditionalOutput>,
     /// The bias winding, if the specification has one.
     pub bias: Option<BiasWinding>,
 }
@@ -44,8 +48,8 @@ pub struct TransformerOperatingPoint {
 /// Takes the corner with the highest primary peak current among the corners below the current
 /// limit (in practice low line, full load): it sets the copper loss, the flux swing and the
 /// core loss. The flux limit is checked separately at the current limit with its tolerance,
-/// which this carries. The regulated output and its rectifier drop come from the
-/// specification; `design` must have been made from `spec`.
+/// which this carries. The regulated output (voltage, rectifier drop, current) and every other
+/// output come from the specification; `design` must have been made from `spec`.
 /// Reference: the flyback's magnetising-current waveform, Erickson & Maksimović, 3rd ed.
 /// (2020), chapter 6 (flyback) and chapter 5 (DCM).
 pub fn transformer_operating_point(
@@ -93,6 +97,18 @@ pub fn transformer_operating_point(
         reflected_voltage: design.reflected_voltage,
         output_voltage: output.voltage,
         rectifier_drop: output.rectifier_drop,
+        output_current: output.current,
+        additional_outputs: spec
+            .outputs
+            .iter()
+            .enumerate()
+            .filter(|(k, _)| *k != spec.regulated_output)
+            .map(|(_, o)| AdditionalOutput {
+                voltage: o.voltage,
+                rectifier_drop: o.rectifier_drop,
+                current: o.current,
+            })
+            .collect(),
         bias: spec.bias,
     })
 }
@@ -112,13 +128,16 @@ impl TransformerOperatingPoint {
         spec.reflected_voltage = self.reflected_voltage;
         spec.output_voltage = self.output_voltage;
         spec.rectifier_drop = self.rectifier_drop;
+        spec.output_current = Some(self.output_current);
+        spec.additional_outputs = self.additional_outputs.clone();
         spec.bias = self.bias;
     }
 }
 
 impl Record for TransformerOperatingPoint {
     /// Field names match the keys of the script function `transformer_design`, so the record
-    /// converts into a spec map that only needs the core and construction added.
+    /// converts into a spec map that only needs the core and construction added (the script
+    /// function adds `additional_outputs` as an array of maps).
     fn fields(&self) -> Vec<Field> {
         let mut f = vec![
             Field::quantity("primary_inductance", self.primary_inductance),
@@ -135,6 +154,7 @@ impl Record for TransformerOperatingPoint {
             Field::quantity("reflected_voltage", self.reflected_voltage),
             Field::quantity("output_voltage", self.output_voltage),
             Field::quantity("rectifier_drop", self.rectifier_drop),
+            Field::quantity("output_current", self.output_current),
         ];
         if let Some(b) = self.bias {
             f.push(Field::quantity("bias_voltage", b.voltage));

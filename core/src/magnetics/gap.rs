@@ -80,8 +80,10 @@ fn gap_reluctance(core: &Core, g: f64, placement: GapPlacement) -> Result<f64> {
     let fc = fringing_factor(si(g), si(ac), si(h))?;
     let mut r = g / (MU0 * ac * fc);
     if placement == GapPlacement::Spacer {
+        // two outer legs, each its own pole face: the fringing factor belongs to one leg's
+        // face (area Ao/2), and the two gaps act in parallel
         let ao = core.outer_leg_area.value;
-        let fo = fringing_factor(si(g), si(ao), si(h))?;
+        let fo = fringing_factor(si(g), si(ao / 2.0), si(h))?;
         r += g / (MU0 * ao * fo);
     }
     Ok(r)
@@ -94,8 +96,9 @@ fn core_reluctance(core: &Core, relative_permeability: f64) -> Result<f64> {
 }
 
 /// Inductance of N turns on a gapped core: L = N²/(R_core + R_gap), with
-/// R_core = le/(µ0·µr·Ae) and R_gap = lg/(µ0·Ac·F) for the centre leg (plus
-/// lg/(µ0·Ao·F) for the outer legs with a spacer). F is McLyman's fringing factor
+/// R_core = le/(µ0·µr·Ae) and R_gap = lg/(µ0·Ac·Fc) for the centre leg (plus
+/// lg/(µ0·Ao·Fo) for the two outer legs with a spacer, Fo taken for one leg's face Ao/2,
+/// the gaps of the two legs in parallel). F is McLyman's fringing factor
 /// ([`fringing_factor`]). Assumes a linear core below saturation. Reference: McLyman,
 /// *Transformer and Inductor Design Handbook*, 4th ed. (2011), chapter 8.
 pub fn inductance_for_air_gap(

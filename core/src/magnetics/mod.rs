@@ -32,9 +32,9 @@ pub use gap::{
 pub use material::{ferrite_material, ferrite_materials, FerriteMaterial, SteinmetzBand};
 pub use thermal::{insulation_class_limit, temperature_rise, temperature_rise_thermal_resistance};
 pub use transformer::{
-    build_sheet, core_selection, transformer_checks, transformer_design, BiasWinding,
-    CoreCandidate, CoreSelectionSpec, TransformerDesign, TransformerSpec, WindingOrder,
-    WindingSection,
+    build_sheet, core_selection, transformer_checks, transformer_design, AdditionalOutput,
+    AdditionalOutputResult, BiasWinding, CoreCandidate, CoreSelectionSpec, TransformerDesign,
+    TransformerSpec, WindingOrder, WindingSection,
 };
 pub use winding::{
     choose_wire, dowell_resistance_factor, layer_fit, overall_diameter,

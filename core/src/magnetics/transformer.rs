@@ -50,6 +50,31 @@ impl WindingOrder {
 /// specification uses, so one value serves both.
 pub use crate::flyback::BiasWinding;
 
+/// A further output winding besides the regulated one. It conducts over the same interval
+/// as the regulated secondary (all secondaries are coupled to the same core flux).
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct AdditionalOutput {
+    /// Output voltage wanted.
+    pub voltage: ElectricPotential,
+    /// Its rectifier's forward drop.
+    pub rectifier_drop: ElectricPotential,
+    /// Full-load DC current.
+    pub current: ElectricCurrent,
+}
+
+/// The designed winding of one [`AdditionalOutput`].
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct AdditionalOutputResult {
+    /// Turns.
+    pub turns: u32,
+    /// Output voltage with the integer turns: (Nk/Ns)·(Vo + Vf) − Vf,k.
+    pub voltage: ElectricPotential,
+    /// (actual − wanted)/wanted of the output voltage.
+    pub voltage_error: f64,
+    /// Share of the secondary ampere-turns this winding carries, Nk·Ik/Σ Nj·Ij.
+    pub current_share: f64,
+}
+
 /// Everything the transformer design needs, explicit (fill from a flyback operating point).
 #[derive(Clone, Debug, PartialEq)]
 pub struct TransformerSpec {
@@ -82,6 +107,11 @@ pub struct TransformerSpec {
     pub output_voltage: ElectricPotential,
     /// Output rectifier forward drop.
     pub rectifier_drop: ElectricPotential,
+    /// Full-load DC current of the regulated output; needed with `additional_outputs` (the
+    /// secondaries share the ampere-turns in proportion to Nk·Ik).
+    pub output_current: Option<ElectricCurrent>,
+    /// Further output windings (none for a single-output supply).
+    pub additional_outputs: Vec<AdditionalOutput>,
     /// Optional bias winding.
     pub bias: Option<BiasWinding>,
     /// House limit: peak flux density at the worst-case current limit, hot.
@@ -181,6 +211,11 @@ pub struct TransformerDesign {
     pub secondary_turns: u32,
     /// Bias turns (0 without a bias winding).
     pub bias_turns: u32,
+    /// Share of the secondary ampere-turns the regulated secondary carries (1 without
+    /// additional outputs).
+    pub secondary_current_share: f64,
+    /// The windings of the additional outputs, in the order given.
+    pub additional_outputs: Vec<AdditionalOutputResult>,
     /// Turns ratio Np/Ns.
     pub turns_ratio: f64,
     /// Reflected voltage with the integer turns: (Np/Ns)·(Vo + Vf).
@@ -245,7 +280,11 @@ fn q<T: crate::units::TypedQuantity>(x: T) -> Quantity {
 /// Kazimierczuk 2014, chapter on leakage / Erickson & Maksimović 3rd ed., magnetics
 /// chapter); ΔT = 450·(P/At)^0.826 (McLyman 2011, chapter 6), or Rθ·P when a thermal
 /// resistance is given.
-/// Assumptions: the main secondary carries the whole reflected primary current
+/// Additional outputs: Nk = round(Ns·(Vk + Vf,k)/(Vo + Vf)); all secondaries conduct together
+/// with currents of one shape, each carrying the share sk = Nk·Ik/Σ Nj·Ij of the secondary
+/// ampere-turns, so ik(t) = sk·(Np/Nk)·ip(t) (ideal coupling; the cross-regulation set by
+/// leakage is not modelled). Leakage is referred to the primary with every secondary shorted.
+/// Assumptions: the secondaries carry the whole reflected primary current
 /// (conservative when a bias winding is present); the bias current is a triangle over the
 /// secondary conduction time; all windings have the same direction and the layer
 /// structure fills the bobbin width (Dowell's one-dimensional field).
@@ -343,6 +382,47 @@ pub fn transformer_design(spec: &TransformerSpec) -> Result<TransformerDesign> {
         None => (0, 0.0, 0.0),
     };
 
+    // additional outputs: turns, voltages and ampere-turn shares
+    let mut extras = Vec::with_capacity(spec.additional_outputs.len());
+    let mut weights = Vec::with_capacity(spec.additional_outputs.len());
+    if !spec.additional_outputs.is_empty() {
+        let io = match spec.output_current {
+            Some(i) => positive("output_current", i)?.value,
+            None => {
+                return Err(Error::invalid(
+                    "`output_current` (A) is needed with `additional_outputs`: the secondaries share the current in proportion to their output currents",
+                ))
+            }
+        };
+        weights.push(ns as f64 * io);
+        for (k, o) in spec.additional_outputs.iter().enumerate() {
+            let ctx = |e: Error| e.context(&format!("additional_outputs[{k}]"));
+            let v = positive("voltage", o.voltage).map_err(ctx)?.value;
+            let vfk = non_negative("rectifier_drop", o.rectifier_drop)
+                .map_err(ctx)?
+                .value;
+            let ik = positive("current", o.current).map_err(ctx)?.value;
+            let nk = (ns as f64 * (v + vfk) / (vo + vf)).round().max(1.0) as u32;
+            let actual = nk as f64 / ns as f64 * (vo + vf) - vfk;
+            weights.push(nk as f64 * ik);
+            extras.push(AdditionalOutputResult {
+                turns: nk,
+                voltage: si(actual),
+                voltage_error: (actual - v) / v,
+                current_share: 0.0,
+            });
+        }
+    }
+    let weight_sum: f64 = weights.iter().sum();
+    let main_share = if weights.is_empty() {
+        1.0
+    } else {
+        weights[0] / weight_sum
+    };
+    for (x, w) in extras.iter_mut().zip(weights.iter().skip(1)) {
+        x.current_share = w / weight_sum;
+    }
+
     // gap and flux
     let gap = air_gap_for_inductance(
         core,
@@ -372,12 +452,14 @@ pub fn transformer_design(spec: &TransformerSpec) -> Result<TransformerDesign> {
         initial: si(iv),
         final_value: si(ip),
     };
-    let secondary_current = WindingCurrent {
+    // a secondary of `turns` carrying `share` of the secondary ampere-turns
+    let secondary_current_of = |turns: u32, share: f64| WindingCurrent {
         start_fraction: duty,
         conduction_fraction: cs,
-        initial: si(n * ip),
-        final_value: si(n * iv),
+        initial: si(share * np as f64 / turns as f64 * ip),
+        final_value: si(share * np as f64 / turns as f64 * iv),
     };
+    let secondary_current = secondary_current_of(ns, main_share);
     let bias_current = spec.bias.map(|b| WindingCurrent {
         start_fraction: duty,
         conduction_fraction: cs,
@@ -409,27 +491,30 @@ pub fn transformer_design(spec: &TransformerSpec) -> Result<TransformerDesign> {
     } else {
         choose_wire(primary_current.rms()?, jmax, dmax, spec.wire_system, enamel)?
     };
-    let ws = if spec.secondary_litz {
-        choose_wire(
-            secondary_current.rms()?,
-            jmax,
-            litz_d,
-            spec.wire_system,
-            WireInsulation::Litz(0),
-        )?
-    } else {
-        choose_wire(
-            secondary_current.rms()?,
-            jmax,
-            dmax,
-            spec.wire_system,
-            if spec.secondary_triple_insulated {
-                WireInsulation::TripleInsulated
-            } else {
-                enamel
-            },
-        )?
+    let secondary_wire = |current: &WindingCurrent| -> Result<WireChoice> {
+        if spec.secondary_litz {
+            choose_wire(
+                current.rms()?,
+                jmax,
+                litz_d,
+                spec.wire_system,
+                WireInsulation::Litz(0),
+            )
+        } else {
+            choose_wire(
+                current.rms()?,
+                jmax,
+                dmax,
+                spec.wire_system,
+                if spec.secondary_triple_insulated {
+                    WireInsulation::TripleInsulated
+                } else {
+                    enamel
+                },
+            )
+        }
     };
+    let ws = secondary_wire(&secondary_current)?;
     let wb = match bias_current {
         Some(c) => Some(choose_wire(c.rms()?, jmax, dmax, spec.wire_system, enamel)?),
         None => None,
@@ -442,40 +527,53 @@ pub fn transformer_design(spec: &TransformerSpec) -> Result<TransformerDesign> {
 
     // sections: (name, start, finish, turns, wire, current, is_primary_side, is_main_secondary)
     struct Plan {
-        name: &'static str,
-        start: &'static str,
-        finish: &'static str,
+        name: String,
+        start: String,
+        finish: String,
         turns: u32,
         wire: WireChoice,
         current: WindingCurrent,
         primary_side: bool,
         mmf_per_primary_amp: f64,
     }
-    let primary_plan = |name, start, finish, turns: u32| Plan {
-        name,
-        start,
-        finish,
+    let primary_plan = |name: &str, start: &str, finish: &str, turns: u32| Plan {
+        name: name.to_string(),
+        start: start.to_string(),
+        finish: finish.to_string(),
         turns,
         wire: wp,
         current: primary_current,
         primary_side: true,
         mmf_per_primary_amp: turns as f64,
     };
-    let secondary_plan = Plan {
-        name: "secondary",
-        start: "secondary rectifier (anode) pin",
-        finish: "secondary return pin",
+    let mut secondary_plans = vec![Plan {
+        name: "secondary".to_string(),
+        start: "secondary rectifier (anode) pin".to_string(),
+        finish: "secondary return pin".to_string(),
         turns: ns,
         wire: ws,
         current: secondary_current,
         primary_side: false,
-        mmf_per_primary_amp: -(np as f64),
-    };
+        mmf_per_primary_amp: -(np as f64) * main_share,
+    }];
+    for (k, x) in extras.iter().enumerate() {
+        let current = secondary_current_of(x.turns, x.current_share);
+        secondary_plans.push(Plan {
+            name: format!("secondary {}", k + 2),
+            start: format!("output {} rectifier pin", k + 2),
+            finish: format!("output {} return pin", k + 2),
+            turns: x.turns,
+            wire: secondary_wire(&current)?,
+            current,
+            primary_side: false,
+            mmf_per_primary_amp: -(np as f64) * x.current_share,
+        });
+    }
     let bias_plan = match (wb, bias_current) {
         (Some(w), Some(c)) => Some(Plan {
-            name: "bias",
-            start: "bias rectifier pin",
-            finish: "bias return pin",
+            name: "bias".to_string(),
+            start: "bias rectifier pin".to_string(),
+            finish: "bias return pin".to_string(),
             turns: nb,
             wire: w,
             current: c,
@@ -493,7 +591,7 @@ pub fn transformer_design(spec: &TransformerSpec) -> Result<TransformerDesign> {
                 "bulk-capacitor (+) pin",
                 np,
             ));
-            plans.push(secondary_plan);
+            plans.append(&mut secondary_plans);
             if let Some(b) = bias_plan {
                 plans.push(b);
             }
@@ -507,7 +605,7 @@ pub fn transformer_design(spec: &TransformerSpec) -> Result<TransformerDesign> {
                 "primary tie pin (no connection)",
                 first,
             ));
-            plans.push(secondary_plan);
+            plans.append(&mut secondary_plans);
             if let Some(b) = bias_plan {
                 plans.push(b);
             }
@@ -581,9 +679,9 @@ pub fn transformer_design(spec: &TransformerSpec) -> Result<TransformerDesign> {
         x += t;
         let density = si(p.current.rms()?.value / p.wire.copper_area());
         sections.push(WindingSection {
-            name: p.name.to_string(),
-            start_pin: p.start.to_string(),
-            finish_pin: p.finish.to_string(),
+            name: p.name.clone(),
+            start_pin: p.start.clone(),
+            finish_pin: p.finish.clone(),
             turns: p.turns,
             wire: p.wire,
             fit,
@@ -626,6 +724,8 @@ pub fn transformer_design(spec: &TransformerSpec) -> Result<TransformerDesign> {
         primary_turns: np,
         secondary_turns: ns,
         bias_turns: nb,
+        secondary_current_share: main_share,
+        additional_outputs: extras,
         turns_ratio: n,
         reflected_voltage: si(vor),
         reflected_voltage_error: (vor - vor_target) / vor_target,
@@ -660,6 +760,7 @@ impl Record for TransformerDesign {
             Field::new("primary_turns", self.primary_turns as i64),
             Field::new("secondary_turns", self.secondary_turns as i64),
             Field::new("bias_turns", self.bias_turns as i64),
+            Field::new("secondary_current_share", self.secondary_current_share),
             Field::new("turns_ratio", self.turns_ratio),
             Field::quantity("reflected_voltage", self.reflected_voltage),
             Field::new("reflected_voltage_error", self.reflected_voltage_error),
@@ -688,6 +789,13 @@ impl Record for TransformerDesign {
             ),
             Field::quantity("skin_depth", self.skin_depth),
         ];
+        for (k, x) in self.additional_outputs.iter().enumerate() {
+            let key = format!("output_{}", k + 2);
+            v.push(Field::new(format!("{key}.turns"), x.turns as i64));
+            v.push(Field::quantity(format!("{key}.voltage"), x.voltage));
+            v.push(Field::new(format!("{key}.voltage_error"), x.voltage_error));
+            v.push(Field::new(format!("{key}.current_share"), x.current_share));
+        }
         for s in &self.sections {
             let key = s.name.replace([',', ' '], "_").replace("__", "_");
             v.push(Field::new(format!("{key}.wire"), s.wire.describe()));
@@ -890,7 +998,7 @@ pub fn build_sheet(spec: &TransformerSpec, d: &TransformerDesign) -> String {
     );
     let _ = writeln!(
         s,
-        "- leakage inductance, secondary shorted: about {} (estimate)",
+        "- leakage inductance, every secondary shorted: about {} (estimate)",
         q(d.leakage_inductance)
     );
     let _ = writeln!(

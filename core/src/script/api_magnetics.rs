@@ -110,7 +110,7 @@ static FROM_FLYBACK: FunctionDoc = FunctionDoc {
     summary: "The transformer's operating point from a flyback design (corner with the highest primary peak), as a map of transformer_design keys; add the core and construction, then design.",
     params: &[ParamDoc::required("design", ParamKind::Any, "a result of flyback_design")],
     keys: &[],
-    returns: "map: primary_inductance, switching_frequency, primary_peak_current, primary_valley_current, duty_cycle, secondary_conduction_fraction, current_limit, current_limit_tolerance, reflected_voltage, output_voltage, rectifier_drop (and bias_* keys with a bias winding)",
+    returns: "map: primary_inductance, switching_frequency, primary_peak_current, primary_valley_current, duty_cycle, secondary_conduction_fraction, current_limit, current_limit_tolerance, reflected_voltage, output_voltage, rectifier_drop, output_current (and additional_outputs with several outputs, bias_* keys with a bias winding)",
     example: "let t = transformer_inputs_from_flyback(flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A})); t.core = \"EF25\"; transformer_design(t).design.primary_turns",
 };
 
@@ -121,7 +121,7 @@ pub(crate) fn register(api: &mut Api, state: &Arc<HostState>) {
         &FROM_FLYBACK,
         |d: super::api_flyback::ScriptFlyback| -> ScriptResult<rhai::Map> {
             let op = lift(magnetics::transformer_operating_point(d.spec(), d.design()))?;
-            Ok(crate::report::Record::fields(&op)
+            let mut map: rhai::Map = crate::report::Record::fields(&op)
                 .iter()
                 .map(|f| {
                     (
@@ -129,7 +129,33 @@ pub(crate) fn register(api: &mut Api, state: &Arc<HostState>) {
                         super::convert::value_to_dynamic(&f.value),
                     )
                 })
-                .collect())
+                .collect();
+            if !op.additional_outputs.is_empty() {
+                let outputs: rhai::Array = op
+                    .additional_outputs
+                    .iter()
+                    .map(|o| {
+                        let mut m = rhai::Map::new();
+                        m.insert(
+                            "voltage".into(),
+                            super::convert::quantity_to_dynamic(Quantity::from_typed(o.voltage)),
+                        );
+                        m.insert(
+                            "rectifier_drop".into(),
+                            super::convert::quantity_to_dynamic(Quantity::from_typed(
+                                o.rectifier_drop,
+                            )),
+                        );
+                        m.insert(
+                            "current".into(),
+                            super::convert::quantity_to_dynamic(Quantity::from_typed(o.current)),
+                        );
+                        Dynamic::from_map(m)
+                    })
+                    .collect();
+                map.insert("additional_outputs".into(), Dynamic::from_array(outputs));
+            }
+            Ok(map)
         }
     );
     def!(api, &SKIN, |f: Dynamic,

@@ -251,6 +251,52 @@ static SELECT: FunctionDoc = FunctionDoc {
     returns: "Table: name, area_product, area_product_ratio, effective_volume, energy",
     example: "core_selection(#{primary_inductance: 1 * mH, peak_current: 0.5 * A, primary_rms_current: 0.2 * A, secondary_rms_current_referred: 0.25 * A})",
 };
+/// Keys of one map in `additional_outputs` (not a function; used to check the keys).
+static ADDITIONAL_OUTPUT_KEYS: FunctionDoc = FunctionDoc {
+    name: "transformer_design additional_outputs[]",
+    domain: Domain::Magnetics,
+    summary: "one further output winding",
+    params: &[],
+    keys: &[
+        ParamDoc::required("voltage", ParamKind::Quantity("V"), "output voltage"),
+        ParamDoc::required("current", ParamKind::Quantity("A"), "full-load current"),
+        ParamDoc::with_default(
+            "rectifier_drop",
+            ParamKind::Quantity("V"),
+            "0.5 V",
+            "rectifier forward drop",
+        ),
+    ],
+    returns: "",
+    example: "",
+};
+
+fn additional_outputs(s: &Spec) -> Result<Vec<magnetics::AdditionalOutput>> {
+    let Some(v) = s.value("additional_outputs")? else {
+        return Ok(Vec::new());
+    };
+    let arr = v
+        .try_cast::<rhai::Array>()
+        .ok_or_else(|| Error::invalid("`additional_outputs` must be an array of maps"))?;
+    let mut out = Vec::with_capacity(arr.len());
+    for (i, d) in arr.iter().enumerate() {
+        let om = d
+            .read_lock::<Map>()
+            .ok_or_else(|| Error::invalid(format!("`additional_outputs[{i}]` must be a map")))?;
+        let os = Spec::new(&ADDITIONAL_OUTPUT_KEYS, &om)
+            .map_err(|e| e.context(&format!("additional_outputs[{i}]")))?;
+        let read = || -> Result<magnetics::AdditionalOutput> {
+            Ok(magnetics::AdditionalOutput {
+                voltage: os.quantity("voltage")?,
+                rectifier_drop: os.quantity("rectifier_drop")?,
+                current: os.quantity("current")?,
+            })
+        };
+        out.push(read().map_err(|e| e.context(&format!("additional_outputs[{i}]")))?);
+    }
+    Ok(out)
+}
+
 static DESIGN: FunctionDoc = FunctionDoc {
     name: "transformer_design",
     domain: Domain::Magnetics,
@@ -271,6 +317,8 @@ static DESIGN: FunctionDoc = FunctionDoc {
         ParamDoc::required("reflected_voltage", ParamKind::Quantity("V"), "reflected voltage target"),
         ParamDoc::required("output_voltage", ParamKind::Quantity("V"), "regulated output voltage"),
         ParamDoc::with_default("rectifier_drop", ParamKind::Quantity("V"), "0.5 V", "output rectifier forward drop"),
+        ParamDoc::optional("output_current", ParamKind::Quantity("A"), "full-load current of the regulated output (needed with additional_outputs)"),
+        ParamDoc::optional("additional_outputs", ParamKind::List, "further output windings: array of maps with keys voltage, current, rectifier_drop (default 0.5 V)"),
         ParamDoc::optional("bias_voltage", ParamKind::Quantity("V"), "bias winding voltage (none when left out)"),
         ParamDoc::with_default("bias_rectifier_drop", ParamKind::Quantity("V"), "0.7 V", "bias rectifier drop"),
         ParamDoc::with_default("bias_current", ParamKind::Quantity("A"), "5 mA", "bias load current"),
@@ -547,6 +595,8 @@ fn transformer_spec(s: &Spec) -> Result<TransformerSpec> {
         reflected_voltage: s.quantity("reflected_voltage")?,
         output_voltage: s.quantity("output_voltage")?,
         rectifier_drop: s.quantity("rectifier_drop")?,
+        output_current: s.optional_quantity("output_current")?,
+        additional_outputs: additional_outputs(s)?,
         bias,
         max_flux_density: s.quantity("max_flux_density")?,
         saturation_margin: s.number("saturation_margin")?,
