@@ -155,7 +155,8 @@ fn fields_of(value: &Dynamic) -> Vec<String> {
     if value.read_lock::<gapwise_core::units::Quantity>().is_some() {
         return vec!["to(\"".to_string()];
     }
-    Vec::new()
+    // custom result types (e.g. a flyback design) list their own properties
+    gapwise_core::script::property_names(value)
 }
 
 /// The signature to show while typing a call: the function whose `(` is still open before
@@ -326,6 +327,15 @@ mod tests {
         assert!(c.contains(&"column(\"power\")".to_string()), "{c:?}");
         let (_, c) = candidates(&s, "nothing.", 8);
         assert!(c.is_empty());
+    }
+
+    #[test]
+    fn completes_fields_of_a_flyback_design() {
+        let s = session_with(
+            "let d = flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A});",
+        );
+        let (_, c) = candidates(&s, "d.primary_ind", 13);
+        assert_eq!(c, ["primary_inductance"]);
     }
 
     #[test]

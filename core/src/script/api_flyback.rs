@@ -236,6 +236,10 @@ impl ScriptFlyback {
     pub(crate) fn spec(&self) -> &crate::flyback::FlybackSpec {
         &self.spec
     }
+    /// The summary record (what `d.field` reads).
+    pub(crate) fn summary(&self) -> &ScriptRecord {
+        &self.summary
+    }
     /// The native design.
     pub(crate) fn design(&self) -> &FlybackDesign {
         &self.design

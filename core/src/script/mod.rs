@@ -67,6 +67,26 @@ impl Api<'_> {
     }
 }
 
+/// Names that read as properties of a script value (`value.name`): record fields, map keys,
+/// a flyback design's summary fields. The prompt completes with them.
+pub fn property_names(value: &rhai::Dynamic) -> Vec<String> {
+    if let Some(r) = value.read_lock::<ScriptRecord>() {
+        return r.names().into_iter().map(str::to_string).collect();
+    }
+    if let Some(m) = value.read_lock::<rhai::Map>() {
+        return m.keys().map(|k| k.to_string()).collect();
+    }
+    if let Some(d) = value.read_lock::<api_flyback::ScriptFlyback>() {
+        return d
+            .summary()
+            .names()
+            .into_iter()
+            .map(str::to_string)
+            .collect();
+    }
+    Vec::new()
+}
+
 /// Registers every domain on the engine.
 pub(crate) fn register_all(
     engine: &mut Engine,
