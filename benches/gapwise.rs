@@ -67,7 +67,8 @@ fn call_overhead(host: &ScriptHost) {
     let with_call = format!(
         "let l = 1 * uH; let c = 100 * uF; for i in 0..{N} {{ lc_resonant_frequency(l, c); }}"
     );
-    let empty = format!("let l = 1 * uH; let c = 100 * uF; for i in 0..{N} {{ l; }}");
+    let empty =
+        format!("let l = 1 * uH; let c = 100 * uF; let x = l; for i in 0..{N} {{ x = c; }}");
     let a = compile(host, &with_call);
     let b = compile(host, &empty);
     let t_call = time_per_iteration(
@@ -153,6 +154,31 @@ fn flyback(host: &ScriptHost) {
     );
 }
 
+fn transformer(host: &ScriptHost) {
+    println!("-- transformer design for one operating point, and core selection");
+    let design = r#"
+        let t = transformer_inputs_from_flyback(flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A}));
+        t.core = "EF25";
+        t
+    "#;
+    let inputs = host.eval(design, "<bench>").expect("inputs");
+    let mut scope = Scope::new();
+    scope.push("inputs", inputs);
+    let source = "transformer_design(inputs)";
+    let ast = compile(host, source);
+    time_per_iteration("script transformer_design, EF25, 12 V / 1.25 A", 1, || {
+        let mut s = scope.clone();
+        drop(black_box(
+            host.run(&ast, &mut s, source, "<bench>").expect("runs"),
+        ));
+    });
+    let select = "core_selection(#{primary_inductance: 2.2 * mH, peak_current: 0.75 * A, primary_rms_current: 0.3 * A, secondary_rms_current_referred: 0.35 * A, max_flux_density: 0.32 * T, max_current_density: 6 * A / mm2, window_utilisation: 0.2})";
+    let ast = compile(host, select);
+    time_per_iteration("script core_selection over the built-in cores", 1, || {
+        run(host, &ast, select)
+    });
+}
+
 fn main() {
     // `cargo test --benches` passes --bench-less flags; only time under `cargo bench`.
     if std::env::args().any(|a| a == "--list") {
@@ -166,4 +192,5 @@ fn main() {
     call_overhead(&host);
     family(&host);
     flyback(&host);
+    transformer(&host);
 }

@@ -43,7 +43,7 @@ impl Default for EngineLimits {
             max_function_expr_depth: 64,
             max_string_size: 1 << 20,
             max_array_size: 1_000_000,
-            max_map_size: 10_000,
+            max_map_size: 1_000_000,
             max_variables: 10_000,
             max_functions: 10_000,
             time_budget: Duration::from_secs(60),
