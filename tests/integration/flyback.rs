@@ -506,3 +506,245 @@ fn zener_clamp_and_dc_bus() {
     );
     assert_eq!(q, "[400 V, 400 V]");
 }
+
+/// A wide spec: every knob a user can turn, over ranges that include the silly but finite.
+fn wide_spec() -> impl Strategy<Value = FlybackSpec> {
+    (
+        (
+            1.0f64..400.0,  // min line
+            1.0f64..3.0,    // max/min line
+            0.5f64..100.0,  // output voltage
+            0.001f64..20.0, // output current
+            1.0f64..400.0,  // reflected voltage
+            1e3f64..2e6,    // frequency
+            0usize..4,      // mode (3: given inductance)
+            1e-7f64..0.1,   // given inductance
+        ),
+        (
+            0.0f64..2e-6,  // sense delay
+            0.0f64..1e-6,  // transition time
+            0.0f64..1e-9,  // switch capacitance
+            0.0f64..1e-3,  // leakage value
+            0.3f64..1.0,   // efficiency
+            any::<bool>(), // computed efficiency
+            1e-6f64..1e-2, // output capacitance
+            any::<bool>(), // zener
+        ),
+    )
+        .prop_map(
+            |((vmin, k, vo, io, vr, f, mode, l), (delay, tt, coss, lk, eta, comp, co, zener))| {
+                let mut o = OutputWinding::new(si(vo), si(io));
+                o.capacitance = si(co);
+                let mut s = FlybackSpec::universal(o);
+                s.input = InputRange::Ac {
+                    min_rms: si(vmin),
+                    max_rms: si(vmin * k),
+                    line_frequency: si(50.0),
+                };
+                s.reflected_voltage = si(vr);
+                s.switching_frequency = si(f);
+                match mode {
+                    0 => s.mode = Some(ModeTarget::Continuous { ripple_ratio: 0.5 }),
+                    1 => s.mode = Some(ModeTarget::Discontinuous { margin: 0.2 }),
+                    2 => s.mode = Some(ModeTarget::Boundary),
+                    _ => {
+                        s.mode = None;
+                        s.primary_inductance = Some(si(l));
+                    }
+                }
+                s.current_sense_delay = si(delay);
+                s.losses.transition_time = si(tt);
+                s.losses.switch_output_capacitance = si(coss);
+                s.leakage = Leakage::Value(si(lk));
+                s.efficiency = if comp {
+                    EfficiencyModel::Computed { start: eta }
+                } else {
+                    EfficiencyModel::Estimate(eta)
+                };
+                if zener {
+                    s.clamp = ClampKind::Zener;
+                }
+                s
+            },
+        )
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig { cases: 400, ..ProptestConfig::default() })]
+
+    #[test]
+    fn any_finite_spec_gives_a_sound_design_or_a_clear_error(spec in wide_spec()) {
+        match flyback_design(&spec) {
+            Err(e) => prop_assert!(!e.message().is_empty()),
+            Ok(d) => {
+                finite_fields(d.fields());
+                for c in &d.corners {
+                    finite_fields(c.fields());
+                    prop_assert!(c.duty_cycle > 0.0 && c.duty_cycle < 1.0, "{} duty {}", c.corner, c.duty_cycle);
+                    prop_assert!(c.duty_cycle + c.demagnetising_duty <= 1.0 + 1e-9);
+                    prop_assert!(c.primary_current_valley.value >= 0.0);
+                    prop_assert!(c.primary_current_valley <= c.primary_current_peak);
+                    prop_assert!(c.bulk_valley_voltage <= c.bulk_peak_voltage);
+                    prop_assert!(c.bulk_valley_voltage.value > 0.0);
+                    prop_assert!(c.efficiency > 0.0 && c.efficiency <= 1.0, "{} eff {}", c.corner, c.efficiency);
+                    for (name, p) in c.losses.items() {
+                        prop_assert!(p.value >= 0.0 || name == "unaccounted", "{} {name} = {}", c.corner, p.value);
+                    }
+                }
+            }
+        }
+    }
+}
+
+#[test]
+fn a_dcm_design_may_use_a_reflected_voltage_whose_boundary_duty_exceeds_the_limit() {
+    // Review fix (issue 3). The early duty check took D_b = V_r/(V + V_r) for every design, so a
+    // DCM design was refused whenever D_b at the rectified peak exceeded the duty limit. In DCM
+    // the duty is √(2·P·L·f)/V < D_b (Erickson & Maksimović, 3rd ed. (2020), Table 5.2,
+    // buck-boost M = D/√K, value recalled from memory). Before the fix this spec failed with
+    // "`max_duty_cycle` 0.7 cannot be met … needs a duty cycle of 0.750"; now the duty at low
+    // line is √(1 − 0.5)·D_b(V_valley) and stays within the limit.
+    let mut s = ideal_dc(100.0, 12.0, 1.0, 300.0, 1e-3, 65e3, 1e-3);
+    s.input = InputRange::Dc {
+        min: si(100.0),
+        max: si(200.0),
+    };
+    s.primary_inductance = None;
+    s.mode = Some(ModeTarget::Discontinuous { margin: 0.5 });
+    s.switch_voltage_rating = si(900.0);
+    let d = flyback_design(&s).unwrap();
+    let c = &d.corners[0];
+    assert_eq!(c.mode, ConductionMode::Discontinuous);
+    // D = √(1 − m)·V_r/(V + V_r) = √0.5 × 300/400 = 0.5303 (hand calculation of the
+    // definitions of the DCM target, not a reference test)
+    near(c.duty_cycle, 0.5f64.sqrt() * 0.75, 1e-6);
+    assert!(c.duty_cycle < s.max_duty_cycle);
+    // a CCM target with the same reflected voltage is still refused: D_b = 0.75 > 0.7
+    s.mode = Some(ModeTarget::Continuous { ripple_ratio: 0.5 });
+    let e = error_of(&s);
+    assert!(
+        e.message().contains("max_duty_cycle") && e.message().contains("0.750"),
+        "{e}"
+    );
+    // a given inductance far below the boundary is judged by its own DCM duty
+    s.mode = None;
+    s.primary_inductance = Some(si(200e-6));
+    assert!(flyback_design(&s).is_ok());
+    // CCM at 100 V (L_b = (100 V × 0.75)²/(2 × 12 W × 65 kHz) = 3.6 mH): D = D_b = 0.75
+    s.primary_inductance = Some(si(10e-3));
+    assert!(error_of(&s).message().contains("max_duty_cycle"));
+}
+
+#[test]
+fn switching_times_longer_than_the_period_are_refused() {
+    // the sense delay must fit in the longest on-time, D_max/f = 0.7/65 kHz = 10.77 µs
+    let mut s = fernbank_12v();
+    s.current_sense_delay = si(11e-6);
+    let e = error_of(&s);
+    assert_eq!(e.kind(), ErrorKind::InvalidSpec);
+    assert!(
+        e.message().contains("current_sense_delay") && e.message().contains(" s"),
+        "{e}"
+    );
+    // two transitions must fit in one period
+    let mut s = fernbank_12v();
+    s.losses.transition_time = si(8e-6);
+    let e = error_of(&s);
+    assert!(e.message().contains("transition_time"), "{e}");
+    let e = eval_err(
+        "flyback_design(#{output_voltage: 12 * V, output_current: 1 * A, current_sense_delay: 20 * us})",
+    )
+    .to_string();
+    assert!(e.contains("current_sense_delay"), "{e}");
+}
+
+#[test]
+fn erickson_dcm_worked_example() {
+    // A DCM worked example of our own numbers, checked against the buck-boost DCM relations of
+    // Erickson & Maksimović, 3rd ed. (2020), Table 5.2 (value recalled from memory):
+    // K = 2L/(R·T_s), M = D/√K, K_crit = (1 − D)², D₂ = √K (so D₂ = D/M).
+    // The flyback is the isolated buck-boost with R referred to the primary, R' = n²·R.
+    // 300 V DC bus, 12 V at 1 A, n = 8 (V_r = 96 V, ideal rectifier), L = 1 mH, 100 kHz.
+    let (vin, vo, io, n, l, f) = (300.0, 12.0, 1.0, 8.0, 1e-3, 100e3);
+    let d = flyback_design(&ideal_dc(vin, vo, io, n * vo, l, f, 1e-3)).unwrap();
+    let c = &d.corners[0];
+    let r_ref = n * n * vo / io; // 768 Ω
+    let k = 2.0 * l * f / r_ref; // 0.26042
+    let m = n * vo / vin; // 0.32
+    let duty = m * k.sqrt(); // 0.16330
+    assert!(k < (1.0 - duty).powi(2), "DCM by K < K_crit");
+    assert_eq!(c.mode, ConductionMode::Discontinuous);
+    near(c.duty_cycle, duty, 1e-9);
+    near(c.demagnetising_duty, k.sqrt(), 1e-9);
+    // peak from the on-time volt-seconds: I_pk = V_in·D·T_s/L = 0.48990 A
+    let ipk = vin * duty / (l * f);
+    near(c.primary_current_peak.value, ipk, 1e-9);
+    near(c.primary_current_valley.value, 0.0, 0.0);
+    // triangle: average D·I_pk/2 (= P/V_in = 40 mA), RMS I_pk·√(D/3)
+    near(c.primary_current_avg.value, vo * io / vin, 1e-9);
+    near(c.primary_current_rms.value, ipk * (duty / 3.0).sqrt(), 1e-9);
+    // secondary: peak n·I_pk = 3.9192 A, average I_o = n·I_pk·D₂/2, RMS n·I_pk·√(D₂/3)
+    let s = &c.secondaries[0];
+    near(s.current_peak.value, n * ipk, 1e-9);
+    near(n * ipk * k.sqrt() / 2.0, io, 1e-9);
+    near(s.current_rms.value, n * ipk * (k.sqrt() / 3.0).sqrt(), 1e-9);
+    // the rectifier blocks V_in/n + V_o = 49.5 V while the switch is on (Erickson &
+    // Maksimović, 3rd ed., flyback section 6.3, value recalled from memory)
+    near(s.rectifier_reverse_voltage.value, vin / n + vo, 1e-12);
+}
+
+/// Independent numerical integration (midpoint rule) of a piecewise-linear pulse: the current
+/// starts at `start`, changes at `slope` (A/s) for `width` seconds and is zero for the rest of
+/// `period`. Returns (average, RMS).
+fn integrate_pulse(start: f64, slope: f64, width: f64, period: f64) -> (f64, f64) {
+    let steps = 200_000;
+    let dt = width / steps as f64;
+    let (mut s1, mut s2) = (0.0, 0.0);
+    for k in 0..steps {
+        let i = start + slope * (k as f64 + 0.5) * dt;
+        s1 += i * dt;
+        s2 += i * i * dt;
+    }
+    (s1 / period, (s2 / period).sqrt())
+}
+
+#[test]
+fn currents_agree_with_a_numerical_integration_of_the_waveforms() {
+    // Cross-check of the trapezoid and triangle RMS/average formulas against a numerical
+    // integration built from the circuit alone (the primary current rises at V_in/L during the
+    // on-time; the secondary falls at n·V_r/L, i.e. (V_o + V_f)/L_s, during demagnetisation),
+    // not from the code's formulas. CCM (Hart 2011, Example 7-1 operating point) and DCM.
+    for (vin, vo, io, n, l, f) in [
+        (24.0, 5.0, 1.0, 3.0, 500e-6, 40e3),
+        (300.0, 12.0, 1.0, 8.0, 1e-3, 100e3),
+        (150.0, 24.0, 2.0, 5.0, 1.5e-3, 65e3),
+    ] {
+        let vr = n * vo;
+        let d = flyback_design(&ideal_dc(vin, vo, io, vr, l, f, 1e-3)).unwrap();
+        let c = &d.corners[0];
+        let t = 1.0 / f;
+        let ton = c.duty_cycle * t;
+        let (avg, rms) = integrate_pulse(c.primary_current_valley.value, vin / l, ton, t);
+        near(avg, c.primary_current_avg.value, 1e-6);
+        near(rms, c.primary_current_rms.value, 1e-6);
+        // the rise over the on-time ends at the peak (volt-second balance on L)
+        near(
+            c.primary_current_valley.value + vin / l * ton,
+            c.primary_current_peak.value,
+            1e-9,
+        );
+        // secondary: starts at n·I_pk, falls at n·V_r/L until the demagnetising time ends
+        let s = &c.secondaries[0];
+        let tdem = c.demagnetising_duty * t;
+        let (s_avg, s_rms) =
+            integrate_pulse(n * c.primary_current_peak.value, -n * vr / l, tdem, t);
+        near(s_avg, io, 1e-6);
+        near(s_rms, s.current_rms.value, 1e-6);
+        // capacitor ripple current: √(I_rms² − I_o²) of the same integrated waveform
+        near(
+            (s_rms * s_rms - io * io).sqrt(),
+            s.capacitor_ripple_current_rms.value,
+            1e-5,
+        );
+    }
+}

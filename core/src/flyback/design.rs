@@ -171,18 +171,37 @@ pub fn flyback_design(spec: &FlybackSpec) -> Result<FlybackDesign> {
             show(spec.bridge_diode_drop)
         )));
     }
-    let d_at_peak = boundary_duty(vpk_lo, vr);
+    // The lowest duty cycle the design can have at low line, full load: at the rectified peak
+    // (no bulk ripple) and the loads' power alone (no losses). CCM and boundary targets run at
+    // D_b = V_r/(V + V_r) there; a DCM target with margin m at √(1 − m)·D_b (L = (1 − m)·L_b
+    // and D = √(2·P·L·f)/V); a given inductance at min(√(2·P·L·f)/V, D_b). Only a CCM or
+    // boundary design is bound by D_b: a DCM design may use a reflected voltage whose D_b
+    // exceeds the duty limit.
+    let pout_loads = spec.outputs.iter().map(|o| o.power().value).sum::<f64>();
+    let db_at_peak = boundary_duty(vpk_lo, vr);
+    let d_at_peak = match (spec.primary_inductance, spec.mode) {
+        (Some(l), _) => ((2.0 * pout_loads * l.value * f).sqrt() / vpk_lo).min(db_at_peak),
+        (None, Some(ModeTarget::Discontinuous { margin })) => (1.0 - margin).sqrt() * db_at_peak,
+        _ => db_at_peak,
+    };
     if d_at_peak > spec.max_duty_cycle {
-        let vr_max = vpk_lo * spec.max_duty_cycle / (1.0 - spec.max_duty_cycle);
+        let advice = if d_at_peak < db_at_peak {
+            "lower the primary inductance or the reflected voltage, or raise the duty limit"
+                .to_string()
+        } else {
+            let vr_max = vpk_lo * spec.max_duty_cycle / (1.0 - spec.max_duty_cycle);
+            format!(
+                "lower the reflected voltage to at most {} or raise the duty limit",
+                Quantity::new(vr_max, Dimension::VOLTAGE)
+            )
+        };
         return Err(Error::infeasible(format!(
             "`max_duty_cycle` {} cannot be met: `reflected_voltage` {} at the lowest rectified \
-             input {} needs a duty cycle of {:.3} even without bulk ripple; lower the reflected \
-             voltage to at most {} or raise the duty limit",
+             input {} needs a duty cycle of {:.3} even without bulk ripple; {advice}",
             spec.max_duty_cycle,
             show(spec.reflected_voltage),
             Quantity::new(vpk_lo, Dimension::VOLTAGE),
             d_at_peak,
-            Quantity::new(vr_max, Dimension::VOLTAGE)
         )));
     }
     let reg = &spec.outputs[spec.regulated_output];
