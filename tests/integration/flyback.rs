@@ -748,3 +748,16 @@ fn currents_agree_with_a_numerical_integration_of_the_waveforms() {
         );
     }
 }
+
+#[test]
+fn a_hold_up_end_above_the_valley_gives_zero_hold_up_and_a_failed_rule() {
+    // the bulk valley at low line, full load is about 80 V; ending the hold-up at 150 V means
+    // the supply has no hold-up at all (definition of hold-up time)
+    let mut s = fernbank_12v();
+    s.hold_up_end_voltage = Some(si(150.0));
+    s.hold_up_time = Some(si(10e-3));
+    let d = flyback_design(&s).unwrap();
+    assert_eq!(d.hold_up_time.unwrap().value, 0.0);
+    let c = d.checks.iter().find(|c| c.id == "hold_up_time").unwrap();
+    assert_eq!(c.status, gapwise::rules::Status::Fail);
+}

@@ -198,3 +198,12 @@ fn ripple_current_agrees_with_a_time_step_simulation() {
         );
     }
 }
+
+#[test]
+fn hold_up_from_below_the_end_voltage_is_an_error() {
+    // a start at or below the end voltage used to give 0 s silently
+    let e = eval_err("hold_up_time(47 * uF, 70 * V, 100 * V, 20 * W)").to_string();
+    assert!(e.contains("end_voltage") && e.contains(" V"), "{e}");
+    let e = hold_up_time(si(47e-6), si(70.0), si(70.0), si(20.0)).unwrap_err();
+    assert!(e.message().contains("start_voltage"), "{e}");
+}

@@ -436,12 +436,18 @@ pub fn flyback_design(spec: &FlybackSpec) -> Result<FlybackDesign> {
         .map(|v| v.value)
         .unwrap_or(bulk_valley_needed);
     let hold = if is_ac {
-        Some(hold_up_time(
-            si(c_bulk),
-            design_op.bulk_valley_voltage,
-            si(hold_up_end),
-            si(p_dc),
-        )?)
+        // a valley already at or below the end voltage holds up for no time at all; the
+        // `bulk_valley_minimum` and `hold_up_time` rules report it
+        if design_op.bulk_valley_voltage.value <= hold_up_end {
+            Some(si(0.0))
+        } else {
+            Some(hold_up_time(
+                si(c_bulk),
+                design_op.bulk_valley_voltage,
+                si(hold_up_end),
+                si(p_dc),
+            )?)
+        }
     } else {
         None
     };
