@@ -123,20 +123,24 @@ fn fernbank_12v_design_is_sound() {
     assert!((0.75..0.9).contains(&d.efficiency), "{}", d.efficiency);
     assert!(d.efficiency_residual < 1e-9);
     // the current-limit corners sit at the highest limit plus the sense-delay overshoot
+    // V·t_d/L (definition of the model: the current keeps rising at V/L; not a reference test)
     let lim = d.current_limit.value * 1.1;
     for c in &d.corners[4..] {
         let overshoot = c.bulk_valley_voltage.value * 100e-9 / d.primary_inductance.value;
         near(c.primary_current_peak.value, lim + overshoot, 1e-6);
     }
-    // overload power rises with line at a fixed current limit (peak-current-mode behaviour)
+    // overload power rises with line at a fixed current limit (peak-current-mode behaviour;
+    // common practice, no published source)
     assert!(d.overload[2].output_power > d.overload[0].output_power);
     assert!(d.overload[3].output_power > d.overload[1].output_power);
-    // the RCD clamp resistor dissipates at least V_r²/R even without leakage energy
+    // the RCD clamp resistor dissipates at least V_r²/R even without leakage energy (the clamp
+    // capacitor cannot sit below V_r; common practice, no published source)
     let r = d.clamp.resistor.unwrap().value;
     for c in &d.corners {
         assert!(c.losses.clamp.value >= 100.0 * 100.0 / r * (1.0 - 1e-12));
     }
     let bias = d.bias.unwrap();
+    // the rectifier drop model lowers the bias at light load (an estimate of the model itself)
     assert!(bias.voltage_light_load < bias.voltage_full_load);
     assert!(d
         .checks
@@ -394,6 +398,8 @@ fn two_outputs_share_the_secondary_current() {
                #{voltage: 5 * V, current: 0.5 * A}]}); \
                let c = flyback_corner(d, \"low_line_full_load\"); \
                [d.output_power, c[\"output_2.current_avg\"], d.turns_ratio_2 > d.turns_ratio_1]";
+    // definition: 12 V × 1 A + 5 V × 0.5 A = 14.5 W; the 5 V winding has fewer turns, so a
+    // larger N_p/N_s (not a reference test)
     assert_eq!(eval(src), "[14.5 W, 500 mA, true]");
 }
 

@@ -84,6 +84,8 @@ fn hold_up_time_from_capacitor_energy() {
 
 #[test]
 fn sizing_inverts_the_valley() {
+    // the sizing is the energy balance solved for C: round trip through the same formula, not a
+    // reference test
     let c = eval_quantity(
         "bulk_capacitance_for_valley(#{line_voltage: 90 * V, input_power: 20 * W, valley_voltage: 80 * V})",
     );

@@ -35,9 +35,11 @@ pub struct OverloadPoint {
     pub limit_case: &'static str,
     /// The current limit at that end of its tolerance.
     pub current_limit: ElectricCurrent,
-    /// Peak current reached, including the overshoot during the sense delay.
+    /// Peak current reached, including the overshoot during the sense delay:
+    /// I_lim + V_valley·t_d/L.
     pub primary_current_peak: ElectricCurrent,
-    /// Output power delivered before the limit trips.
+    /// Output power delivered before the limit trips: the load at which the corner's peak
+    /// current equals the limit plus overshoot, found by bisection, times full-load power.
     pub output_power: Power,
     /// That power over the full-load output power.
     pub load_fraction: f64,
@@ -54,7 +56,10 @@ pub struct BiasEstimate {
     pub turns_per_regulated_turn: f64,
     /// Estimated bias voltage at full load.
     pub voltage_full_load: ElectricPotential,
-    /// Estimated bias voltage at light load.
+    /// Estimated bias voltage at light load: (V_o + V_f,light)·N_b/N_s − V_f,bias, with the
+    /// regulated rectifier's drop lowered by [`RECTIFIER_DROP_PER_EFOLD`] per e-fold of load
+    /// (an estimate: leakage-spike peak charging, which raises the bias at heavy load, is not
+    /// modelled; common practice, no published source).
     pub voltage_light_load: ElectricPotential,
 }
 
@@ -659,11 +664,12 @@ fn evaluate_rules(
 }
 
 impl FlybackDesign {
-    /// The corner with a name.
+    /// The corner with a name (`low_line_full_load`, …, `current_limit_high_line`); None for an
+    /// unknown name.
     pub fn corner(&self, name: &str) -> Option<&OperatingPoint> {
         self.corners.iter().find(|c| c.corner == name)
     }
-    /// One row per corner.
+    /// One row per corner, the fields of [`OperatingPoint`] with units.
     pub fn corner_table(&self) -> Table {
         let mut t = Table::new();
         for c in &self.corners {
@@ -671,7 +677,8 @@ impl FlybackDesign {
         }
         t
     }
-    /// Output power at the current limit, one row per line and tolerance end.
+    /// Output power at the current limit, one row per line and tolerance end (see
+    /// [`OverloadPoint`]).
     pub fn overload_table(&self) -> Table {
         let mut t = Table::new();
         for o in &self.overload {
@@ -688,17 +695,19 @@ impl FlybackDesign {
         t
     }
     /// The highest primary peak current of any corner: at the highest current limit with the
-    /// sense-delay overshoot at high line. The transformer's peak flux is checked at this current.
+    /// sense-delay overshoot at high line, I_lim·(1 + tol) + V_bulk·t_d/L (the primary current
+    /// keeps rising at V/L during the delay t_d). The transformer's peak flux is checked at this
+    /// current.
     pub fn primary_current_peak_at_limit(&self) -> ElectricCurrent {
         si(fold_max(
             self.corners.iter().map(|c| c.primary_current_peak.value),
         ))
     }
-    /// The worst rule status.
+    /// The worst rule status of [`FlybackDesign::checks`] (fail over warn over pass).
     pub fn worst_status(&self) -> Status {
         worst_status(&self.checks)
     }
-    /// Number of failed checks.
+    /// Number of failed checks (strict runs count these).
     pub fn failed_checks(&self) -> usize {
         self.checks
             .iter()

@@ -76,7 +76,7 @@ impl OutputWinding {
             post_filter_capacitance: None,
         }
     }
-    /// Power delivered to the load at full load.
+    /// Power delivered to the load at full load, V_o·I_o (definition).
     pub fn power(&self) -> Power {
         self.voltage * self.current
     }
@@ -272,7 +272,8 @@ impl FlybackSpec {
         }
     }
 
-    /// Total output power at full load (outputs and bias).
+    /// Total output power at full load, Σ V_o·I_o over the outputs plus V_bias·I_bias
+    /// (definition; the bias rectifier's drop is not included).
     pub fn output_power(&self) -> Power {
         let mut p: f64 = self.outputs.iter().map(|o| o.power().value).sum();
         if let Some(b) = &self.bias {
@@ -281,7 +282,9 @@ impl FlybackSpec {
         si(p)
     }
 
-    /// Checks every field: finite, positive where needed, ranges consistent.
+    /// Checks every field: finite, positive where needed, ranges consistent (min line at most
+    /// max line, the current-sense delay shorter than the longest on-time D_max/f, the
+    /// transition time shorter than half the period). Each error names the field and its unit.
     pub fn validate(&self) -> Result<()> {
         match self.input {
             InputRange::Ac {
