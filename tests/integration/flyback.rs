@@ -767,3 +767,54 @@ fn a_hold_up_end_above_the_valley_gives_zero_hold_up_and_a_failed_rule() {
     let c = d.checks.iter().find(|c| c.id == "hold_up_time").unwrap();
     assert_eq!(c.status, gapwise::rules::Status::Fail);
 }
+
+#[test]
+fn overload_power_stops_at_the_duty_limit_when_it_comes_first() {
+    // Review fix (issue 3). At low line the bulk valley falls as the load rises, so a CCM
+    // design's duty V_r/(V_valley + V_r) rises too (Hart 2011, section 7.2 volt-second
+    // balance). When it reaches the controller's maximum before the peak current reaches the
+    // limit, the output leaves regulation there. Before the fix this spec reported 20.88 W at
+    // low line and the highest limit (load 1.392 at a duty of 0.626 > 0.6); now it ends at the
+    // duty limit, 17.02 W.
+    let mut o = OutputWinding::new(si(12.0), si(1.25));
+    o.rectifier_drop = si(0.5);
+    let mut s = FlybackSpec::universal(o);
+    s.reflected_voltage = si(130.0);
+    s.max_duty_cycle = 0.6;
+    s.bulk = BulkChoice::TargetValley(si(90.0));
+    let d = flyback_design(&s).unwrap();
+    let cl = d.corner("current_limit_low_line").unwrap();
+    assert!(cl.duty_cycle > 0.6, "the case needs the duty limit to bind");
+    // low line, highest limit: the duty limit comes first
+    let o = &d.overload[1];
+    assert_eq!((o.limit_case, o.limited_by), ("maximum", "max_duty_cycle"));
+    assert!(o.output_power < cl.output_power);
+    assert!(
+        o.load_fraction >= 1.0,
+        "full load still fits: {}",
+        o.load_fraction
+    );
+    // the duty there is the limit (the bisection's target, not a reference value)
+    assert_eq!(o.mode, ConductionMode::Continuous);
+    assert!(
+        o.duty_cycle <= 0.6 && o.duty_cycle > 0.6 - 1e-6,
+        "{}",
+        o.duty_cycle
+    );
+    // every overload point keeps within the duty limit
+    assert!(d.overload.iter().all(|o| o.duty_cycle <= 0.6));
+    // low line, lowest limit: the current limit still comes first
+    assert_eq!(d.overload[0].limited_by, "current_limit");
+    assert!(d.overload[0].output_power <= o.output_power);
+    // high line: far from the duty limit
+    assert!(d.overload[2..]
+        .iter()
+        .all(|o| o.limited_by == "current_limit"));
+    // with the default duty limit 0.7 nothing changes: the current limit comes first
+    let d = flyback_design(&fernbank_12v()).unwrap();
+    assert!(d.overload.iter().all(|o| o.limited_by == "current_limit"));
+    assert_eq!(
+        eval("overload_table(flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A, reflected_voltage: 130 * V, max_duty_cycle: 0.6, target_valley_voltage: 90 * V})).column(\"limited_by\")"),
+        "[\"current_limit\", \"max_duty_cycle\", \"current_limit\", \"current_limit\"]"
+    );
+}

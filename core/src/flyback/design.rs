@@ -26,7 +26,13 @@ pub const CURRENT_LIMIT_HEADROOM: f64 = 0.1;
 /// (common practice, no published source).
 pub const RECTIFIER_DROP_PER_EFOLD: f64 = 0.05;
 
-/// Output power when the primary current reaches the current limit.
+/// Output power when the primary current reaches the current limit, or the duty cycle the
+/// controller's maximum, whichever comes at the lower load.
+///
+/// Formula: the load k at which I_pk(k) = I_lim + V_valley·t_d/L (the sense-delay overshoot at
+/// the primary slope V/L), or D(k) = D_max if that is lower, by bisection on k; power k·P_out.
+/// Assumes a fixed-frequency peak-current-mode controller and outputs that stay in regulation
+/// up to that load. Reference: common practice, no published source.
 #[derive(Clone, Debug, PartialEq)]
 pub struct OverloadPoint {
     /// Line voltage (RMS, or DC bus).
@@ -45,6 +51,12 @@ pub struct OverloadPoint {
     pub load_fraction: f64,
     /// Conduction mode at the limit.
     pub mode: ConductionMode,
+    /// Duty cycle there (at most `max_duty_cycle`).
+    pub duty_cycle: f64,
+    /// What ends the power: `current_limit`, or `max_duty_cycle` where the controller's duty
+    /// limit is reached at a lower load than the current limit (the output then falls out of
+    /// regulation before the current limit trips).
+    pub limited_by: &'static str,
 }
 
 /// Estimate of the bias (controller supply) winding.
@@ -98,7 +110,8 @@ pub struct FlybackDesign {
     pub clamp: ClampDesign,
     /// Post filter per output (None where there is none).
     pub post_filters: Vec<Option<PostFilter>>,
-    /// Output power at the current limit across line and tolerance.
+    /// Output power at the current limit across line and tolerance (or at the duty limit,
+    /// where that comes first; see [`OverloadPoint::limited_by`]).
     pub overload: Vec<OverloadPoint>,
     /// Bias winding estimate.
     pub bias: Option<BiasEstimate>,
@@ -143,7 +156,9 @@ fn choose_inductance(mode: ModeTarget, vin: f64, p: f64, vr: f64, f: f64) -> f64
 /// high line. (4) Each corner (low/high line × full/light load) is evaluated at its bulk
 /// valley; the current-limit corners find the load at which the peak current reaches the
 /// highest limit. (5) Overload power is found at both ends of the limit's tolerance at low
-/// and high line. (6) Rules from [`flyback_rule_book`] are checked.
+/// and high line, or at the load where the duty reaches `max_duty_cycle` if that comes first
+/// (the current-limit corners stay at the current limit, the peak a start-up or a short
+/// reaches, and may show a duty above the limit). (6) Rules from [`flyback_rule_book`] are checked.
 /// Assumptions: fixed frequency, ideal coupling between secondaries (each rectifier's
 /// current is the pulse shape scaled to its load current), constant-power load on the bulk
 /// capacitor, operating point at the bulk valley, drain peak at the bulk peak, light load
@@ -416,14 +431,25 @@ pub fn flyback_design(spec: &FlybackSpec) -> Result<FlybackDesign> {
         for (limit, case) in [(ilim_min, "minimum"), (ilim_max, "maximum")] {
             let name = format!("current_limit_{line_name}");
             let op = at_current_limit(&ctx, &name, line, limit, delay)?;
+            // the controller's duty limit may come first: the power then ends there
+            let (at, limited_by) = if op.duty_cycle > spec.max_duty_cycle {
+                (
+                    at_duty_limit(&ctx, &name, line, op.load_fraction)?,
+                    "max_duty_cycle",
+                )
+            } else {
+                (op.clone(), "current_limit")
+            };
             overload.push(OverloadPoint {
                 line_voltage: si(line),
                 limit_case: case,
                 current_limit: si(limit),
-                primary_current_peak: op.primary_current_peak,
-                output_power: op.output_power,
-                load_fraction: op.load_fraction,
-                mode: op.mode,
+                primary_current_peak: at.primary_current_peak,
+                output_power: at.output_power,
+                load_fraction: at.load_fraction,
+                mode: at.mode,
+                duty_cycle: at.duty_cycle,
+                limited_by,
             });
             if case == "maximum" {
                 corners.push(op);
@@ -598,6 +624,38 @@ fn at_current_limit(
     Ok(best)
 }
 
+/// The operating point at which the duty cycle reaches the controller's maximum, found by
+/// bisection on the load between light load and `above` (a load whose duty exceeds it). The
+/// duty rises with load: the bulk valley falls (CCM D = V_r/(V + V_r)) and, in DCM,
+/// D = √(2·P·L·f)/V grows with P.
+fn at_duty_limit(ctx: &Context, name: &str, line: f64, above: f64) -> Result<OperatingPoint> {
+    let dmax = ctx.spec.max_duty_cycle;
+    let mut lo = ctx.spec.light_load_fraction;
+    let mut best = ctx.evaluate(name, line, lo)?;
+    if best.duty_cycle >= dmax {
+        return Err(Error::infeasible(format!(
+            "corner {name}: the duty cycle reaches `max_duty_cycle` {dmax} below light load"
+        )));
+    }
+    let mut hi = above;
+    for _ in 0..200 {
+        let mid = 0.5 * (lo + hi);
+        match ctx.evaluate(name, line, mid) {
+            Ok(op) if op.duty_cycle < dmax => {
+                lo = mid;
+                best = op;
+            }
+            Ok(_) => hi = mid,
+            Err(e) if e.kind() == ErrorKind::Infeasible => hi = mid,
+            Err(e) => return Err(e),
+        }
+        if hi - lo < 1e-10 * hi {
+            break;
+        }
+    }
+    Ok(best)
+}
+
 fn fold_max(xs: impl Iterator<Item = f64>) -> f64 {
     xs.fold(f64::NEG_INFINITY, f64::max)
 }
@@ -690,6 +748,8 @@ impl FlybackDesign {
                 Field::quantity("output_power", o.output_power),
                 Field::new("load_fraction", o.load_fraction),
                 Field::new("mode", o.mode.as_str()),
+                Field::new("duty_cycle", o.duty_cycle),
+                Field::new("limited_by", o.limited_by),
             ]);
         }
         t
