@@ -818,3 +818,41 @@ fn overload_power_stops_at_the_duty_limit_when_it_comes_first() {
         "[\"current_limit\", \"max_duty_cycle\", \"current_limit\", \"current_limit\"]"
     );
 }
+
+proptest! {
+    #![proptest_config(ProptestConfig { cases: 32, ..ProptestConfig::default() })]
+
+    #[test]
+    fn switching_times_beyond_the_period_are_refused_by_name(
+        f in 20e3f64..500e3, dmax in 0.3f64..0.9, over in 1.0f64..10.0, which in any::<bool>()
+    ) {
+        // a sense delay of at least D_max/f, or a transition of at least half a period, cannot
+        // happen in a converter switching at f: a clear error naming the field, never a design
+        let mut s = fernbank_12v();
+        s.switching_frequency = si(f);
+        s.max_duty_cycle = dmax;
+        let name = if which {
+            s.current_sense_delay = si(over * dmax / f);
+            "current_sense_delay"
+        } else {
+            s.losses.transition_time = si(over * 0.5 / f);
+            "transition_time"
+        };
+        let e = error_of(&s);
+        prop_assert_eq!(e.kind(), ErrorKind::InvalidSpec);
+        prop_assert!(e.message().contains(name), "{}", e);
+    }
+
+    #[test]
+    fn overload_never_runs_above_the_duty_limit(dmax in 0.5f64..0.8, vr in 80.0f64..140.0) {
+        let mut s = fernbank_12v();
+        s.max_duty_cycle = dmax;
+        s.reflected_voltage = si(vr);
+        if let Ok(d) = flyback_design(&s) {
+            for o in &d.overload {
+                prop_assert!(o.duty_cycle <= dmax, "{} {}", o.limited_by, o.duty_cycle);
+                prop_assert!(o.output_power.value > 0.0 && o.output_power.value.is_finite());
+            }
+        }
+    }
+}

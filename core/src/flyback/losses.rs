@@ -30,7 +30,8 @@ pub struct LossBudget {
     /// Controller supply (bias winding power with its rectifier, or the given controller power).
     pub controller: Power,
     /// Difference between the line power of a fixed efficiency estimate and the modelled
-    /// losses (zero when efficiency is computed from the model).
+    /// losses, P_out/η − P_out − ΣP_loss (zero when efficiency is computed from the model;
+    /// negative when the estimate is more optimistic than the loss model).
     pub unaccounted: Power,
 }
 
