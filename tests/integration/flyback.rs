@@ -856,3 +856,24 @@ proptest! {
         }
     }
 }
+
+#[test]
+fn a_post_filter_that_does_not_attenuate_is_refused() {
+    // undamped LC: |H(f)| = 1/|1 − (f/f₀)²| ≥ 1 for f ≤ √2·f₀ (second-order low-pass,
+    // Erickson & Maksimović, 3rd ed. (2020), ch. 8). 1 µH with 1 µF resonates at 159 kHz,
+    // above 65 kHz: it used to report a "filtered" ripple 1.20 times the unfiltered one
+    // (1/(1 − (65/159.15)²), hand calculation of the same formula).
+    let e = eval_err(
+        "flyback_design(#{output_voltage: 12 * V, output_current: 1 * A, post_filter_inductance: 1 * uH, post_filter_capacitance: 1 * uF})",
+    )
+    .to_string();
+    assert!(
+        e.contains("post_filter_inductance") && e.contains("Hz"),
+        "{e}"
+    );
+    // the demo recipe's 2.2 µH with 100 µF (10.7 kHz) attenuates and is accepted
+    assert!(eval(
+        "flyback_design(#{output_voltage: 12 * V, output_current: 1 * A, post_filter_inductance: 2.2 * uH, post_filter_capacitance: 100 * uF}).output_power"
+    )
+    .ends_with('W'));
+}

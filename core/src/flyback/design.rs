@@ -237,7 +237,24 @@ pub fn flyback_design(spec: &FlybackSpec) -> Result<FlybackDesign> {
         .map(
             |(k, o)| match (o.post_filter_inductance, o.post_filter_capacitance) {
                 (Some(l), Some(c)) => post_filter(l, c, spec.switching_frequency)
-                    .map(Some)
+                    .and_then(|p| {
+                        // |1 − (f/f₀)²| ≤ 1 for f ≤ √2·f₀: such a filter passes or amplifies
+                        // the switching ripple, which no post filter is meant to do
+                        if p.gain >= 1.0 {
+                            Err(Error::invalid(format!(
+                                "the post filter (`post_filter_inductance` {}, \
+                                 `post_filter_capacitance` {}) has its corner at {}, too high to \
+                                 attenuate at the switching frequency {}; its corner must be below \
+                                 f/√2",
+                                show(l),
+                                show(c),
+                                show(p.corner_frequency),
+                                show(spec.switching_frequency)
+                            )))
+                        } else {
+                            Ok(Some(p))
+                        }
+                    })
                     .map_err(|e| e.context(&format!("outputs[{k}]"))),
                 _ => Ok(None),
             },
