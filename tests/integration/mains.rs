@@ -84,6 +84,8 @@ fn hold_up_time_from_capacitor_energy() {
 
 #[test]
 fn sizing_inverts_the_valley() {
+    // the sizing is the energy balance solved for C: round trip through the same formula, not a
+    // reference test
     let c = eval_quantity(
         "bulk_capacitance_for_valley(#{line_voltage: 90 * V, input_power: 20 * W, valley_voltage: 80 * V})",
     );
@@ -139,4 +141,71 @@ proptest! {
             prop_assert!(a.conduction_time.value > 0.0 && a.conduction_time.value < 0.01);
         }
     }
+}
+
+/// Independent cross-check of the ripple current: the same time-step simulation as
+/// `simulated_valley`, returning the RMS of the capacitor current (bridge current minus the
+/// constant-power load current) over whole line cycles after settling.
+fn simulated_ripple_current(vrms: f64, fl: f64, p: f64, c: f64, vf: f64) -> f64 {
+    let dt = 2e-8;
+    let mut v = SQRT_2 * vrms - 2.0 * vf;
+    let mut t = 0.25 / fl;
+    let start = t + 1.0 / fl;
+    let end = start + 2.0 / fl;
+    let (mut s2, mut n) = (0.0, 0u64);
+    while t < end {
+        let line = (SQRT_2 * vrms * (2.0 * PI * fl * t).sin()).abs() - 2.0 * vf;
+        let load = p / v;
+        let mut next = v - load / c * dt;
+        let ic = if line > next {
+            next = line;
+            (line - v) * c / dt
+        } else {
+            -load
+        };
+        if t >= start {
+            s2 += ic * ic;
+            n += 1;
+        }
+        v = next;
+        t += dt;
+    }
+    (s2 / n as f64).sqrt()
+}
+
+#[test]
+fn ripple_current_agrees_with_a_time_step_simulation() {
+    // The triangular bridge-pulse model (common practice, no published source) against an
+    // independent numerical integration of C·dv/dt with an ideal bridge: the model is
+    // conservative (high) by 3–12 % over these cases (simulated with a Python script during
+    // the review: 0.373 A vs 0.403 A at 90 V, 20 W, 47 µF).
+    for (vrms, p, c) in [
+        (90.0, 20.0, 47e-6),
+        (85.0, 60.0, 120e-6),
+        (230.0, 10.0, 10e-6),
+    ] {
+        let b = bulk_capacitor(&BulkCapacitorSpec {
+            line_voltage_rms: si(vrms),
+            line_frequency: si(50.0),
+            input_power: si(p),
+            capacitance: si(c),
+            bridge_diode_drop: si(1.0),
+        })
+        .unwrap();
+        let sim = simulated_ripple_current(vrms, 50.0, p, c, 1.0);
+        let got = b.ripple_current_rms.value;
+        assert!(
+            got >= sim && got < 1.15 * sim,
+            "{vrms} V {p} W: model {got} A vs simulation {sim} A"
+        );
+    }
+}
+
+#[test]
+fn hold_up_from_below_the_end_voltage_is_an_error() {
+    // a start at or below the end voltage used to give 0 s silently
+    let e = eval_err("hold_up_time(47 * uF, 70 * V, 100 * V, 20 * W)").to_string();
+    assert!(e.contains("end_voltage") && e.contains(" V"), "{e}");
+    let e = hold_up_time(si(47e-6), si(70.0), si(70.0), si(20.0)).unwrap_err();
+    assert!(e.message().contains("start_voltage"), "{e}");
 }

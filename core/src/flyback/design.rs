@@ -26,7 +26,13 @@ pub const CURRENT_LIMIT_HEADROOM: f64 = 0.1;
 /// (common practice, no published source).
 pub const RECTIFIER_DROP_PER_EFOLD: f64 = 0.05;
 
-/// Output power when the primary current reaches the current limit.
+/// Output power when the primary current reaches the current limit, or the duty cycle the
+/// controller's maximum, whichever comes at the lower load.
+///
+/// Formula: the load k at which I_pk(k) = I_lim + V_valley·t_d/L (the sense-delay overshoot at
+/// the primary slope V/L), or D(k) = D_max if that is lower, by bisection on k; power k·P_out.
+/// Assumes a fixed-frequency peak-current-mode controller and outputs that stay in regulation
+/// up to that load. Reference: common practice, no published source.
 #[derive(Clone, Debug, PartialEq)]
 pub struct OverloadPoint {
     /// Line voltage (RMS, or DC bus).
@@ -35,14 +41,22 @@ pub struct OverloadPoint {
     pub limit_case: &'static str,
     /// The current limit at that end of its tolerance.
     pub current_limit: ElectricCurrent,
-    /// Peak current reached, including the overshoot during the sense delay.
+    /// Peak current reached, including the overshoot during the sense delay:
+    /// I_lim + V_valley·t_d/L.
     pub primary_current_peak: ElectricCurrent,
-    /// Output power delivered before the limit trips.
+    /// Output power delivered before the limit trips: the load at which the corner's peak
+    /// current equals the limit plus overshoot, found by bisection, times full-load power.
     pub output_power: Power,
     /// That power over the full-load output power.
     pub load_fraction: f64,
     /// Conduction mode at the limit.
     pub mode: ConductionMode,
+    /// Duty cycle there (at most `max_duty_cycle`).
+    pub duty_cycle: f64,
+    /// What ends the power: `current_limit`, or `max_duty_cycle` where the controller's duty
+    /// limit is reached at a lower load than the current limit (the output then falls out of
+    /// regulation before the current limit trips).
+    pub limited_by: &'static str,
 }
 
 /// Estimate of the bias (controller supply) winding.
@@ -54,7 +68,10 @@ pub struct BiasEstimate {
     pub turns_per_regulated_turn: f64,
     /// Estimated bias voltage at full load.
     pub voltage_full_load: ElectricPotential,
-    /// Estimated bias voltage at light load.
+    /// Estimated bias voltage at light load: (V_o + V_f,light)·N_b/N_s − V_f,bias, with the
+    /// regulated rectifier's drop lowered by [`RECTIFIER_DROP_PER_EFOLD`] per e-fold of load
+    /// (an estimate: leakage-spike peak charging, which raises the bias at heavy load, is not
+    /// modelled; common practice, no published source).
     pub voltage_light_load: ElectricPotential,
 }
 
@@ -93,7 +110,8 @@ pub struct FlybackDesign {
     pub clamp: ClampDesign,
     /// Post filter per output (None where there is none).
     pub post_filters: Vec<Option<PostFilter>>,
-    /// Output power at the current limit across line and tolerance.
+    /// Output power at the current limit across line and tolerance (or at the duty limit,
+    /// where that comes first; see [`OverloadPoint::limited_by`]).
     pub overload: Vec<OverloadPoint>,
     /// Bias winding estimate.
     pub bias: Option<BiasEstimate>,
@@ -138,7 +156,9 @@ fn choose_inductance(mode: ModeTarget, vin: f64, p: f64, vr: f64, f: f64) -> f64
 /// high line. (4) Each corner (low/high line × full/light load) is evaluated at its bulk
 /// valley; the current-limit corners find the load at which the peak current reaches the
 /// highest limit. (5) Overload power is found at both ends of the limit's tolerance at low
-/// and high line. (6) Rules from [`flyback_rule_book`] are checked.
+/// and high line, or at the load where the duty reaches `max_duty_cycle` if that comes first
+/// (the current-limit corners stay at the current limit, the peak a start-up or a short
+/// reaches, and may show a duty above the limit). (6) Rules from [`flyback_rule_book`] are checked.
 /// Assumptions: fixed frequency, ideal coupling between secondaries (each rectifier's
 /// current is the pulse shape scaled to its load current), constant-power load on the bulk
 /// capacitor, operating point at the bulk valley, drain peak at the bulk peak, light load
@@ -171,18 +191,37 @@ pub fn flyback_design(spec: &FlybackSpec) -> Result<FlybackDesign> {
             show(spec.bridge_diode_drop)
         )));
     }
-    let d_at_peak = boundary_duty(vpk_lo, vr);
+    // The lowest duty cycle the design can have at low line, full load: at the rectified peak
+    // (no bulk ripple) and the loads' power alone (no losses). CCM and boundary targets run at
+    // D_b = V_r/(V + V_r) there; a DCM target with margin m at √(1 − m)·D_b (L = (1 − m)·L_b
+    // and D = √(2·P·L·f)/V); a given inductance at min(√(2·P·L·f)/V, D_b). Only a CCM or
+    // boundary design is bound by D_b: a DCM design may use a reflected voltage whose D_b
+    // exceeds the duty limit.
+    let pout_loads = spec.outputs.iter().map(|o| o.power().value).sum::<f64>();
+    let db_at_peak = boundary_duty(vpk_lo, vr);
+    let d_at_peak = match (spec.primary_inductance, spec.mode) {
+        (Some(l), _) => ((2.0 * pout_loads * l.value * f).sqrt() / vpk_lo).min(db_at_peak),
+        (None, Some(ModeTarget::Discontinuous { margin })) => (1.0 - margin).sqrt() * db_at_peak,
+        _ => db_at_peak,
+    };
     if d_at_peak > spec.max_duty_cycle {
-        let vr_max = vpk_lo * spec.max_duty_cycle / (1.0 - spec.max_duty_cycle);
+        let advice = if d_at_peak < db_at_peak {
+            "lower the primary inductance or the reflected voltage, or raise the duty limit"
+                .to_string()
+        } else {
+            let vr_max = vpk_lo * spec.max_duty_cycle / (1.0 - spec.max_duty_cycle);
+            format!(
+                "lower the reflected voltage to at most {} or raise the duty limit",
+                Quantity::new(vr_max, Dimension::VOLTAGE)
+            )
+        };
         return Err(Error::infeasible(format!(
             "`max_duty_cycle` {} cannot be met: `reflected_voltage` {} at the lowest rectified \
-             input {} needs a duty cycle of {:.3} even without bulk ripple; lower the reflected \
-             voltage to at most {} or raise the duty limit",
+             input {} needs a duty cycle of {:.3} even without bulk ripple; {advice}",
             spec.max_duty_cycle,
             show(spec.reflected_voltage),
             Quantity::new(vpk_lo, Dimension::VOLTAGE),
             d_at_peak,
-            Quantity::new(vr_max, Dimension::VOLTAGE)
         )));
     }
     let reg = &spec.outputs[spec.regulated_output];
@@ -198,7 +237,24 @@ pub fn flyback_design(spec: &FlybackSpec) -> Result<FlybackDesign> {
         .map(
             |(k, o)| match (o.post_filter_inductance, o.post_filter_capacitance) {
                 (Some(l), Some(c)) => post_filter(l, c, spec.switching_frequency)
-                    .map(Some)
+                    .and_then(|p| {
+                        // |1 − (f/f₀)²| ≤ 1 for f ≤ √2·f₀: such a filter passes or amplifies
+                        // the switching ripple, which no post filter is meant to do
+                        if p.gain >= 1.0 {
+                            Err(Error::invalid(format!(
+                                "the post filter (`post_filter_inductance` {}, \
+                                 `post_filter_capacitance` {}) has its corner at {}, too high to \
+                                 attenuate at the switching frequency {}; its corner must be below \
+                                 f/√2",
+                                show(l),
+                                show(c),
+                                show(p.corner_frequency),
+                                show(spec.switching_frequency)
+                            )))
+                        } else {
+                            Ok(Some(p))
+                        }
+                    })
                     .map_err(|e| e.context(&format!("outputs[{k}]"))),
                 _ => Ok(None),
             },
@@ -392,14 +448,25 @@ pub fn flyback_design(spec: &FlybackSpec) -> Result<FlybackDesign> {
         for (limit, case) in [(ilim_min, "minimum"), (ilim_max, "maximum")] {
             let name = format!("current_limit_{line_name}");
             let op = at_current_limit(&ctx, &name, line, limit, delay)?;
+            // the controller's duty limit may come first: the power then ends there
+            let (at, limited_by) = if op.duty_cycle > spec.max_duty_cycle {
+                (
+                    at_duty_limit(&ctx, &name, line, op.load_fraction)?,
+                    "max_duty_cycle",
+                )
+            } else {
+                (op.clone(), "current_limit")
+            };
             overload.push(OverloadPoint {
                 line_voltage: si(line),
                 limit_case: case,
                 current_limit: si(limit),
-                primary_current_peak: op.primary_current_peak,
-                output_power: op.output_power,
-                load_fraction: op.load_fraction,
-                mode: op.mode,
+                primary_current_peak: at.primary_current_peak,
+                output_power: at.output_power,
+                load_fraction: at.load_fraction,
+                mode: at.mode,
+                duty_cycle: at.duty_cycle,
+                limited_by,
             });
             if case == "maximum" {
                 corners.push(op);
@@ -417,12 +484,18 @@ pub fn flyback_design(spec: &FlybackSpec) -> Result<FlybackDesign> {
         .map(|v| v.value)
         .unwrap_or(bulk_valley_needed);
     let hold = if is_ac {
-        Some(hold_up_time(
-            si(c_bulk),
-            design_op.bulk_valley_voltage,
-            si(hold_up_end),
-            si(p_dc),
-        )?)
+        // a valley already at or below the end voltage holds up for no time at all; the
+        // `bulk_valley_minimum` and `hold_up_time` rules report it
+        if design_op.bulk_valley_voltage.value <= hold_up_end {
+            Some(si(0.0))
+        } else {
+            Some(hold_up_time(
+                si(c_bulk),
+                design_op.bulk_valley_voltage,
+                si(hold_up_end),
+                si(p_dc),
+            )?)
+        }
     } else {
         None
     };
@@ -568,6 +641,38 @@ fn at_current_limit(
     Ok(best)
 }
 
+/// The operating point at which the duty cycle reaches the controller's maximum, found by
+/// bisection on the load between light load and `above` (a load whose duty exceeds it). The
+/// duty rises with load: the bulk valley falls (CCM D = V_r/(V + V_r)) and, in DCM,
+/// D = √(2·P·L·f)/V grows with P.
+fn at_duty_limit(ctx: &Context, name: &str, line: f64, above: f64) -> Result<OperatingPoint> {
+    let dmax = ctx.spec.max_duty_cycle;
+    let mut lo = ctx.spec.light_load_fraction;
+    let mut best = ctx.evaluate(name, line, lo)?;
+    if best.duty_cycle >= dmax {
+        return Err(Error::infeasible(format!(
+            "corner {name}: the duty cycle reaches `max_duty_cycle` {dmax} below light load"
+        )));
+    }
+    let mut hi = above;
+    for _ in 0..200 {
+        let mid = 0.5 * (lo + hi);
+        match ctx.evaluate(name, line, mid) {
+            Ok(op) if op.duty_cycle < dmax => {
+                lo = mid;
+                best = op;
+            }
+            Ok(_) => hi = mid,
+            Err(e) if e.kind() == ErrorKind::Infeasible => hi = mid,
+            Err(e) => return Err(e),
+        }
+        if hi - lo < 1e-10 * hi {
+            break;
+        }
+    }
+    Ok(best)
+}
+
 fn fold_max(xs: impl Iterator<Item = f64>) -> f64 {
     xs.fold(f64::NEG_INFINITY, f64::max)
 }
@@ -634,11 +739,12 @@ fn evaluate_rules(
 }
 
 impl FlybackDesign {
-    /// The corner with a name.
+    /// The corner with a name (`low_line_full_load`, …, `current_limit_high_line`); None for an
+    /// unknown name.
     pub fn corner(&self, name: &str) -> Option<&OperatingPoint> {
         self.corners.iter().find(|c| c.corner == name)
     }
-    /// One row per corner.
+    /// One row per corner, the fields of [`OperatingPoint`] with units.
     pub fn corner_table(&self) -> Table {
         let mut t = Table::new();
         for c in &self.corners {
@@ -646,7 +752,8 @@ impl FlybackDesign {
         }
         t
     }
-    /// Output power at the current limit, one row per line and tolerance end.
+    /// Output power at the current limit, one row per line and tolerance end (see
+    /// [`OverloadPoint`]).
     pub fn overload_table(&self) -> Table {
         let mut t = Table::new();
         for o in &self.overload {
@@ -658,22 +765,26 @@ impl FlybackDesign {
                 Field::quantity("output_power", o.output_power),
                 Field::new("load_fraction", o.load_fraction),
                 Field::new("mode", o.mode.as_str()),
+                Field::new("duty_cycle", o.duty_cycle),
+                Field::new("limited_by", o.limited_by),
             ]);
         }
         t
     }
     /// The highest primary peak current of any corner: at the highest current limit with the
-    /// sense-delay overshoot at high line. The transformer's peak flux is checked at this current.
+    /// sense-delay overshoot at high line, I_lim·(1 + tol) + V_bulk·t_d/L (the primary current
+    /// keeps rising at V/L during the delay t_d). The transformer's peak flux is checked at this
+    /// current.
     pub fn primary_current_peak_at_limit(&self) -> ElectricCurrent {
         si(fold_max(
             self.corners.iter().map(|c| c.primary_current_peak.value),
         ))
     }
-    /// The worst rule status.
+    /// The worst rule status of [`FlybackDesign::checks`] (fail over warn over pass).
     pub fn worst_status(&self) -> Status {
         worst_status(&self.checks)
     }
-    /// Number of failed checks.
+    /// Number of failed checks (strict runs count these).
     pub fn failed_checks(&self) -> usize {
         self.checks
             .iter()

@@ -30,12 +30,14 @@ pub struct LossBudget {
     /// Controller supply (bias winding power with its rectifier, or the given controller power).
     pub controller: Power,
     /// Difference between the line power of a fixed efficiency estimate and the modelled
-    /// losses (zero when efficiency is computed from the model).
+    /// losses, P_out/η − P_out − ΣP_loss (zero when efficiency is computed from the model;
+    /// negative when the estimate is more optimistic than the loss model).
     pub unaccounted: Power,
 }
 
 impl LossBudget {
-    /// Sum of the modelled losses (without `output` and `unaccounted`).
+    /// Sum of the modelled losses (without `output` and `unaccounted`): the plain sum of the
+    /// loss fields; valid for any budget of non-negative losses.
     pub fn modelled_losses(&self) -> Power {
         si(self.switch_conduction.value
             + self.switch_capacitive.value
@@ -48,11 +50,12 @@ impl LossBudget {
             + self.transformer.value
             + self.controller.value)
     }
-    /// Output plus every loss plus unaccounted: the line input power.
+    /// Output plus every loss plus unaccounted: the line input power (energy conservation,
+    /// P_in = P_out + ΣP_loss).
     pub fn total(&self) -> Power {
         si(self.output.value + self.modelled_losses().value + self.unaccounted.value)
     }
-    /// The budget as (name, power) pairs in review order.
+    /// The budget as (name, power) pairs in review order (output first, unaccounted last).
     pub fn items(&self) -> Vec<(&'static str, Power)> {
         vec![
             ("output", self.output),
@@ -69,7 +72,8 @@ impl LossBudget {
             ("unaccounted", self.unaccounted),
         ]
     }
-    /// The budget as a table: item, power, share of input power; last row the total.
+    /// The budget as a table: item, power, share of input power (P_item/P_in·100, rounded to
+    /// 0.1 %); last row the total.
     pub fn table(&self) -> Table {
         let total = self.total().value;
         let mut t = Table::new();

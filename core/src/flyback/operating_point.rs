@@ -37,13 +37,16 @@ pub struct OperatingPoint {
     pub bulk_valley_voltage: ElectricPotential,
     /// Bridge conduction time per half line cycle (zero for DC).
     pub bulk_conduction_time: Time,
-    /// Bulk capacitor ripple current, RMS: line-frequency and switching-frequency parts together.
+    /// Bulk capacitor ripple current, RMS: line-frequency and switching-frequency parts together,
+    /// √(I_lf² + I_hf²) with I_hf = √(I_rms² − I_avg²) of the primary current (the two parts are
+    /// at unrelated frequencies, so their squares add).
     pub bulk_ripple_current_rms: ElectricCurrent,
     /// Conduction mode.
     pub mode: ConductionMode,
-    /// Duty cycle.
+    /// Duty cycle: CCM D = V_r/(V_valley + V_r) (volt-second balance); DCM
+    /// D = √(2·P·L·f)/V_valley (½·L·I_pk²·f = P). Erickson & Maksimović, 3rd ed. (2020), ch. 5–6.
     pub duty_cycle: f64,
-    /// Fraction of the period the secondaries conduct.
+    /// Fraction of the period the secondaries conduct: CCM 1 − D; DCM I_pk·L·f/V_r.
     pub demagnetising_duty: f64,
     /// Switch on-time.
     pub on_time: Time,
@@ -55,9 +58,10 @@ pub struct OperatingPoint {
     pub primary_current_peak: ElectricCurrent,
     /// Primary current at turn-on (zero in DCM).
     pub primary_current_valley: ElectricCurrent,
-    /// Primary current, RMS.
+    /// Primary current, RMS, of the trapezoid (triangle in DCM) over the on-time:
+    /// √(D·(I_pk² + I_pk·I_v + I_v²)/3).
     pub primary_current_rms: ElectricCurrent,
-    /// Primary current, average.
+    /// Primary current, average over the period: D·(I_pk + I_v)/2 (= P/V_valley).
     pub primary_current_avg: ElectricCurrent,
     /// Each output winding, in the order of the spec.
     pub secondaries: Vec<SecondaryPoint>,

@@ -15,22 +15,28 @@ use std::f64::consts::PI;
 pub struct SecondaryPoint {
     /// Load current at this point.
     pub current_avg: ElectricCurrent,
-    /// Peak secondary (rectifier) current.
+    /// Peak secondary (rectifier) current: the primary pulse scaled so that its average over
+    /// the demagnetising time equals the load current, I_s,pk = I_o·I_pk/(D₂·(I_pk + I_v)/2)
+    /// (= n·I_pk for one output without losses; Hart 2011, section 7.2).
     pub current_peak: ElectricCurrent,
-    /// RMS secondary (rectifier) current.
+    /// RMS secondary (rectifier) current, √(D₂·(I_pk² + I_pk·I_v + I_v²)/3) of the scaled
+    /// trapezoid (a triangle in DCM).
     pub current_rms: ElectricCurrent,
     /// Rectifier reverse voltage while the switch is on: V_bulk,peak/n + V_out.
     pub rectifier_reverse_voltage: ElectricPotential,
     /// RMS ripple current in the output capacitor: √(I_rms² − I_avg²).
     pub capacitor_ripple_current_rms: ElectricCurrent,
-    /// Output ripple voltage at the capacitor, peak to peak (charge plus ESR step).
+    /// Output ripple voltage at the capacitor, peak to peak: ΔQ/C + ESR·I_s,pk, where ΔQ is the
+    /// charge the capacitor gains while the rectifier current exceeds the load current (Hart
+    /// 2011, section 7.2: ΔQ = I_o·D·T when the secondary valley stays above I_o). The two parts
+    /// are added although they peak at different times: an upper bound.
     pub ripple_voltage_pp: ElectricPotential,
     /// Ripple after the post filter, if there is one.
     pub filtered_ripple_voltage_pp: Option<ElectricPotential>,
 }
 
 impl SecondaryPoint {
-    /// Named values with a prefix (`output_1.`).
+    /// Named values with a prefix (`output_1.`), with units; no calculation.
     pub fn fields(&self, prefix: &str) -> Vec<Field> {
         let mut v = vec![
             Field::quantity(format!("{prefix}current_avg"), self.current_avg),
@@ -153,7 +159,7 @@ pub fn post_filter(
 }
 
 impl PostFilter {
-    /// Named values with a prefix.
+    /// Named values with a prefix (corner frequency and attenuation), with units; no calculation.
     pub fn fields(&self, prefix: &str) -> Vec<Field> {
         vec![
             Field::quantity(

@@ -21,6 +21,11 @@ fn markdown_table(t: &Table) -> String {
 }
 
 /// The design as a Markdown report with the safety caution; `title` heads it.
+///
+/// No calculation: the summary fields, the corner table, the loss budget at low line and full
+/// load, the overload table and the rule results of the design, each as a Markdown table, and
+/// [`crate::SAFETY_CAUTION`] under the title (the results touch mains isolation and are design
+/// aids only).
 pub fn design_report_markdown(design: &FlybackDesign, title: &str) -> String {
     let mut s = String::new();
     let _ = writeln!(s, "# {title}\n");

@@ -76,7 +76,7 @@ impl OutputWinding {
             post_filter_capacitance: None,
         }
     }
-    /// Power delivered to the load at full load.
+    /// Power delivered to the load at full load, V_o·I_o (definition).
     pub fn power(&self) -> Power {
         self.voltage * self.current
     }
@@ -272,7 +272,8 @@ impl FlybackSpec {
         }
     }
 
-    /// Total output power at full load (outputs and bias).
+    /// Total output power at full load, Σ V_o·I_o over the outputs plus V_bias·I_bias
+    /// (definition; the bias rectifier's drop is not included).
     pub fn output_power(&self) -> Power {
         let mut p: f64 = self.outputs.iter().map(|o| o.power().value).sum();
         if let Some(b) = &self.bias {
@@ -281,7 +282,9 @@ impl FlybackSpec {
         si(p)
     }
 
-    /// Checks every field: finite, positive where needed, ranges consistent.
+    /// Checks every field: finite, positive where needed, ranges consistent (min line at most
+    /// max line, the current-sense delay shorter than the longest on-time D_max/f, the
+    /// transition time shorter than half the period). Each error names the field and its unit.
     pub fn validate(&self) -> Result<()> {
         match self.input {
             InputRange::Ac {
@@ -379,6 +382,26 @@ impl FlybackSpec {
         )?;
         non_negative("current_sense_delay", self.current_sense_delay)?;
         number_within("max_duty_cycle", self.max_duty_cycle, 0.05, 0.95)?;
+        // the switch must be able to turn off within its longest on-time, and two transitions
+        // must fit in one period; longer values make the overshoot and overlap formulas
+        // meaningless (they would describe a converter that cannot switch at this frequency)
+        let longest_on = self.max_duty_cycle / self.switching_frequency.value;
+        if self.current_sense_delay.value >= longest_on {
+            return Err(Error::invalid(format!(
+                "`current_sense_delay` ({}) must be shorter than the longest on-time, \
+                 `max_duty_cycle`/`switching_frequency` = {}",
+                Quantity::from_typed(self.current_sense_delay),
+                Quantity::new(longest_on, crate::units::Dimension::TIME)
+            )));
+        }
+        let half_period = 0.5 / self.switching_frequency.value;
+        if self.losses.transition_time.value >= half_period {
+            return Err(Error::invalid(format!(
+                "`transition_time` ({}) must be shorter than half the switching period ({})",
+                Quantity::from_typed(self.losses.transition_time),
+                Quantity::new(half_period, crate::units::Dimension::TIME)
+            )));
+        }
         match self.mode {
             Some(ModeTarget::Discontinuous { margin }) => {
                 number_within("dcm_margin", margin, 0.0, 0.9)?;

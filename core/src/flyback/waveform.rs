@@ -17,7 +17,8 @@ pub enum ConductionMode {
 }
 
 impl ConductionMode {
-    /// Short name: `ccm`, `dcm` or `boundary`.
+    /// Short name: `ccm`, `dcm` or `boundary` (the mode is classified by L/L_b at the operating
+    /// point: within 1e-9 of 1 boundary, below DCM, above CCM; see [`boundary_inductance`]).
     pub fn as_str(self) -> &'static str {
         match self {
             ConductionMode::Continuous => "ccm",

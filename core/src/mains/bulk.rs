@@ -174,7 +174,8 @@ pub fn bulk_capacitance_for_valley(
 /// minimum voltage.
 ///
 /// Formula: t = C·(V_start² − V_end²)/(2·P). Assumes constant power and no recharge.
-/// Valid for V_start > V_end ≥ 0. Reference: energy of a capacitor, ½·C·V²; the hold-up
+/// Valid for V_start > V_end ≥ 0; an end voltage at or above the start is an error (it used to
+/// return zero silently). Reference: energy of a capacitor, ½·C·V²; the hold-up
 /// calculation of supply handbooks, e.g. Billings & Morey, 3rd ed. (2011).
 pub fn hold_up_time(
     capacitance: Capacitance,
@@ -187,7 +188,12 @@ pub fn hold_up_time(
     let v1 = non_negative("end_voltage", end_voltage)?.value;
     let p = positive("power", power)?.value;
     if v1 >= v0 {
-        return Ok(si(0.0));
+        return Err(Error::invalid(format!(
+            "`end_voltage` ({}) must be below `start_voltage` ({}): a capacitor that starts at or \
+             below the end voltage gives no hold-up",
+            Quantity::from_typed(end_voltage),
+            Quantity::from_typed(start_voltage)
+        )));
     }
     Ok(si(c * (v0 * v0 - v1 * v1) / (2.0 * p)))
 }
