@@ -164,10 +164,10 @@ static LOSSES: FunctionDoc = FunctionDoc {
 static OVERLOAD: FunctionDoc = FunctionDoc {
     name: "overload_table",
     domain: Domain::Flyback,
-    summary: "Output power at the current limit at low and high line, at both ends of the limit's tolerance.",
+    summary: "Output power at the current limit at low and high line, at both ends of the limit's tolerance, stopping where the duty limit binds.",
     params: &[ParamDoc::required("design", ParamKind::Any, "a FlybackDesign")],
     keys: &[],
-    returns: "a Table",
+    returns: "a Table, one row per line and tolerance end, with duty_cycle and limited_by (current_limit or max_duty_cycle)",
     example: "overload_table(flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A}))",
 };
 static CHECKS: FunctionDoc = FunctionDoc {
