@@ -235,7 +235,6 @@ pub(crate) fn register(api: &mut Api, state: &Arc<HostState>) {
 
 /// For domain bindings that evaluate rules natively: turns check results into a script array
 /// and counts the failures for the runner's strict mode.
-#[allow(dead_code)] // used by domain bindings as they arrive
 pub(crate) fn checks_to_array(state: &HostState, checks: Vec<CheckResult>) -> Array {
     state.note_failed_checks(failed(&checks));
     checks.into_iter().map(Dynamic::from).collect()
