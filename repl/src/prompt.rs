@@ -167,6 +167,30 @@ impl History {
     }
 }
 
+/// How many history entries are kept across sessions.
+const HISTORY_KEEP: usize = 5000;
+
+/// Keeps the last `keep` entries of the history file (rewritten through a temporary file and a
+/// rename, so a crash never loses the history). Errors are ignored: history is a convenience.
+fn trim_history(path: &std::path::Path, keep: usize) {
+    let Ok(text) = std::fs::read_to_string(path) else {
+        return;
+    };
+    let entries: Vec<&str> = text.lines().filter(|l| *l != "#V2").collect();
+    if entries.len() <= keep {
+        return;
+    }
+    let mut out = String::from("#V2\n");
+    for e in &entries[entries.len() - keep..] {
+        out.push_str(e);
+        out.push('\n');
+    }
+    let tmp = path.with_extension("txt.tmp");
+    if std::fs::write(&tmp, out).is_ok() && std::fs::rename(&tmp, path).is_err() {
+        let _ = std::fs::remove_file(&tmp);
+    }
+}
+
 /// What reading a line gave.
 enum Read {
     Line(String),
@@ -226,6 +250,9 @@ pub fn run(limits: EngineLimits) -> Result<()> {
     let mut history = History {
         path: history_path(),
     };
+    if let Some(p) = &history.path {
+        trim_history(p, HISTORY_KEEP);
+    }
     let mut input = if terminal {
         let config = rustyline::Config::builder()
             .auto_add_history(false)
@@ -240,6 +267,15 @@ pub fn run(limits: EngineLimits) -> Result<()> {
     } else {
         Input::Piped(std::io::stdin().lock())
     };
+    // Ctrl-C while a script runs stops that script, not the prompt (while a line is being
+    // read, the line editor handles Ctrl-C itself). Installed after the line editor, which
+    // sets up signal handling of its own when it is created.
+    let flag = session.borrow().host.interrupt_flag();
+    if let Err(e) =
+        ctrlc::set_handler(move || flag.store(true, std::sync::atomic::Ordering::Relaxed))
+    {
+        eprintln!("warning: Ctrl-C cannot stop running scripts here ({e})");
+    }
 
     println!(
         "gapwise {} — unit-checked design rules for small offline flyback supplies",
@@ -433,5 +469,24 @@ fn vars(s: &Session) {
     }
     for (_, sig) in s.function_signatures() {
         println!("  fn {sig}");
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    #[test]
+    fn trimming_keeps_the_newest_entries() {
+        let dir = std::env::temp_dir().join(format!("gapwise-history-{}", std::process::id()));
+        std::fs::create_dir_all(&dir).unwrap();
+        let path = dir.join("history.txt");
+        let mut text = String::from("#V2\n");
+        for i in 0..10 {
+            text.push_str(&format!("entry {i}\n"));
+        }
+        std::fs::write(&path, text).unwrap();
+        super::trim_history(&path, 3);
+        let kept = std::fs::read_to_string(&path).unwrap();
+        assert_eq!(kept, "#V2\nentry 7\nentry 8\nentry 9\n");
+        let _ = std::fs::remove_dir_all(&dir);
     }
 }

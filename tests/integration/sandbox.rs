@@ -92,3 +92,23 @@ fn default_limits_allow_a_family_of_ten_thousand_variants() {
     assert_eq!(t.len(), 10_000);
     assert_eq!(t.error_count(), 0);
 }
+
+#[test]
+fn an_interrupt_stops_a_running_script() {
+    // the prompt sets this flag on Ctrl-C; only the flag may stop this loop
+    let h = ScriptHost::new(EngineLimits {
+        max_operations: 0,
+        time_budget: Duration::from_secs(60),
+        ..EngineLimits::default()
+    });
+    let flag = h.interrupt_flag();
+    let t = std::thread::spawn(move || {
+        std::thread::sleep(Duration::from_millis(200));
+        flag.store(true, std::sync::atomic::Ordering::Relaxed);
+    });
+    let e = h.eval("loop {}", "<test>").unwrap_err();
+    t.join().unwrap();
+    assert!(e.message.contains("interrupted"), "{}", e.message);
+    // the next run starts clean
+    assert!(h.eval("1 + 1", "<test>").is_ok());
+}

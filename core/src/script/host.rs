@@ -4,7 +4,7 @@ use super::docs::FunctionDoc;
 use crate::report::Table;
 use rhai::{Dynamic, Engine, EvalAltResult, ParseError, ParseErrorType, Position, Scope, AST};
 use std::fmt;
-use std::sync::atomic::{AtomicU64, Ordering};
+use std::sync::atomic::{AtomicBool, AtomicU64, Ordering};
 use std::sync::{Arc, Mutex, RwLock};
 use std::time::{Duration, Instant};
 
@@ -61,6 +61,7 @@ pub(crate) struct HostState {
     epoch: Instant,
     deadline_nanos: AtomicU64,
     budget: Duration,
+    interrupt: Arc<AtomicBool>,
     outputs: Mutex<Vec<(String, Table)>>,
     texts: Mutex<Vec<OutputText>>,
     failed_checks: std::sync::atomic::AtomicUsize,
@@ -75,6 +76,7 @@ impl HostState {
             epoch: Instant::now(),
             deadline_nanos: AtomicU64::new(0),
             budget,
+            interrupt: Arc::new(AtomicBool::new(false)),
             outputs: Mutex::new(Vec::new()),
             texts: Mutex::new(Vec::new()),
             failed_checks: std::sync::atomic::AtomicUsize::new(0),
@@ -84,6 +86,7 @@ impl HostState {
         }
     }
     fn start_clock(&self) {
+        self.interrupt.store(false, Ordering::Relaxed);
         let deadline = self.epoch.elapsed() + self.budget;
         let nanos = u64::try_from(deadline.as_nanos())
             .unwrap_or(u64::MAX)
@@ -321,7 +324,12 @@ impl ScriptHost {
         let budget = limits.time_budget;
         let st = state.clone();
         engine.on_progress(move |ops| {
-            if ops % 4096 == 0 && st.over_time() {
+            if ops % 4096 != 0 {
+                return None;
+            }
+            if st.interrupt.load(Ordering::Relaxed) {
+                Some(Dynamic::from("script interrupted".to_string()))
+            } else if st.over_time() {
                 Some(Dynamic::from(format!(
                     "script stopped: time budget of {} s exceeded (raise it with --time-budget)",
                     budget.as_secs_f64()
@@ -364,6 +372,11 @@ impl ScriptHost {
     /// Names of the unit constants scripts can use (`V`, `mA`, `uF`, …).
     pub fn constant_names(&self) -> Vec<&'static str> {
         super::api_units::constant_names()
+    }
+    /// A flag that stops the running evaluation when set (the prompt sets it on Ctrl-C); the
+    /// script then ends with the error "script interrupted". Cleared when a run starts.
+    pub fn interrupt_flag(&self) -> Arc<AtomicBool> {
+        self.state.interrupt.clone()
     }
     /// Sends printed lines to a callback instead of collecting them.
     pub fn set_print(&self, f: Option<PrintFn>) {
