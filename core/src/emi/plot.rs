@@ -69,9 +69,7 @@ pub fn spectrum_svg(design: &InputFilterDesign) -> String {
         escape(&design.spec.margin.to_string())
     );
     // grid
-    for f in [
-        150e3, 200e3, 300e3, 500e3, 1e6, 2e6, 3e6, 5e6, 10e6, 20e6, 30e6,
-    ] {
+    for f in [150e3, 300e3, 500e3, 1e6, 2e6, 3e6, 5e6, 10e6, 20e6, 30e6] {
         let x = x_of(f);
         let _ = writeln!(
             s,
@@ -178,12 +176,27 @@ pub fn spectrum_svg(design: &InputFilterDesign) -> String {
         HEIGHT - 40.0,
         escape("Estimate from the converter's waveforms (DM + CM in phase); confirm with a scan.")
     );
-    let _ = writeln!(
-        s,
-        r#"<text x="{LEFT}" y="{:.1}" font-size="9">{}</text>"#,
-        HEIGHT - 22.0,
-        escape(SAFETY_CAUTION)
-    );
+    // the caution, wrapped by words so that it fits the width of the plot
+    let mut lines: Vec<String> = vec![String::new()];
+    for word in SAFETY_CAUTION.split_whitespace() {
+        let last = lines.last_mut().expect("one line at least");
+        if !last.is_empty() && last.len() + 1 + word.len() > 130 {
+            lines.push(word.to_string());
+        } else {
+            if !last.is_empty() {
+                last.push(' ');
+            }
+            last.push_str(word);
+        }
+    }
+    for (k, line) in lines.iter().enumerate() {
+        let _ = writeln!(
+            s,
+            r#"<text x="{LEFT}" y="{:.1}" font-size="9">{}</text>"#,
+            HEIGHT - 26.0 + 11.0 * k as f64,
+            escape(line)
+        );
+    }
     s.push_str("</svg>\n");
     s
 }
