@@ -5,11 +5,16 @@
 use super::classes::{
     Barrier, FieldCase, InsulationGrade, MaterialGroup, OvervoltageCategory, PollutionDegree,
 };
-use super::clearance::{clearance_distance, ClearanceSpec};
+use super::clearance::{
+    clearance_distance, clearance_for_working_voltage, Clearance, ClearanceSpec,
+    WorkingClearanceSpec,
+};
 use super::creepage::{creepage_distance, CreepageSpec};
+use super::high_frequency::{high_frequency_clearance, high_frequency_creepage, HighFrequencySpec};
 use super::impulse::rated_impulse_voltage;
 use super::tables::{
-    CREEPAGE, SOLID_INSULATION_ABOVE_PEAK, SOLID_INSULATION_MINIMUM, SOLID_INSULATION_SOURCE,
+    CREEPAGE, HIGH_FREQUENCY_CREEPAGE_UP_TO_HZ, HIGH_FREQUENCY_LIMIT_HZ,
+    SOLID_INSULATION_ABOVE_PEAK, SOLID_INSULATION_MINIMUM, SOLID_INSULATION_SOURCE,
     TEST_VOLTAGE_TEMPORARY, TEST_VOLTAGE_TEMPORARY_SOURCE, TEST_VOLTAGE_TRANSIENT,
     TEST_VOLTAGE_TRANSIENT_SOURCE, THIN_SHEET_LAYERS,
 };
@@ -17,10 +22,6 @@ use crate::error::{Error, Result};
 use crate::report::{Field, Record};
 use crate::units::validate::{non_negative, positive};
 use crate::units::{format_number, si, ElectricPotential, Frequency, Length, Quantity};
-
-/// The frequency above which IEC 62368-1 dimensions clearance and creepage differently
-/// (5.4.2.3 and 5.4.3; value recalled from memory).
-pub const HIGH_FREQUENCY_LIMIT_HZ: f64 = 30e3;
 
 /// Everything that sets the requirements of one barrier.
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -63,10 +64,20 @@ pub struct BarrierRequirement {
     pub impulse_voltage_peak: ElectricPotential,
     /// Where the impulse voltage comes from.
     pub impulse_rule: String,
-    /// Required clearance at the altitude.
+    /// Required clearance at the altitude: the largest of the three below.
     pub clearance: Length,
-    /// Rule, row and source of the clearance.
+    /// Which clearance governs, with its rule, row and source.
     pub clearance_rule: String,
+    /// Clearance for the transient overvoltages (IEC 60664-1:2020 Table F.2; IEC 62368-1:2018
+    /// procedure 2).
+    pub clearance_for_transients: Length,
+    /// Clearance for the peak working voltage (steady-state table; IEC 62368-1:2018
+    /// procedure 1).
+    pub clearance_for_working_voltage: Length,
+    /// Clearance for a working voltage above 30 kHz (0 m when the frequency is 30 kHz or less).
+    pub clearance_for_high_frequency: Length,
+    /// Rule, row and source of each of the three clearances.
+    pub clearance_components_rule: String,
     /// Required creepage in the product (general columns: bobbins, housings, wiring).
     pub creepage: Length,
     /// Rule, row and source of the product creepage.
@@ -75,6 +86,10 @@ pub struct BarrierRequirement {
     pub creepage_printed_board: Length,
     /// Rule, row and source of the printed-board creepage.
     pub creepage_printed_board_rule: String,
+    /// Creepage for a working voltage above 30 kHz (0 m when the frequency is 30 kHz or less,
+    /// or above the 100 kHz of gapwise's data: then `not_covered` says so). Already included in
+    /// `creepage` and `creepage_printed_board`.
+    pub creepage_for_high_frequency: Length,
     /// Minimum distance through solid insulation (0 where no minimum applies).
     pub distance_through_insulation: Length,
     /// Thin-sheet layers when each layer alone passes the grade's electric strength test.
@@ -167,19 +182,25 @@ fn test_voltage(spec: &BarrierSpec, impulse: f64) -> Result<(f64, String)> {
 ///    secondary–earth barrier without one, category I of its own RMS working voltage
 ///    (assumption: a circuit not connected to the mains, IEC 60664-1:2020 4.3.3.3; value
 ///    recalled from memory).
-/// 2. Clearance: [`super::clearance_distance`] (Table F.2, reinforced step, altitude).
+/// 2. Clearance: the largest of (a) the transient clearance, [`super::clearance_distance`]
+///    (Table F.2, reinforced step; IEC 62368-1:2018 procedure 2), (b) the clearance for the
+///    peak working voltage, [`super::clearance_for_working_voltage`] (IEC 62368-1:2018
+///    procedure 1), and (c) above 30 kHz the high-frequency clearance,
+///    [`super::high_frequency_clearance`]; each × the altitude factor of Table A.2.
 /// 3. Creepage: [`super::creepage_distance`] at the RMS working voltage, in the product and on
-///    printed wiring, never less than the clearance; below 10 V RMS the 10 V row is used
-///    (common practice, no published source).
+///    printed wiring, an interpolated value rounded up to the next 0.1 mm (IEC 62368-1:2018
+///    Table 17 note); above 30 kHz (up to 100 kHz) at least [`super::high_frequency_creepage`]
+///    at the peak working voltage; never less than the clearance. Below 10 V RMS the 10 V row
+///    is used (common practice, no published source).
 /// 4. Solid insulation: at least 0.4 mm through supplementary, reinforced or double insulation
 ///    above 71 V peak working voltage; thin sheet: 2 layers each passing the grade's test or 3
 ///    of which any two pass it (IEC 62368-1:2018 5.4.4.2 and 5.4.4.6; values recalled from memory).
 /// 5. Electric strength: the higher of the transient-based and the temporary-overvoltage-based
 ///    test voltages (IEC 62368-1:2018 5.4.9.1; values recalled from memory).
 ///
-/// Not covered (listed in `not_covered`): clearances and creepage for working voltages above
-/// 30 kHz, clearance from the peak working voltage (IEC 62368-1:2018 procedure 1), and the
-/// test voltage from the peak working voltage.
+/// Not covered (listed in `not_covered`): the test voltage from the peak working voltage
+/// (IEC 62368-1:2018 5.4.9.1, its table is not in gapwise's data), and the high-frequency
+/// creepage above 100 kHz.
 pub fn barrier_requirements(spec: &BarrierSpec) -> Result<BarrierRequirement> {
     let peak = non_negative("working_voltage_peak", spec.working_voltage_peak)?;
     let rms = non_negative("working_voltage_rms", spec.working_voltage_rms)?;
@@ -215,13 +236,83 @@ pub fn barrier_requirements(spec: &BarrierSpec) -> Result<BarrierRequirement> {
             )
         }
     };
-    let clearance = clearance_distance(&ClearanceSpec {
+    let transient = clearance_distance(&ClearanceSpec {
         impulse_voltage: impulse,
         field: spec.field,
         pollution_degree: spec.pollution_degree,
         grade: spec.grade,
         altitude: spec.altitude,
     })?;
+    let working = clearance_for_working_voltage(&WorkingClearanceSpec {
+        working_voltage_peak: peak,
+        field: spec.field,
+        pollution_degree: spec.pollution_degree,
+        grade: spec.grade,
+        altitude: spec.altitude,
+    })?;
+    let high_frequency = HighFrequencySpec {
+        working_voltage_peak: peak,
+        frequency: f,
+        pollution_degree: spec.pollution_degree,
+        grade: spec.grade,
+        altitude: spec.altitude,
+    };
+    let above_30k = f.value > HIGH_FREQUENCY_LIMIT_HZ;
+    let hf_clearance = if above_30k {
+        Some(high_frequency_clearance(&high_frequency)?)
+    } else {
+        None
+    };
+    let describe = |c: &Clearance| format!("{}; {}; {}", c.rule, c.table_row, c.source);
+    let mut candidates: Vec<(&str, &Clearance)> = vec![
+        ("transient overvoltages (procedure 2)", &transient),
+        ("peak working voltage (procedure 1)", &working),
+    ];
+    if let Some(c) = &hf_clearance {
+        candidates.push(("working voltage above 30 kHz", c));
+    }
+    let (governing_name, governing) = candidates.iter().copied().fold(candidates[0], |best, c| {
+        if c.1.clearance.value > best.1.clearance.value {
+            c
+        } else {
+            best
+        }
+    });
+    let clearance_value = governing.clearance;
+    let clearance_rule = format!(
+        "the largest of the clearances for {}: {} for {}; {}",
+        candidates
+            .iter()
+            .map(|c| c.0)
+            .collect::<Vec<_>>()
+            .join(", "),
+        Quantity::from_typed(clearance_value),
+        governing_name,
+        describe(governing)
+    );
+    let mut components = vec![
+        format!(
+            "transients: {}, {}",
+            Quantity::from_typed(transient.clearance),
+            describe(&transient)
+        ),
+        format!(
+            "peak working voltage: {}, {}",
+            Quantity::from_typed(working.clearance),
+            describe(&working)
+        ),
+    ];
+    match &hf_clearance {
+        Some(c) => components.push(format!(
+            "above 30 kHz: {}, {}",
+            Quantity::from_typed(c.clearance),
+            describe(c)
+        )),
+        None => components.push(format!(
+            "above 30 kHz: not applicable, the working frequency {} is 30 kHz or less",
+            Quantity::from_typed(f)
+        )),
+    }
     let first_row = CREEPAGE[0].0;
     let (v_table, low_note) = if rms.value < first_row {
         (
@@ -241,11 +332,66 @@ pub fn barrier_requirements(spec: &BarrierSpec) -> Result<BarrierRequirement> {
             material_group: spec.material_group,
             grade: spec.grade,
             printed_board: board,
-            minimum_clearance: Some(clearance.clearance),
+            minimum_clearance: Some(clearance_value),
+            round_interpolated: true,
         })
     };
     let product = creep(false)?;
     let board = creep(true)?;
+    let mut not_covered = Vec::new();
+    if spec.grade != InsulationGrade::Functional {
+        not_covered.push(
+            "test voltage from the peak working voltage (IEC 62368-1:2018 5.4.9.1; its table is not in gapwise's data)".to_string(),
+        );
+    }
+    let hf_creepage = if above_30k && f.value <= HIGH_FREQUENCY_CREEPAGE_UP_TO_HZ * (1.0 + 1e-12) {
+        Some(high_frequency_creepage(&high_frequency)?)
+    } else {
+        if above_30k {
+            not_covered.push(format!(
+                "creepage for the working voltage at {}: gapwise's high-frequency creepage data stops at 100 kHz (IEC 62368-1:2018 Table 18, IEC 60664-4:2005 Table 2)",
+                Quantity::from_typed(f)
+            ));
+        }
+        None
+    };
+    let with_high_frequency = |value: Length, rule: String| {
+        match &hf_creepage {
+        Some(h) if h.creepage.value > value.value => (
+            h.creepage,
+            format!(
+                "set by the working voltage above 30 kHz: {}; {}; {} (the low-frequency value, {}, is lower: {})",
+                h.rule,
+                h.table_row,
+                h.source,
+                Quantity::from_typed(value),
+                rule
+            ),
+        ),
+        Some(h) => (
+            value,
+            format!(
+                "{rule}; the creepage for the working voltage above 30 kHz ({}) is not higher",
+                Quantity::from_typed(h.creepage)
+            ),
+        ),
+        None => (value, rule),
+    }
+    };
+    let (creepage_value, creepage_rule) = with_high_frequency(
+        product.creepage,
+        format!(
+            "{}; {}{}; {}",
+            product.rule, product.table_row, low_note, product.source
+        ),
+    );
+    let (board_value, board_rule) = with_high_frequency(
+        board.creepage,
+        format!(
+            "{}; {}{}; {}",
+            board.rule, board.table_row, low_note, board.source
+        ),
+    );
     let (dti, layers, solid_rule) = {
         let (each, any_two) = match spec.grade {
             InsulationGrade::Functional => (0, 0),
@@ -280,35 +426,22 @@ pub fn barrier_requirements(spec: &BarrierSpec) -> Result<BarrierRequirement> {
         (d, (each, any_two), text)
     };
     let (tv, tv_rule) = test_voltage(spec, impulse.value)?;
-    let mut not_covered = vec![
-        "clearance from the peak working voltage (IEC 62368-1:2018 5.4.2.2 procedure 1)",
-        "test voltage from the peak working voltage (IEC 62368-1:2018 5.4.9.1)",
-    ];
-    if f.value > HIGH_FREQUENCY_LIMIT_HZ {
-        not_covered.push(
-            "clearance and creepage for working voltages above 30 kHz (IEC 62368-1:2018 5.4.2.3 and 5.4.3; IEC 60664-4)",
-        );
-    }
     Ok(BarrierRequirement {
         barrier: spec.barrier,
         grade: spec.grade,
         impulse_voltage_peak: impulse,
         impulse_rule,
-        clearance: clearance.clearance,
-        clearance_rule: format!(
-            "{}; {}; {}",
-            clearance.rule, clearance.table_row, clearance.source
-        ),
-        creepage: product.creepage,
-        creepage_rule: format!(
-            "{}; {}{}; {}",
-            product.rule, product.table_row, low_note, product.source
-        ),
-        creepage_printed_board: board.creepage,
-        creepage_printed_board_rule: format!(
-            "{}; {}{}; {}",
-            board.rule, board.table_row, low_note, board.source
-        ),
+        clearance: clearance_value,
+        clearance_rule,
+        clearance_for_transients: transient.clearance,
+        clearance_for_working_voltage: working.clearance,
+        clearance_for_high_frequency: hf_clearance.as_ref().map_or(si(0.0), |c| c.clearance),
+        clearance_components_rule: components.join(" | "),
+        creepage: creepage_value,
+        creepage_rule,
+        creepage_printed_board: board_value,
+        creepage_printed_board_rule: board_rule,
+        creepage_for_high_frequency: hf_creepage.as_ref().map_or(si(0.0), |c| c.creepage),
         distance_through_insulation: si(dti),
         thin_sheet_layers_each_passing: layers.0,
         thin_sheet_layers_any_two_passing: layers.1,
@@ -316,7 +449,11 @@ pub fn barrier_requirements(spec: &BarrierSpec) -> Result<BarrierRequirement> {
         test_voltage_peak: si(tv),
         test_voltage_rms: si(tv / std::f64::consts::SQRT_2),
         test_voltage_rule: tv_rule,
-        not_covered: not_covered.join("; "),
+        not_covered: if not_covered.is_empty() {
+            "none".to_string()
+        } else {
+            not_covered.join("; ")
+        },
     })
 }
 
@@ -329,12 +466,29 @@ impl Record for BarrierRequirement {
             Field::new("impulse_rule", self.impulse_rule.as_str()),
             Field::quantity("clearance", self.clearance),
             Field::new("clearance_rule", self.clearance_rule.as_str()),
+            Field::quantity("clearance_for_transients", self.clearance_for_transients),
+            Field::quantity(
+                "clearance_for_working_voltage",
+                self.clearance_for_working_voltage,
+            ),
+            Field::quantity(
+                "clearance_for_high_frequency",
+                self.clearance_for_high_frequency,
+            ),
+            Field::new(
+                "clearance_components_rule",
+                self.clearance_components_rule.as_str(),
+            ),
             Field::quantity("creepage", self.creepage),
             Field::new("creepage_rule", self.creepage_rule.as_str()),
             Field::quantity("creepage_printed_board", self.creepage_printed_board),
             Field::new(
                 "creepage_printed_board_rule",
                 self.creepage_printed_board_rule.as_str(),
+            ),
+            Field::quantity(
+                "creepage_for_high_frequency",
+                self.creepage_for_high_frequency,
             ),
             Field::quantity(
                 "distance_through_insulation",

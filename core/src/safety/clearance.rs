@@ -1,12 +1,16 @@
 //! Clearance (distance through air) to withstand transient overvoltages (IEC 60664-1:2020
-//! Table F.2), with the reinforced-insulation step and the altitude factor.
+//! Table F.2) and the peak working voltage (steady-state table; IEC 62368-1:2018 procedure 1),
+//! with the reinforced-insulation rules and the altitude factor.
 
 use super::classes::{FieldCase, InsulationGrade, PollutionDegree};
 use super::impulse::altitude_correction;
-use super::tables::{CLEARANCE, CLEARANCE_SOURCE, PREFERRED_IMPULSE};
+use super::tables::{
+    CLEARANCE, CLEARANCE_SOURCE, POLLUTION_MINIMUM_CLEARANCE, POLLUTION_MINIMUM_SOURCE,
+    PREFERRED_IMPULSE, STEADY_STATE_CLEARANCE, STEADY_STATE_CLEARANCE_SOURCE,
+};
 use crate::error::{Error, Result};
 use crate::report::{Field, Record};
-use crate::units::validate::positive;
+use crate::units::validate::{non_negative, positive};
 use crate::units::{format_number, si, ElectricPotential, Length, Quantity};
 
 /// What a clearance must withstand, and where.
@@ -103,7 +107,7 @@ pub fn reinforced_withstand_voltage(
 /// voltage; reinforced uses one preferred step higher or 160 % ([`reinforced_withstand_voltage`]);
 /// double insulation is basic plus supplementary, reported as the sum of the two (2 × basic).
 /// The table value (valid up to 2000 m) is multiplied by the altitude factor of Table A.2.
-/// Valid for 0 < U ≤ 12 kV after the reinforced step (the 0.33 kV row covers lower voltages);
+/// Valid for 0 < U ≤ 100 kV after the reinforced step (the 0.33 kV row covers lower voltages);
 /// above is an error.
 /// Note: the two reinforced rules of 5.1.6 are not monotonic together: 3.9 kV basic (not a
 /// preferred value) gives 160 % = 6.24 kV and the 8 kV row, while 4.0 kV basic (preferred) gives
@@ -131,7 +135,7 @@ pub fn clearance_distance(spec: &ClearanceSpec) -> Result<Clearance> {
     let kv = u.value / 1000.0;
     let (row, mm) = table_f2(kv, spec.field, spec.pollution_degree).ok_or_else(|| {
         Error::out_of_range(format!(
-            "impulse withstand voltage {} is above the last row (12 kV) of {}",
+            "impulse withstand voltage {} is above the last row (100 kV) of {}",
             Quantity::from_typed(u),
             CLEARANCE_SOURCE.cite()
         ))
@@ -155,6 +159,108 @@ pub fn clearance_distance(spec: &ClearanceSpec) -> Result<Clearance> {
             spec.pollution_degree
         ),
         source: format!("{}; altitude {}", CLEARANCE_SOURCE.cite(), alt.source),
+    })
+}
+
+/// What a clearance must withstand from the working voltage itself.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct WorkingClearanceSpec {
+    /// Peak working voltage across the clearance (steady state, temporary overvoltage or
+    /// recurring peak), at frequencies up to 30 kHz.
+    pub working_voltage_peak: ElectricPotential,
+    /// Field case (assume inhomogeneous unless the electrodes are known to make it homogeneous).
+    pub field: FieldCase,
+    /// Pollution degree at the clearance.
+    pub pollution_degree: PollutionDegree,
+    /// Grade of insulation.
+    pub grade: InsulationGrade,
+    /// Altitude of installation (0 … 10 000 m).
+    pub altitude: Length,
+}
+
+/// Required clearance to withstand the peak working voltage (procedure 1).
+///
+/// Formula: d = max(d_table(U), d_min(PD)) × k_alt × (2 for double insulation), where
+/// d_table is the first row of the steady-state clearance table at or above U (no
+/// interpolation), U = Û for functional, basic and supplementary insulation and 1.6·Û for
+/// reinforced insulation (IEC 60664-1:2020 5.1.6: 160 % of the voltage basic insulation must
+/// withstand), d_min is the pollution-degree minimum of Table F.2 (0 / 0.2 / 0.8 mm; applying it
+/// here is an assumption on the safe side) and k_alt the altitude factor of Table A.2.
+/// Assumptions: the voltage stress is at or below 30 kHz (above, see
+/// [`super::high_frequency_clearance`] as well). Valid for 0 ≤ U ≤ 50 kV after the reinforced
+/// factor (the 0.04 kV row covers lower voltages); above is an error.
+/// Reference: IEC 60664-1:2020 steady-state clearance table (Table F.7a in the 2007 edition),
+/// 5.1.6, Table A.2; IEC 62368-1:2018 5.4.2.2 procedure 1 (values recalled from memory).
+pub fn clearance_for_working_voltage(spec: &WorkingClearanceSpec) -> Result<Clearance> {
+    let peak = non_negative("working_voltage_peak", spec.working_voltage_peak)?;
+    let alt = altitude_correction(spec.altitude)?;
+    let (u, mut rule, multiplier) = match spec.grade {
+        InsulationGrade::Reinforced => (
+            1.6 * peak.value,
+            format!(
+                "reinforced: dimensioned for 160 % of the peak working voltage, {} V (IEC 60664-1:2020 5.1.6)",
+                format_number(1.6 * peak.value)
+            ),
+            1.0,
+        ),
+        InsulationGrade::Double => (
+            peak.value,
+            "double: basic plus supplementary, each dimensioned as basic; the sum is shown".to_string(),
+            2.0,
+        ),
+        g => (
+            peak.value,
+            format!("{g}: dimensioned for the peak working voltage"),
+            1.0,
+        ),
+    };
+    let kv = u / 1000.0;
+    let (row, case_a, case_b) = *STEADY_STATE_CLEARANCE
+        .iter()
+        .find(|r| kv <= r.0 * (1.0 + 1e-9))
+        .ok_or_else(|| {
+            Error::out_of_range(format!(
+                "`working_voltage_peak` = {} needs the {} V row, above the last row (50 kV) of {}",
+                Quantity::from_typed(peak),
+                format_number(u),
+                STEADY_STATE_CLEARANCE_SOURCE.cite()
+            ))
+        })?;
+    let table_mm = match spec.field {
+        FieldCase::Inhomogeneous => case_a,
+        FieldCase::Homogeneous => case_b,
+    };
+    let floor_mm = POLLUTION_MINIMUM_CLEARANCE[spec.pollution_degree.index()];
+    if floor_mm > table_mm {
+        rule.push_str(&format!(
+            "; raised to the {} minimum of {} mm ({})",
+            spec.pollution_degree,
+            format_number(floor_mm),
+            POLLUTION_MINIMUM_SOURCE.cite()
+        ));
+    }
+    let base = table_mm.max(floor_mm) * 1e-3 * multiplier;
+    rule.push_str(&format!(
+        "; table steps up to the next row; × altitude factor {} ({})",
+        format_number(alt.factor),
+        alt.table_row
+    ));
+    Ok(Clearance {
+        clearance: si(base * alt.factor),
+        clearance_up_to_2000m: si(base),
+        withstand_voltage_peak: si(u),
+        altitude_factor: alt.factor,
+        rule,
+        table_row: format!(
+            "{} kV peak row, {} field",
+            format_number(row),
+            spec.field.as_str()
+        ),
+        source: format!(
+            "{}; IEC 62368-1:2018 5.4.2.2 procedure 1; altitude {}",
+            STEADY_STATE_CLEARANCE_SOURCE.cite(),
+            alt.source
+        ),
     })
 }
 
@@ -200,6 +306,61 @@ mod tests {
         assert!((c.withstand_voltage_peak.value - 3520.0).abs() < 1e-9);
         assert!((c.clearance.value - 3.0e-3).abs() < 1e-12);
         assert!(clearance_distance(&spec(12.0, InsulationGrade::Reinforced)).is_err());
-        assert!(clearance_distance(&spec(12.5, InsulationGrade::Basic)).is_err());
+        // rows above 12 kV: 15 kV row, 18 mm
+        let c = clearance_distance(&spec(12.5, InsulationGrade::Basic)).unwrap();
+        assert!((c.clearance.value - 18.0e-3).abs() < 1e-12);
+        assert!(clearance_distance(&spec(100.5, InsulationGrade::Basic)).is_err());
+    }
+
+    fn working(kv: f64, grade: InsulationGrade, pd: PollutionDegree) -> WorkingClearanceSpec {
+        WorkingClearanceSpec {
+            working_voltage_peak: si(kv * 1000.0),
+            field: FieldCase::Inhomogeneous,
+            pollution_degree: pd,
+            grade,
+            altitude: si(0.0),
+        }
+    }
+
+    #[test]
+    fn working_voltage_steps_up_with_floor_and_160_percent() {
+        // IEC 60664-1:2020 steady-state clearance table, case A (value recalled from memory)
+        let c = clearance_for_working_voltage(&working(
+            0.9,
+            InsulationGrade::Basic,
+            PollutionDegree::One,
+        ))
+        .unwrap();
+        assert!(
+            (c.clearance.value - 0.26e-3).abs() < 1e-12,
+            "steps up to the 1.0 kV row"
+        );
+        let c = clearance_for_working_voltage(&working(
+            0.5,
+            InsulationGrade::Basic,
+            PollutionDegree::Two,
+        ))
+        .unwrap();
+        assert!((c.clearance.value - 0.2e-3).abs() < 1e-12, "PD2 floor");
+        // reinforced: 1.6 × 0.9 kV = 1.44 kV → 1.5 kV row, 0.76 mm
+        let c = clearance_for_working_voltage(&working(
+            0.9,
+            InsulationGrade::Reinforced,
+            PollutionDegree::Two,
+        ))
+        .unwrap();
+        assert!((c.clearance.value - 0.76e-3).abs() < 1e-12);
+        assert!(clearance_for_working_voltage(&working(
+            50.1,
+            InsulationGrade::Basic,
+            PollutionDegree::Two
+        ))
+        .is_err());
+        assert!(clearance_for_working_voltage(&working(
+            -0.1,
+            InsulationGrade::Basic,
+            PollutionDegree::Two
+        ))
+        .is_err());
     }
 }

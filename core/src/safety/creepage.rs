@@ -4,7 +4,8 @@
 
 use super::classes::{InsulationGrade, MaterialGroup, PollutionDegree};
 use super::tables::{
-    CREEPAGE, CREEPAGE_SOURCE, GROOVE_REDUCTION_BELOW_CLEARANCE, GROOVE_SOURCE, GROOVE_WIDTH,
+    CREEPAGE, CREEPAGE_ROUNDING_SOURCE, CREEPAGE_ROUNDING_STEP_MM, CREEPAGE_SOURCE,
+    GROOVE_REDUCTION_BELOW_CLEARANCE, GROOVE_SOURCE, GROOVE_WIDTH,
 };
 use crate::error::{Error, Result};
 use crate::report::{Field, Record};
@@ -27,6 +28,9 @@ pub struct CreepageSpec {
     pub printed_board: bool,
     /// The clearance required across the same path, if known: creepage is never less.
     pub minimum_clearance: Option<Length>,
+    /// Round an interpolated basic value up to the next 0.1 mm, as IEC 62368-1:2018 Table 17's
+    /// note asks (IEC 60664-1:2020 interpolates without rounding).
+    pub round_interpolated: bool,
 }
 
 /// A required creepage distance and how it was found.
@@ -123,12 +127,26 @@ fn table_f5(v: f64, col: usize) -> Result<(f64, bool, String)> {
     ))
 }
 
+/// `x` rounded up to the next multiple of `step`; a value within 1e-9 of a step of a multiple
+/// stays on it.
+fn round_up_to_step(x: f64, step: f64) -> f64 {
+    let n = x / step;
+    let k = n.round();
+    if (n - k).abs() <= 1e-9 {
+        k * step
+    } else {
+        n.ceil() * step
+    }
+}
+
 /// Required creepage distance for a grade of insulation.
 ///
 /// Rule: the basic value comes from Table F.5 for the RMS working voltage, pollution degree and
 /// material group; on printed-wiring material the printed-wiring columns apply for PD1 (all
 /// groups) and PD2 (all groups except IIIb), otherwise the general columns. Between rows the
-/// value is interpolated linearly, as the table's note permits (not rounded). Functional and
+/// value is interpolated linearly, as the table's note permits; with `round_interpolated` the
+/// interpolated basic value is rounded up to the next 0.1 mm (IEC 62368-1:2018 Table 17 note;
+/// value recalled from memory), otherwise it is not rounded (IEC 60664-1:2020). Functional and
 /// supplementary insulation use the basic value; reinforced and double insulation twice it
 /// (IEC 60664-1:2020 5.2.5). A creepage distance is never less than the required clearance
 /// across the same path (5.2.2). Valid for 10 … 1000 V RMS; outside is an error.
@@ -138,7 +156,19 @@ fn table_f5(v: f64, col: usize) -> Result<(f64, bool, String)> {
 pub fn creepage_distance(spec: &CreepageSpec) -> Result<Creepage> {
     let v = non_negative("working_voltage", spec.working_voltage_rms)?.value;
     let (col, col_text) = column(spec);
-    let (mm, interpolated, row_text) = table_f5(v, col)?;
+    let (mm, interpolated, mut row_text) = table_f5(v, col)?;
+    let mm = if interpolated && spec.round_interpolated {
+        let r = round_up_to_step(mm, CREEPAGE_ROUNDING_STEP_MM);
+        row_text.push_str(&format!(
+            " ({} mm), rounded up to the next {} mm ({})",
+            format_number(mm),
+            format_number(CREEPAGE_ROUNDING_STEP_MM),
+            CREEPAGE_ROUNDING_SOURCE.cite()
+        ));
+        r
+    } else {
+        mm
+    };
     let basic = mm * 1e-3;
     let (mut value, mut rule) = if spec.grade.is_double_strength() {
         (
@@ -260,6 +290,7 @@ mod tests {
             grade,
             printed_board: board,
             minimum_clearance: None,
+            round_interpolated: false,
         }
     }
 

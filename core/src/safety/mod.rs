@@ -18,6 +18,7 @@
 //!     grade: InsulationGrade::Reinforced,
 //!     printed_board: false,
 //!     minimum_clearance: None,
+//!     round_interpolated: false,
 //! }).unwrap();
 //! assert!((c.creepage.value - 5.0e-3).abs() < 1e-12);
 //! ```
@@ -28,13 +29,14 @@ mod classes;
 mod clearance;
 mod creepage;
 mod from_flyback;
+mod high_frequency;
 mod impulse;
 mod report;
 pub mod tables;
 mod transformer;
 mod working_voltage;
 
-pub use barrier::{barrier_requirements, BarrierRequirement, BarrierSpec, HIGH_FREQUENCY_LIMIT_HZ};
+pub use barrier::{barrier_requirements, BarrierRequirement, BarrierSpec};
 pub use capacitors::{
     largest_y_capacitance, safety_capacitor_class, x_discharge_resistor, y_capacitor_touch_current,
     DischargeResistor, DischargeSpec, SafetyCapacitorClass, YCapacitanceLimit,
@@ -42,12 +44,17 @@ pub use capacitors::{
 pub use classes::{
     Barrier, FieldCase, InsulationGrade, MaterialGroup, OvervoltageCategory, PollutionDegree,
 };
-pub use clearance::{clearance_distance, reinforced_withstand_voltage, Clearance, ClearanceSpec};
+pub use clearance::{
+    clearance_distance, clearance_for_working_voltage, reinforced_withstand_voltage, Clearance,
+    ClearanceSpec, WorkingClearanceSpec,
+};
 pub use creepage::{creepage_distance, minimum_groove_width, Creepage, CreepageSpec, GrooveWidth};
 pub use from_flyback::{flyback_design_working_voltage, primary_swing_peak};
+pub use high_frequency::{high_frequency_clearance, high_frequency_creepage, HighFrequencySpec};
 pub use impulse::{altitude_correction, rated_impulse_voltage, AltitudeCorrection, RatedImpulse};
 pub use report::{
     barrier_checks, isolation_report, isolation_table, ProvidedInsulation, ISOLATION_WARN_MARGIN,
 };
+pub use tables::HIGH_FREQUENCY_LIMIT_HZ;
 pub use transformer::{transformer_insulation, TransformerInsulation, WindingConstruction};
 pub use working_voltage::{flyback_working_voltage, BarrierWorkingVoltage, FlybackBarrierSpec};

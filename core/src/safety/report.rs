@@ -172,11 +172,12 @@ pub fn isolation_report(rows: &[(BarrierRequirement, ProvidedInsulation)]) -> Re
     s.push_str(&isolation_table(rows)?.to_text());
     for (r, _) in rows {
         s.push_str(&format!(
-            "\n{} ({}):\n  impulse: {}\n  clearance: {}\n  creepage: {}\n  creepage on the printed board: {}\n  solid insulation: {}\n  test voltage: {}\n  not covered: {}\n",
+            "\n{} ({}):\n  impulse: {}\n  clearance: {}\n  clearance, each procedure: {}\n  creepage: {}\n  creepage on the printed board: {}\n  solid insulation: {}\n  test voltage: {}\n  not covered: {}\n",
             r.barrier.as_str(),
             r.grade,
             r.impulse_rule,
             r.clearance_rule,
+            r.clearance_components_rule,
             r.creepage_rule,
             r.creepage_printed_board_rule,
             r.solid_insulation_rule,

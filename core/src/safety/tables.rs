@@ -74,8 +74,9 @@ pub const CLEARANCE_SOURCE: TableSource = TableSource {
 
 /// Rows of Table F.2: required impulse withstand voltage (kV peak), then the minimum clearance
 /// in mm for case A (inhomogeneous field) at pollution degree 1, 2, 3 and case B (homogeneous
-/// field) at pollution degree 1, 2, 3. Rows above 12 kV are not in gapwise's data.
-pub const CLEARANCE: [(f64, [f64; 3], [f64; 3]); 17] = [
+/// field) at pollution degree 1, 2, 3. Above 12 kV every pollution degree has the same value.
+/// Rows above 100 kV are not in gapwise's data.
+pub const CLEARANCE: [(f64, [f64; 3], [f64; 3]); 26] = [
     (0.33, [0.01, 0.2, 0.8], [0.01, 0.2, 0.8]),
     (0.40, [0.02, 0.2, 0.8], [0.02, 0.2, 0.8]),
     (0.50, [0.04, 0.2, 0.8], [0.04, 0.2, 0.8]),
@@ -93,7 +94,147 @@ pub const CLEARANCE: [(f64, [f64; 3], [f64; 3]); 17] = [
     (8.0, [8.0, 8.0, 8.0], [3.0, 3.0, 3.0]),
     (10.0, [11.0, 11.0, 11.0], [3.5, 3.5, 3.5]),
     (12.0, [14.0, 14.0, 14.0], [4.5, 4.5, 4.5]),
+    (15.0, [18.0, 18.0, 18.0], [5.5, 5.5, 5.5]),
+    (20.0, [25.0, 25.0, 25.0], [8.0, 8.0, 8.0]),
+    (25.0, [33.0, 33.0, 33.0], [10.0, 10.0, 10.0]),
+    (30.0, [40.0, 40.0, 40.0], [12.5, 12.5, 12.5]),
+    (40.0, [60.0, 60.0, 60.0], [17.0, 17.0, 17.0]),
+    (50.0, [75.0, 75.0, 75.0], [22.0, 22.0, 22.0]),
+    (60.0, [90.0, 90.0, 90.0], [27.0, 27.0, 27.0]),
+    (80.0, [130.0, 130.0, 130.0], [35.0, 35.0, 35.0]),
+    (100.0, [170.0, 170.0, 170.0], [45.0, 45.0, 45.0]),
 ];
+
+// ---------------------------------------------------------------------------------------------
+// IEC 60664-1:2020 — clearances to withstand steady-state voltages, temporary overvoltages or
+// recurring peak voltages (Table F.7a in the 2007 edition). IEC 62368-1:2018 procedure 1
+// (5.4.2.2) dimensions clearance from the peak working voltage in the same way.
+
+/// Source of [`STEADY_STATE_CLEARANCE`].
+pub const STEADY_STATE_CLEARANCE_SOURCE: TableSource = TableSource {
+    standard: IEC_60664_1,
+    table: "clearances for steady-state voltages, temporary overvoltages or recurring peak voltages (Table F.7a in the 2007 edition; table number recalled from memory)",
+    provenance: RECALLED,
+};
+
+/// Rows of the steady-state clearance table: peak voltage up to and including (kV), then the
+/// minimum clearance in mm for case A (inhomogeneous field) and case B (homogeneous field), at
+/// pollution degree 1. The pollution-degree minimum clearances (0.2 mm at PD2, 0.8 mm at PD3,
+/// [`POLLUTION_MINIMUM_CLEARANCE`]) apply on top. Rows above 50 kV are not in gapwise's data.
+pub const STEADY_STATE_CLEARANCE: [(f64, f64, f64); 30] = [
+    (0.04, 0.001, 0.001),
+    (0.06, 0.002, 0.002),
+    (0.1, 0.003, 0.003),
+    (0.12, 0.004, 0.004),
+    (0.15, 0.005, 0.005),
+    (0.2, 0.006, 0.006),
+    (0.25, 0.008, 0.008),
+    (0.33, 0.01, 0.01),
+    (0.4, 0.02, 0.02),
+    (0.5, 0.04, 0.04),
+    (0.6, 0.06, 0.06),
+    (0.8, 0.13, 0.1),
+    (1.0, 0.26, 0.15),
+    (1.2, 0.42, 0.2),
+    (1.5, 0.76, 0.3),
+    (2.0, 1.27, 0.45),
+    (2.5, 1.8, 0.6),
+    (3.0, 2.4, 0.8),
+    (4.0, 3.8, 1.2),
+    (5.0, 5.7, 1.5),
+    (6.0, 7.9, 2.0),
+    (8.0, 11.0, 3.0),
+    (10.0, 15.2, 3.5),
+    (12.0, 19.0, 4.5),
+    (15.0, 25.0, 5.5),
+    (20.0, 34.0, 8.0),
+    (25.0, 44.0, 10.0),
+    (30.0, 55.0, 12.5),
+    (40.0, 77.0, 17.0),
+    (50.0, 100.0, 22.0),
+];
+
+/// Source of [`POLLUTION_MINIMUM_CLEARANCE`].
+pub const POLLUTION_MINIMUM_SOURCE: TableSource = TableSource {
+    standard: IEC_60664_1,
+    table: "Table F.2, the pollution-degree minimum clearances",
+    provenance: RECALLED,
+};
+
+/// Smallest clearance at pollution degree 1, 2, 3 (mm), whatever the voltage: the minimum that
+/// Table F.2 carries in its PD2 and PD3 columns. gapwise applies it to the steady-state and
+/// high-frequency clearances too (an assumption on the safe side: common practice, no
+/// published source).
+pub const POLLUTION_MINIMUM_CLEARANCE: [f64; 3] = [0.0, 0.2, 0.8];
+
+// ---------------------------------------------------------------------------------------------
+// Working voltages above 30 kHz: IEC 62368-1:2018 takes clearance (5.4.2.2, Table 11) and
+// creepage (5.4.3, Table 18) for them from IEC 60664-4:2005 (Tables 1 and 2).
+
+/// The frequency above which the high-frequency tables apply (Hz).
+pub const HIGH_FREQUENCY_LIMIT_HZ: f64 = 30e3;
+
+/// The IEC standard on insulation coordination for high-frequency voltage stress.
+pub const IEC_60664_4: &str = "IEC 60664-4:2005";
+
+/// Source of [`HIGH_FREQUENCY_CLEARANCE`].
+pub const HIGH_FREQUENCY_CLEARANCE_SOURCE: TableSource = TableSource {
+    standard: IEC_62368_1,
+    table: "5.4.2.2, Table 11, clearances for working voltages above 30 kHz (from IEC 60664-4:2005 Table 1)",
+    provenance: RECALLED,
+};
+
+/// Rows of the high-frequency clearance table, inhomogeneous field: peak working voltage up to
+/// and including (kV), basic or supplementary clearance (mm). Reinforced is twice basic. Where
+/// the authors' recollections of a value differed, the larger was typed. Rows above 1.0 kV are
+/// not in gapwise's data (a 5–75 W flyback barrier stays well below).
+pub const HIGH_FREQUENCY_CLEARANCE: [(f64, f64); 3] = [(0.6, 0.07), (0.8, 0.25), (1.0, 0.7)];
+
+/// The highest frequency IEC 60664-4:2005 covers (Hz; value recalled from memory).
+pub const HIGH_FREQUENCY_UP_TO_HZ: f64 = 10e6;
+
+/// Source of [`HIGH_FREQUENCY_CREEPAGE`] and [`HIGH_FREQUENCY_CREEPAGE_POLLUTION_FACTOR`].
+pub const HIGH_FREQUENCY_CREEPAGE_SOURCE: TableSource = TableSource {
+    standard: IEC_62368_1,
+    table: "5.4.3, Table 18, creepage for working voltages above 30 kHz (from IEC 60664-4:2005 Table 2), 30 kHz < f ≤ 100 kHz column",
+    provenance: RECALLED,
+};
+
+/// The highest frequency of the high-frequency creepage column gapwise carries (Hz); the
+/// columns for higher frequencies are not in gapwise's data.
+pub const HIGH_FREQUENCY_CREEPAGE_UP_TO_HZ: f64 = 100e3;
+
+/// Rows of the high-frequency creepage table, 30 kHz < f ≤ 100 kHz, pollution degree 1: peak
+/// working voltage up to and including (kV), basic creepage (mm), independent of the material
+/// group. Reinforced is twice basic. Rows above 1.0 kV are not in gapwise's data.
+pub const HIGH_FREQUENCY_CREEPAGE: [(f64, f64); 10] = [
+    (0.1, 0.0167),
+    (0.2, 0.042),
+    (0.3, 0.083),
+    (0.4, 0.125),
+    (0.5, 0.183),
+    (0.6, 0.267),
+    (0.7, 0.358),
+    (0.8, 0.45),
+    (0.9, 0.525),
+    (1.0, 0.6),
+];
+
+/// Multiplier of the high-frequency creepage for pollution degree 1, 2, 3.
+pub const HIGH_FREQUENCY_CREEPAGE_POLLUTION_FACTOR: [f64; 3] = [1.0, 1.2, 1.4];
+
+// ---------------------------------------------------------------------------------------------
+// IEC 62368-1:2018 Table 17 (creepage): interpolation and rounding.
+
+/// Source of [`CREEPAGE_ROUNDING_STEP_MM`].
+pub const CREEPAGE_ROUNDING_SOURCE: TableSource = TableSource {
+    standard: IEC_62368_1,
+    table: "Table 17, note on interpolation",
+    provenance: RECALLED,
+};
+
+/// An interpolated creepage distance is rounded up to the next multiple of this step (mm).
+pub const CREEPAGE_ROUNDING_STEP_MM: f64 = 0.1;
 
 // ---------------------------------------------------------------------------------------------
 // IEC 60664-1:2020 Table F.5 (Table F.4 in the 2007 edition) — creepage distances to avoid

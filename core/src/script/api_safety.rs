@@ -13,8 +13,9 @@ use crate::error::{Error, Result};
 use crate::report::Table;
 use crate::safety::{
     self, Barrier, BarrierRequirement, BarrierSpec, ClearanceSpec, CreepageSpec, DischargeSpec,
-    FieldCase, FlybackBarrierSpec, InsulationGrade, MaterialGroup, OvervoltageCategory,
-    PollutionDegree, ProvidedInsulation, WindingConstruction,
+    FieldCase, FlybackBarrierSpec, HighFrequencySpec, InsulationGrade, MaterialGroup,
+    OvervoltageCategory, PollutionDegree, ProvidedInsulation, WindingConstruction,
+    WorkingClearanceSpec,
 };
 use crate::units::{ElectricPotential, Length};
 use rhai::{Array, Dynamic, ImmutableString, Map};
@@ -145,9 +146,58 @@ static CREEPAGE: FunctionDoc = FunctionDoc {
         INSULATION,
         ParamDoc::with_default("printed_board", ParamKind::Flag, "false", "true for a path on printed-wiring material"),
         ParamDoc::optional("minimum_clearance", ParamKind::Quantity("m"), "required clearance across the same path"),
+        ParamDoc::with_default("round_interpolated", ParamKind::Flag, "false", "true: round an interpolated value up to the next 0.1 mm (IEC 62368-1:2018 Table 17 note)"),
     ],
     returns: "record: creepage, basic_creepage, interpolated, set_by_clearance, rule, table_row, source",
     example: "creepage_distance(#{working_voltage: 250 * V, pollution_degree: 2, material_group: \"IIIb\", insulation: \"reinforced\"})",
+};
+static WORKING_CLEARANCE: FunctionDoc = FunctionDoc {
+    name: "clearance_for_working_voltage",
+    domain: Domain::Safety,
+    summary: "Clearance for the peak working voltage up to 30 kHz (IEC 62368-1:2018 procedure 1; IEC 60664-1:2020 steady-state table, steps up; reinforced for 160 %; pollution minimum; × altitude factor).",
+    params: &[ParamDoc::required("spec", ParamKind::Map, "see keys")],
+    keys: &[
+        ParamDoc::required("working_voltage_peak", ParamKind::Quantity("V"), "peak working voltage across the clearance, 0 … 50 kV (after the reinforced 160 %)"),
+        POLLUTION,
+        INSULATION,
+        FIELD,
+        ALTITUDE,
+    ],
+    returns: "record: clearance, clearance_up_to_2000m, withstand_voltage_peak, altitude_factor, rule, table_row, source",
+    example: "clearance_for_working_voltage(#{working_voltage_peak: 600 * V, insulation: \"reinforced\", altitude: 3000 * m})",
+};
+const HIGH_FREQUENCY_KEYS: &[ParamDoc] = &[
+    ParamDoc::required(
+        "working_voltage_peak",
+        ParamKind::Quantity("V"),
+        "peak working voltage across the path, 0 … 1 kV",
+    ),
+    ParamDoc::required(
+        "frequency",
+        ParamKind::Quantity("Hz"),
+        "frequency of the working voltage, above 30 kHz",
+    ),
+    POLLUTION,
+    INSULATION,
+    ALTITUDE,
+];
+static HF_CLEARANCE: FunctionDoc = FunctionDoc {
+    name: "high_frequency_clearance",
+    domain: Domain::Safety,
+    summary: "Clearance for a working voltage above 30 kHz (IEC 62368-1:2018 Table 11 from IEC 60664-4:2005; steps up; reinforced twice basic; × altitude factor), 30 kHz < f ≤ 10 MHz.",
+    params: &[ParamDoc::required("spec", ParamKind::Map, "see keys")],
+    keys: HIGH_FREQUENCY_KEYS,
+    returns: "record: clearance, clearance_up_to_2000m, withstand_voltage_peak, altitude_factor, rule, table_row, source",
+    example: "high_frequency_clearance(#{working_voltage_peak: 600 * V, frequency: 65 * kHz, insulation: \"reinforced\"})",
+};
+static HF_CREEPAGE: FunctionDoc = FunctionDoc {
+    name: "high_frequency_creepage",
+    domain: Domain::Safety,
+    summary: "Creepage for a working voltage above 30 kHz up to 100 kHz (IEC 62368-1:2018 Table 18 from IEC 60664-4:2005; steps up; ×1.2 at PD2, ×1.4 at PD3; reinforced twice basic).",
+    params: &[ParamDoc::required("spec", ParamKind::Map, "see keys")],
+    keys: HIGH_FREQUENCY_KEYS,
+    returns: "record: creepage, basic_creepage, interpolated, set_by_clearance, rule, table_row, source",
+    example: "high_frequency_creepage(#{working_voltage_peak: 600 * V, frequency: 65 * kHz, insulation: \"reinforced\"})",
 };
 static ALT: FunctionDoc = FunctionDoc {
     name: "altitude_correction",
@@ -189,7 +239,7 @@ static BARRIER: FunctionDoc = FunctionDoc {
     summary: "Clearance, creepage (product and printed board), solid and thin-sheet insulation and test voltage of a barrier, each with its rule and table row.",
     params: &[ParamDoc::required("spec", ParamKind::Map, "see keys")],
     keys: barrier_keys!(),
-    returns: "record: barrier, grade, impulse_voltage_peak, clearance, creepage, creepage_printed_board, distance_through_insulation, thin_sheet_layers_*, test_voltage_peak, test_voltage_rms, *_rule, not_covered",
+    returns: "record: barrier, grade, impulse_voltage_peak, clearance, clearance_for_transients, clearance_for_working_voltage, clearance_for_high_frequency, creepage, creepage_printed_board, creepage_for_high_frequency, distance_through_insulation, thin_sheet_layers_*, test_voltage_peak, test_voltage_rms, *_rule, not_covered",
     example: "barrier_requirements(#{barrier: \"primary_secondary\", insulation: \"reinforced\", altitude: 3000 * m, working_voltage_peak: 600 * V, working_voltage_rms: 300 * V, working_frequency: 65 * kHz})",
 };
 static CHECKS: FunctionDoc = FunctionDoc {
@@ -289,6 +339,17 @@ static TRANSFORMER: FunctionDoc = FunctionDoc {
 
 fn pollution(s: &Spec) -> Result<PollutionDegree> {
     PollutionDegree::from_number(s.integer("pollution_degree")?)
+}
+
+fn high_frequency_spec(doc: &'static FunctionDoc, m: &Map) -> Result<HighFrequencySpec> {
+    let s = Spec::new(doc, m)?;
+    Ok(HighFrequencySpec {
+        working_voltage_peak: s.quantity("working_voltage_peak")?,
+        frequency: s.quantity("frequency")?,
+        pollution_degree: pollution(&s)?,
+        grade: InsulationGrade::parse(&s.text("insulation")?)?,
+        altitude: s.quantity("altitude")?,
+    })
 }
 
 fn barrier_spec(s: &Spec) -> Result<BarrierSpec> {
@@ -401,9 +462,43 @@ pub(crate) fn register(api: &mut Api, state: &Arc<HostState>) {
                 grade: InsulationGrade::parse(&s.text("insulation")?)?,
                 printed_board: s.flag("printed_board")?,
                 minimum_clearance: s.optional_quantity("minimum_clearance")?,
+                round_interpolated: s.flag("round_interpolated")?,
             })
         })())?;
         Ok(ScriptRecord::from_record("creepage_distance", &r))
+    });
+    def!(
+        api,
+        &WORKING_CLEARANCE,
+        |m: Map| -> ScriptResult<ScriptRecord> {
+            let r = lift((|| {
+                let s = Spec::new(&WORKING_CLEARANCE, &m)?;
+                safety::clearance_for_working_voltage(&WorkingClearanceSpec {
+                    working_voltage_peak: s.quantity("working_voltage_peak")?,
+                    field: FieldCase::parse(&s.text("field")?)?,
+                    pollution_degree: pollution(&s)?,
+                    grade: InsulationGrade::parse(&s.text("insulation")?)?,
+                    altitude: s.quantity("altitude")?,
+                })
+            })())?;
+            Ok(ScriptRecord::from_record(
+                "clearance_for_working_voltage",
+                &r,
+            ))
+        }
+    );
+    def!(api, &HF_CLEARANCE, |m: Map| -> ScriptResult<ScriptRecord> {
+        let r = lift(
+            high_frequency_spec(&HF_CLEARANCE, &m)
+                .and_then(|h| safety::high_frequency_clearance(&h)),
+        )?;
+        Ok(ScriptRecord::from_record("high_frequency_clearance", &r))
+    });
+    def!(api, &HF_CREEPAGE, |m: Map| -> ScriptResult<ScriptRecord> {
+        let r = lift(
+            high_frequency_spec(&HF_CREEPAGE, &m).and_then(|h| safety::high_frequency_creepage(&h)),
+        )?;
+        Ok(ScriptRecord::from_record("high_frequency_creepage", &r))
     });
     def!(api, &ALT, |h: Dynamic| -> ScriptResult<ScriptRecord> {
         let h = lift(dynamic_to_typed(&h, "altitude"))?;
