@@ -179,6 +179,39 @@ fn transformer(host: &ScriptHost) {
     });
 }
 
+fn isolation(host: &ScriptHost) {
+    println!("-- requirements of one isolation barrier (every rule, table and procedure)");
+    use gapwise::safety::{
+        barrier_requirements, Barrier, BarrierSpec, FieldCase, InsulationGrade, MaterialGroup,
+        OvervoltageCategory, PollutionDegree,
+    };
+    use gapwise::units::si;
+    let spec = BarrierSpec {
+        barrier: Barrier::PrimarySecondary,
+        grade: InsulationGrade::Reinforced,
+        mains_voltage: si(230.0),
+        overvoltage_category: OvervoltageCategory::II,
+        pollution_degree: PollutionDegree::Two,
+        material_group: MaterialGroup::IIIb,
+        altitude: si(3000.0),
+        field: FieldCase::Inhomogeneous,
+        working_voltage_peak: si(600.0),
+        working_voltage_rms: si(450.0),
+        working_frequency: si(65e3),
+        impulse_voltage: None,
+    };
+    time_per_iteration("native barrier_requirements, reinforced, 65 kHz", 1, || {
+        drop(black_box(
+            barrier_requirements(black_box(&spec)).expect("requirements"),
+        ));
+    });
+    let source = "barrier_requirements(#{barrier: \"primary_secondary\", insulation: \"reinforced\", altitude: 3000 * m, working_voltage_peak: 600 * V, working_voltage_rms: 450 * V, working_frequency: 65 * kHz})";
+    let ast = compile(host, source);
+    time_per_iteration("script barrier_requirements, the same barrier", 1, || {
+        run(host, &ast, source)
+    });
+}
+
 fn main() {
     // `cargo test --benches` passes --bench-less flags; only time under `cargo bench`.
     if std::env::args().any(|a| a == "--list") {
@@ -193,4 +226,5 @@ fn main() {
     family(&host);
     flyback(&host);
     transformer(&host);
+    isolation(&host);
 }
