@@ -13,10 +13,11 @@ use super::creepage::{creepage_distance, CreepageSpec};
 use super::high_frequency::{high_frequency_clearance, high_frequency_creepage, HighFrequencySpec};
 use super::impulse::rated_impulse_voltage;
 use super::tables::{
-    CREEPAGE, HIGH_FREQUENCY_CREEPAGE_UP_TO_HZ, HIGH_FREQUENCY_LIMIT_HZ,
-    SOLID_INSULATION_ABOVE_PEAK, SOLID_INSULATION_MINIMUM, SOLID_INSULATION_SOURCE,
-    TEST_VOLTAGE_TEMPORARY, TEST_VOLTAGE_TEMPORARY_SOURCE, TEST_VOLTAGE_TRANSIENT,
-    TEST_VOLTAGE_TRANSIENT_SOURCE, THIN_SHEET_LAYERS,
+    CREEPAGE, HIGH_FREQUENCY_CLEARANCE_SOURCE, HIGH_FREQUENCY_CREEPAGE_UP_TO_HZ,
+    HIGH_FREQUENCY_LIMIT_HZ, HIGH_FREQUENCY_UP_TO_HZ, SOLID_INSULATION_ABOVE_PEAK,
+    SOLID_INSULATION_MINIMUM, SOLID_INSULATION_SOURCE, TEST_VOLTAGE_TEMPORARY,
+    TEST_VOLTAGE_TEMPORARY_SOURCE, TEST_VOLTAGE_TRANSIENT, TEST_VOLTAGE_TRANSIENT_SOURCE,
+    THIN_SHEET_LAYERS,
 };
 use crate::error::{Error, Result};
 use crate::report::{Field, Record};
@@ -189,7 +190,7 @@ fn test_voltage(spec: &BarrierSpec, impulse: f64) -> Result<(f64, String)> {
 ///    [`super::high_frequency_clearance`]; each × the altitude factor of Table A.2.
 /// 3. Creepage: [`super::creepage_distance`] at the RMS working voltage, in the product and on
 ///    printed wiring, an interpolated value rounded up to the next 0.1 mm (IEC 62368-1:2018
-///    Table 17 note); above 30 kHz (up to 100 kHz) at least [`super::high_frequency_creepage`]
+///    Table 17 note) but never above the upper row's value; above 30 kHz (up to 100 kHz) at least [`super::high_frequency_creepage`]
 ///    at the peak working voltage; never less than the clearance. Below 10 V RMS the 10 V row
 ///    is used (common practice, no published source).
 /// 4. Solid insulation: at least 0.4 mm through supplementary, reinforced or double insulation
@@ -258,6 +259,14 @@ pub fn barrier_requirements(spec: &BarrierSpec) -> Result<BarrierRequirement> {
         altitude: spec.altitude,
     };
     let above_30k = f.value > HIGH_FREQUENCY_LIMIT_HZ;
+    if f.value > HIGH_FREQUENCY_UP_TO_HZ * (1.0 + 1e-12) {
+        return Err(Error::out_of_range(format!(
+            "`working_frequency` = {} is above the {} up to which the high-frequency clearance rules hold ({})",
+            Quantity::from_typed(f),
+            Quantity::from_typed(si::<Frequency>(HIGH_FREQUENCY_UP_TO_HZ)),
+            HIGH_FREQUENCY_CLEARANCE_SOURCE.cite()
+        )));
+    }
     let hf_clearance = if above_30k {
         Some(high_frequency_clearance(&high_frequency)?)
     } else {
@@ -373,6 +382,13 @@ pub fn barrier_requirements(spec: &BarrierSpec) -> Result<BarrierRequirement> {
             format!(
                 "{rule}; the creepage for the working voltage above 30 kHz ({}) is not higher",
                 Quantity::from_typed(h.creepage)
+            ),
+        ),
+        None if above_30k => (
+            value,
+            format!(
+                "{rule}; NOT INCLUDED: the creepage for the working voltage at {} (above the 100 kHz of gapwise's high-frequency data; check IEC 62368-1:2018 Table 18 separately)",
+                Quantity::from_typed(f)
             ),
         ),
         None => (value, rule),

@@ -14,6 +14,18 @@ use crate::units::{
 };
 use std::f64::consts::{PI, SQRT_2};
 
+/// A computed result must be a positive, finite number: inputs at the ends of the f64 range can
+/// overflow to infinity or underflow to zero, and both are refused naming the inputs.
+fn sane_result(what: &str, unit: &str, value: f64, inputs: &str) -> Result<f64> {
+    if value.is_finite() && value > 0.0 {
+        Ok(value)
+    } else {
+        Err(Error::out_of_range(format!(
+            "the {what} ({unit}) comes out as {value}, not a positive finite number: check {inputs} for values at the ends of the number range"
+        )))
+    }
+}
+
 /// A subclass of safety capacitor and where it may be used.
 #[derive(Clone, Debug, PartialEq)]
 pub struct SafetyCapacitorClass {
@@ -99,7 +111,12 @@ pub fn y_capacitor_touch_current(
     let c = positive("y_capacitance", y_capacitance)?.value;
     let v = positive("mains_voltage", mains_voltage)?.value;
     let f = positive("mains_frequency", mains_frequency)?.value;
-    Ok(si(2.0 * PI * f * c * v))
+    Ok(si(sane_result(
+        "touch current",
+        "A",
+        2.0 * PI * f * c * v,
+        "`y_capacitance` (F), `mains_voltage` (V) and `mains_frequency` (Hz)",
+    )?))
 }
 
 /// Largest total Y capacitance from primary to the touchable secondary (class II) so that the
@@ -118,7 +135,12 @@ pub fn largest_y_capacitance(
     let i = positive("touch_current_limit", touch_current_limit)?.value;
     let v = positive("mains_voltage", mains_voltage)?.value;
     let f = positive("mains_frequency", mains_frequency)?.value;
-    let c = i / (2.0 * PI * f * v);
+    let c = sane_result(
+        "largest Y capacitance",
+        "F",
+        i / (2.0 * PI * f * v),
+        "`touch_current_limit` (A), `mains_voltage` (V) and `mains_frequency` (Hz)",
+    )?;
     Ok(YCapacitanceLimit {
         capacitance: si(c),
         touch_current_limit_rms: touch_current_limit,
@@ -189,7 +211,15 @@ pub fn x_discharge_resistor(spec: &DischargeSpec) -> Result<DischargeResistor> {
             Quantity::from_typed(spec.residual_voltage_limit)
         )));
     }
-    let r = t / (c * (peak / lim).ln());
+    let inputs = "`x_capacitance` (F), `mains_voltage` (V), `discharge_time` (s) and `residual_voltage_limit` (V)";
+    let r = sane_result(
+        "discharge resistance",
+        "Ω",
+        t / (c * (peak / lim).ln()),
+        inputs,
+    )?;
+    sane_result("standby loss", "W", v * v / r, inputs)?;
+    sane_result("time constant", "s", r * c, inputs)?;
     Ok(DischargeResistor {
         resistance: si(r),
         time_constant: si(r * c),

@@ -29,7 +29,8 @@ pub struct CreepageSpec {
     /// The clearance required across the same path, if known: creepage is never less.
     pub minimum_clearance: Option<Length>,
     /// Round an interpolated basic value up to the next 0.1 mm, as IEC 62368-1:2018 Table 17's
-    /// note asks (IEC 60664-1:2020 interpolates without rounding).
+    /// note asks, capped at the upper row's value (IEC 60664-1:2020 interpolates without
+    /// rounding).
     pub round_interpolated: bool,
 }
 
@@ -93,8 +94,9 @@ fn group_column_name(g: MaterialGroup) -> &'static str {
     }
 }
 
-/// Basic creepage from the table: (mm, interpolated, row text). Out of range is an error.
-fn table_f5(v: f64, col: usize) -> Result<(f64, bool, String)> {
+/// Basic creepage from the table: (mm, the upper row's value when interpolated, row text).
+/// Out of range is an error.
+fn table_f5(v: f64, col: usize) -> Result<(f64, Option<f64>, String)> {
     let first = CREEPAGE[0].0;
     let last = CREEPAGE[CREEPAGE.len() - 1].0;
     if !(v.is_finite() && v >= first * (1.0 - 1e-12) && v <= last * (1.0 + 1e-12)) {
@@ -107,7 +109,7 @@ fn table_f5(v: f64, col: usize) -> Result<(f64, bool, String)> {
         )));
     }
     if let Some(r) = CREEPAGE.iter().find(|r| (r.0 - v).abs() <= 1e-9 * r.0) {
-        return Ok((r.1[col], false, format!("{} V row", format_number(r.0))));
+        return Ok((r.1[col], None, format!("{} V row", format_number(r.0))));
     }
     let i = CREEPAGE
         .iter()
@@ -118,7 +120,7 @@ fn table_f5(v: f64, col: usize) -> Result<(f64, bool, String)> {
     let mm = r0[col] + (r1[col] - r0[col]) * (v - v0) / (v1 - v0);
     Ok((
         mm,
-        true,
+        Some(r1[col]),
         format!(
             "interpolated linearly between the {} V and {} V rows",
             format_number(v0),
@@ -146,7 +148,10 @@ fn round_up_to_step(x: f64, step: f64) -> f64 {
 /// groups) and PD2 (all groups except IIIb), otherwise the general columns. Between rows the
 /// value is interpolated linearly, as the table's note permits; with `round_interpolated` the
 /// interpolated basic value is rounded up to the next 0.1 mm (IEC 62368-1:2018 Table 17 note;
-/// value recalled from memory), otherwise it is not rounded (IEC 60664-1:2020). Functional and
+/// value recalled from memory), but never above the value of the upper row (which the table
+/// gives a higher voltage; without this cap the rounded value at 14 V, 0.5 mm, would exceed
+/// the 16 V row's 0.45 mm: gapwise's reading, common practice, no published source);
+/// otherwise it is not rounded (IEC 60664-1:2020). Functional and
 /// supplementary insulation use the basic value; reinforced and double insulation twice it
 /// (IEC 60664-1:2020 5.2.5). A creepage distance is never less than the required clearance
 /// across the same path (5.2.2). Valid for 10 … 1000 V RMS; outside is an error.
@@ -156,18 +161,33 @@ fn round_up_to_step(x: f64, step: f64) -> f64 {
 pub fn creepage_distance(spec: &CreepageSpec) -> Result<Creepage> {
     let v = non_negative("working_voltage", spec.working_voltage_rms)?.value;
     let (col, col_text) = column(spec);
-    let (mm, interpolated, mut row_text) = table_f5(v, col)?;
-    let mm = if interpolated && spec.round_interpolated {
-        let r = round_up_to_step(mm, CREEPAGE_ROUNDING_STEP_MM);
-        row_text.push_str(&format!(
-            " ({} mm), rounded up to the next {} mm ({})",
-            format_number(mm),
-            format_number(CREEPAGE_ROUNDING_STEP_MM),
-            CREEPAGE_ROUNDING_SOURCE.cite()
-        ));
-        r
-    } else {
-        mm
+    let (mm, upper_row, mut row_text) = table_f5(v, col)?;
+    let interpolated = upper_row.is_some();
+    let mm = match upper_row {
+        Some(upper) if spec.round_interpolated => {
+            let r = round_up_to_step(mm, CREEPAGE_ROUNDING_STEP_MM);
+            if r > upper {
+                // Rounding up must not ask more than the table gives the next higher voltage:
+                // otherwise 14 V (0.433 mm → 0.5 mm) would need more than 16 V (0.45 mm).
+                row_text.push_str(&format!(
+                    " ({} mm); rounding up to the next {} mm ({}) would exceed the upper row's {} mm, so the upper row's value",
+                    format_number(mm),
+                    format_number(CREEPAGE_ROUNDING_STEP_MM),
+                    CREEPAGE_ROUNDING_SOURCE.cite(),
+                    format_number(upper)
+                ));
+                upper
+            } else {
+                row_text.push_str(&format!(
+                    " ({} mm), rounded up to the next {} mm ({})",
+                    format_number(mm),
+                    format_number(CREEPAGE_ROUNDING_STEP_MM),
+                    CREEPAGE_ROUNDING_SOURCE.cite()
+                ));
+                r
+            }
+        }
+        _ => mm,
     };
     let basic = mm * 1e-3;
     let (mut value, mut rule) = if spec.grade.is_double_strength() {

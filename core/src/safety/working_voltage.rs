@@ -70,7 +70,9 @@ pub fn flyback_working_voltage(spec: &FlybackBarrierSpec) -> Result<BarrierWorki
     let peak = vb + vr + vo + vs;
     let rms = vb.max((vb + vr) * (1.0 - d).sqrt()) + vs_rms;
     if !(peak.is_finite() && rms.is_finite()) {
-        return Err(Error::invalid("working voltage is not finite"));
+        return Err(Error::out_of_range(
+            "the working voltage (V) is not finite: `bulk_voltage_peak`, `reflected_voltage`, `clamp_overshoot` and `secondary_voltage_peak` (V) add up beyond the number range",
+        ));
     }
     Ok(BarrierWorkingVoltage {
         working_voltage_peak: si(peak),

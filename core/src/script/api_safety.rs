@@ -146,7 +146,7 @@ static CREEPAGE: FunctionDoc = FunctionDoc {
         INSULATION,
         ParamDoc::with_default("printed_board", ParamKind::Flag, "false", "true for a path on printed-wiring material"),
         ParamDoc::optional("minimum_clearance", ParamKind::Quantity("m"), "required clearance across the same path"),
-        ParamDoc::with_default("round_interpolated", ParamKind::Flag, "false", "true: round an interpolated value up to the next 0.1 mm (IEC 62368-1:2018 Table 17 note)"),
+        ParamDoc::with_default("round_interpolated", ParamKind::Flag, "false", "true: round an interpolated value up to the next 0.1 mm (IEC 62368-1:2018 Table 17 note), never above the upper row's value"),
     ],
     returns: "record: creepage, basic_creepage, interpolated, set_by_clearance, rule, table_row, source",
     example: "creepage_distance(#{working_voltage: 250 * V, pollution_degree: 2, material_group: \"IIIb\", insulation: \"reinforced\"})",
