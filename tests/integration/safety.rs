@@ -1176,3 +1176,43 @@ proptest! {
         }
     }
 }
+
+#[test]
+fn rule_texts_trace_every_value() {
+    // The worked case (IEC 60664-1:2020 Tables F.1, F.2, F.5, A.2; values recalled from
+    // memory): a reviewer reads the table value, the factor and the result in the rule texts.
+    let r = worked(3000.0, Reinforced);
+    for part in [
+        "4 kV row, inhomogeneous field, PD2: 3 mm",
+        "× altitude factor 1.14",
+    ] {
+        assert!(
+            r.clearance_rule.contains(part),
+            "{part}: {}",
+            r.clearance_rule
+        );
+    }
+    for part in [
+        "2 × 2.3 mm = 4.6 mm",
+        "between the 200 V and 250 V rows (2.3 mm, already a multiple of 0.1 mm",
+    ] {
+        assert!(
+            r.creepage_rule.contains(part),
+            "{part}: {}",
+            r.creepage_rule
+        );
+    }
+    // the secondary–earth assumption tells the engineer how to override it
+    let s = barrier_requirements(&BarrierSpec {
+        barrier: Barrier::SecondaryEarth,
+        working_voltage_peak: si(20.0),
+        working_voltage_rms: si(12.0),
+        ..worked_spec(0.0, Basic)
+    })
+    .unwrap();
+    assert!(
+        s.impulse_rule.contains("floating secondary") && s.impulse_rule.contains("impulse_voltage"),
+        "{}",
+        s.impulse_rule
+    );
+}

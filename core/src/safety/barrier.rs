@@ -231,7 +231,7 @@ pub fn barrier_requirements(spec: &BarrierSpec) -> Result<BarrierRequirement> {
             (
                 r.impulse_voltage_peak,
                 format!(
-                    "secondary circuit, category I of its own working voltage (assumption), {}, {}",
+                    "secondary circuit, category I of its own working voltage (assumption: the secondary is earthed or otherwise kept from mains transients; for a floating secondary, which mains transients reach through the transformer's capacitance, give `impulse_voltage`), {}, {}",
                     r.table_row, r.source
                 ),
             )

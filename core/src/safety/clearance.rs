@@ -153,10 +153,11 @@ pub fn clearance_distance(spec: &ClearanceSpec) -> Result<Clearance> {
         altitude_factor: alt.factor,
         rule,
         table_row: format!(
-            "{} kV row, {} field, {}",
+            "{} kV row, {} field, {}: {} mm",
             format_number(row),
             spec.field.as_str(),
-            spec.pollution_degree
+            spec.pollution_degree,
+            format_number(mm)
         ),
         source: format!("{}; altitude {}", CLEARANCE_SOURCE.cite(), alt.source),
     })
@@ -252,9 +253,10 @@ pub fn clearance_for_working_voltage(spec: &WorkingClearanceSpec) -> Result<Clea
         altitude_factor: alt.factor,
         rule,
         table_row: format!(
-            "{} kV peak row, {} field",
+            "{} kV peak row, {} field: {} mm",
             format_number(row),
-            spec.field.as_str()
+            spec.field.as_str(),
+            format_number(table_mm)
         ),
         source: format!(
             "{}; IEC 62368-1:2018 5.4.2.2 procedure 1; altitude {}",

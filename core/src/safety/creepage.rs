@@ -177,11 +177,20 @@ pub fn creepage_distance(spec: &CreepageSpec) -> Result<Creepage> {
                     format_number(upper)
                 ));
                 upper
-            } else {
+            } else if (r - mm).abs() <= 1e-9 {
                 row_text.push_str(&format!(
-                    " ({} mm), rounded up to the next {} mm ({})",
+                    " ({} mm, already a multiple of {} mm: no rounding needed, {})",
                     format_number(mm),
                     format_number(CREEPAGE_ROUNDING_STEP_MM),
+                    CREEPAGE_ROUNDING_SOURCE.cite()
+                ));
+                r
+            } else {
+                row_text.push_str(&format!(
+                    " ({} mm), rounded up to the next {} mm, {} mm ({})",
+                    format_number(mm),
+                    format_number(CREEPAGE_ROUNDING_STEP_MM),
+                    format_number(r),
                     CREEPAGE_ROUNDING_SOURCE.cite()
                 ));
                 r
@@ -194,14 +203,20 @@ pub fn creepage_distance(spec: &CreepageSpec) -> Result<Creepage> {
         (
             2.0 * basic,
             format!(
-                "{}: twice the basic creepage (IEC 60664-1:2020 5.2.5)",
-                spec.grade
+                "{}: twice the basic creepage, 2 × {} mm = {} mm (IEC 60664-1:2020 5.2.5)",
+                spec.grade,
+                format_number(mm),
+                format_number(2.0 * mm)
             ),
         )
     } else {
         (
             basic,
-            format!("{}: the table value for basic insulation", spec.grade),
+            format!(
+                "{}: the table value for basic insulation, {} mm",
+                spec.grade,
+                format_number(mm)
+            ),
         )
     };
     if spec.pollution_degree == PollutionDegree::Three

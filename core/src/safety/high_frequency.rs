@@ -131,9 +131,10 @@ pub fn high_frequency_clearance(spec: &HighFrequencySpec) -> Result<Clearance> {
         altitude_factor: alt.factor,
         rule,
         table_row: format!(
-            "{} kV peak row, inhomogeneous field, {}",
+            "{} kV peak row, inhomogeneous field, {}: {} mm",
             format_number(row),
-            Quantity::from_typed(spec.frequency)
+            Quantity::from_typed(spec.frequency),
+            format_number(table_mm)
         ),
         source: format!(
             "{}; altitude {}",
@@ -184,9 +185,10 @@ pub fn high_frequency_creepage(spec: &HighFrequencySpec) -> Result<Creepage> {
         set_by_clearance: false,
         rule,
         table_row: format!(
-            "{} kV peak row, 30 kHz < f ≤ 100 kHz column, {}",
+            "{} kV peak row, 30 kHz < f ≤ 100 kHz column, {}: {} mm at PD1",
             format_number(row),
-            Quantity::from_typed(spec.frequency)
+            Quantity::from_typed(spec.frequency),
+            format_number(table_mm)
         ),
         source: HIGH_FREQUENCY_CREEPAGE_SOURCE.cite(),
     })

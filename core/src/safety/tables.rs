@@ -520,6 +520,37 @@ mod tests {
     }
 
     #[test]
+    fn clearance_columns_never_decrease_with_pollution_field_or_category() {
+        for (_, a, b) in CLEARANCE {
+            // PD1 ≤ PD2 ≤ PD3 in both field cases; homogeneous ≤ inhomogeneous
+            assert!(a[0] <= a[1] && a[1] <= a[2] && b[0] <= b[1] && b[1] <= b[2]);
+            assert!((0..3).all(|i| b[i] <= a[i]));
+        }
+        assert!(STEADY_STATE_CLEARANCE
+            .windows(2)
+            .all(|w| w[0].0 < w[1].0 && w[0].1 <= w[1].1 && w[0].2 <= w[1].2));
+        assert!(STEADY_STATE_CLEARANCE.iter().all(|r| r.2 <= r.1));
+        for (_, r) in RATED_IMPULSE {
+            assert!(r.windows(2).all(|w| w[0] < w[1]));
+        }
+        assert!(HIGH_FREQUENCY_CLEARANCE
+            .windows(2)
+            .all(|w| w[0].0 < w[1].0 && w[0].1 <= w[1].1));
+        assert!(HIGH_FREQUENCY_CREEPAGE
+            .windows(2)
+            .all(|w| w[0].0 < w[1].0 && w[0].1 <= w[1].1));
+        assert!(HIGH_FREQUENCY_CREEPAGE_POLLUTION_FACTOR
+            .windows(2)
+            .all(|w| w[0] <= w[1]));
+        assert!(TEST_VOLTAGE_TRANSIENT
+            .windows(2)
+            .all(|w| w[0].0 < w[1].0 && w[0].1 <= w[1].1 && w[0].2 <= w[1].2));
+        assert!(TEST_VOLTAGE_TRANSIENT.iter().all(|r| r.1 <= r.2));
+        assert!(GROOVE_WIDTH.windows(2).all(|w| w[0] <= w[1]));
+        assert!(POLLUTION_MINIMUM_CLEARANCE.windows(2).all(|w| w[0] <= w[1]));
+    }
+
+    #[test]
     fn creepage_columns_never_decrease_with_pollution_or_group() {
         for (_, r) in CREEPAGE {
             // PD1 ≤ PD2 group I ≤ II ≤ III ≤ PD3 group III; PD2 group x ≤ PD3 group x

@@ -97,7 +97,7 @@ pub fn transformer_insulation(
             outer_tape_layers: 1,
             creepage_required: creepage,
             rule: format!(
-                "fully insulated wire approved for {} insulation carries the barrier; one tape layer for mechanical protection (common practice, no published source)",
+                "fully insulated wire approved for {} insulation carries the barrier; one tape layer for mechanical protection; where the wire leaves the winding, its terminations on the bobbin and board still need the barrier's clearance and creepage (common practice, no published source)",
                 requirement.grade
             ),
         },
