@@ -109,7 +109,7 @@ pub struct BarrierRequirement {
     pub not_covered: String,
 }
 
-fn test_voltage(spec: &BarrierSpec, impulse: f64) -> Result<(f64, String)> {
+fn test_voltage(spec: &BarrierSpec, impulse: f64, impulse_rule: &str) -> Result<(f64, String)> {
     if spec.grade == InsulationGrade::Functional {
         return Ok((
             0.0,
@@ -127,7 +127,7 @@ fn test_voltage(spec: &BarrierSpec, impulse: f64) -> Result<(f64, String)> {
         .find(|r| kv <= r.0 * (1.0 + 1e-9))
         .ok_or_else(|| {
             Error::out_of_range(format!(
-                "impulse voltage {} is above the last row (8 kV) of {}",
+                "`impulse_voltage` = {} ({impulse_rule}) is above the last row (8 kV) of {}: no electric strength test voltage in gapwise's data",
                 Quantity::from_typed(si::<ElectricPotential>(impulse)),
                 TEST_VOLTAGE_TRANSIENT_SOURCE.cite()
             ))
@@ -441,7 +441,7 @@ pub fn barrier_requirements(spec: &BarrierSpec) -> Result<BarrierRequirement> {
         };
         (d, (each, any_two), text)
     };
-    let (tv, tv_rule) = test_voltage(spec, impulse.value)?;
+    let (tv, tv_rule) = test_voltage(spec, impulse.value, &impulse_rule)?;
     Ok(BarrierRequirement {
         barrier: spec.barrier,
         grade: spec.grade,
