@@ -1216,3 +1216,71 @@ fn rule_texts_trace_every_value() {
         s.impulse_rule
     );
 }
+
+proptest! {
+    #[test]
+    fn working_and_high_frequency_ranges(kv in -1.0f64..60.0, khz in -10.0f64..20000.0) {
+        // in range → a value, out of range → an error, never an extrapolation: the steady-state
+        // table ends at 50 kV, the high-frequency clearance at 1 kV and 10 MHz, the creepage
+        // column at 1 kV and 100 kHz; exactly 30 kHz is low-frequency
+        let w = clearance_for_working_voltage(&WorkingClearanceSpec {
+            working_voltage_peak: si(kv * 1e3),
+            field: Inhomogeneous,
+            pollution_degree: Two,
+            grade: Basic,
+            altitude: si(0.0),
+        });
+        prop_assert_eq!(w.is_ok(), (0.0..=50.0).contains(&kv));
+        let h = HighFrequencySpec {
+            working_voltage_peak: si(kv * 1e3),
+            frequency: si(khz * 1e3),
+            pollution_degree: Two,
+            grade: Basic,
+            altitude: si(0.0),
+        };
+        let in_v = (0.0..=1.0).contains(&kv);
+        prop_assert_eq!(high_frequency_clearance(&h).is_ok(), in_v && khz > 30.0 && khz <= 10000.0);
+        prop_assert_eq!(high_frequency_creepage(&h).is_ok(), in_v && khz > 30.0 && khz <= 100.0);
+    }
+
+    #[test]
+    fn barrier_never_returns_nan_or_panics(
+        peak in -100.0f64..3000.0,
+        ratio in -0.5f64..1.5,
+        mains in -50.0f64..1200.0,
+        khz in -1.0f64..20000.0,
+        alt in -100.0f64..12000.0,
+        impulse in proptest::option::of(-100.0f64..20000.0),
+        barrier in 0u8..4,
+        grade in 0u8..5,
+    ) {
+        let barrier = [Barrier::PrimarySecondary, Barrier::PrimaryEarth, Barrier::SecondaryEarth, Barrier::LineNeutralBeforeFuse][barrier as usize];
+        let grade = [InsulationGrade::Functional, Basic, Supplementary, Reinforced, Double][grade as usize];
+        let r = barrier_requirements(&BarrierSpec {
+            barrier,
+            grade,
+            mains_voltage: si(mains),
+            working_voltage_peak: si(peak),
+            working_voltage_rms: si(peak * ratio),
+            working_frequency: si(khz * 1e3),
+            impulse_voltage: impulse.map(si::<ElectricPotential>),
+            ..worked_spec(alt, grade)
+        });
+        match r {
+            Ok(r) => {
+                for v in [r.clearance.value, r.creepage.value, r.creepage_printed_board.value,
+                          r.distance_through_insulation.value, r.test_voltage_peak.value,
+                          r.impulse_voltage_peak.value] {
+                    prop_assert!(v.is_finite() && v >= 0.0);
+                }
+                prop_assert!(r.creepage.value >= r.clearance.value);
+                prop_assert!(!r.clearance_rule.is_empty() && !r.creepage_rule.is_empty());
+            }
+            Err(e) => {
+                // the message names a parameter in backticks
+                let m = e.to_string();
+                prop_assert!(m.contains('`'), "{}", m);
+            }
+        }
+    }
+}

@@ -223,7 +223,10 @@ pub fn creepage_distance(spec: &CreepageSpec) -> Result<Creepage> {
         && spec.material_group == MaterialGroup::IIIb
         && v > 630.0
     {
-        rule.push_str("; note: the table does not recommend group IIIb at pollution degree 3 above 630 V (value recalled from memory)");
+        rule.push_str(&format!(
+            "; note: the table does not recommend group IIIb at pollution degree 3 above 630 V ({} note)",
+            CREEPAGE_SOURCE.cite()
+        ));
     }
     let mut set_by_clearance = false;
     if let Some(c) = spec.minimum_clearance {

@@ -171,7 +171,9 @@ pub const POLLUTION_MINIMUM_CLEARANCE: [f64; 3] = [0.0, 0.2, 0.8];
 // Working voltages above 30 kHz: IEC 62368-1:2018 takes clearance (5.4.2.2, Table 11) and
 // creepage (5.4.3, Table 18) for them from IEC 60664-4:2005 (Tables 1 and 2).
 
-/// The frequency above which the high-frequency tables apply (Hz).
+/// The frequency above which the high-frequency tables apply (Hz): IEC 62368-1:2018 5.4.2.2
+/// and 5.4.3, IEC 60664-4:2005 scope (value recalled from memory). Exactly 30 kHz is
+/// low-frequency.
 pub const HIGH_FREQUENCY_LIMIT_HZ: f64 = 30e3;
 
 /// The IEC standard on insulation coordination for high-frequency voltage stress.
