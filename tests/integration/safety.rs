@@ -1284,3 +1284,29 @@ proptest! {
         }
     }
 }
+
+#[test]
+fn solid_insulation_rule_names_the_layer_counts() {
+    // IEC 62368-1:2018 5.4.4.2 and 5.4.4.6 (value recalled from memory): reinforced needs 0.4 mm
+    // above 71 V peak, or 2 thin-sheet layers each passing / 3 of which any two pass; before the
+    // review the rule text (the reference of the layer check) gave no counts.
+    let r = worked(0.0, Reinforced);
+    for part in [
+        "0.4 mm",
+        "71 V",
+        "2 layer(s) each passing",
+        "3 of which any two",
+    ] {
+        assert!(
+            r.solid_insulation_rule.contains(part),
+            "{part}: {}",
+            r.solid_insulation_rule
+        );
+    }
+    let b = worked(0.0, Basic);
+    assert!(
+        b.solid_insulation_rule.contains("no minimum thickness"),
+        "{}",
+        b.solid_insulation_rule
+    );
+}

@@ -424,18 +424,28 @@ pub fn barrier_requirements(spec: &BarrierSpec) -> Result<BarrierRequirement> {
         } else {
             0.0
         };
+        let layers = if spec.grade == InsulationGrade::Functional {
+            "no thin-sheet layers required".to_string()
+        } else {
+            format!(
+                "thin sheet: {each} layer(s) each passing the {} electric strength test, or {any_two} of which any two together pass it (the check counts the latter)",
+                spec.grade
+            )
+        };
         let text = if needs_thickness {
             format!(
-                "{}: at least {} mm through solid insulation above {} V peak working voltage, or thin sheet in layers; {}",
+                "{}: at least {} mm through solid insulation, as the peak working voltage {} exceeds {} V; or {layers}; {}",
                 spec.grade,
                 format_number(SOLID_INSULATION_MINIMUM),
+                Quantity::from_typed(peak),
                 format_number(SOLID_INSULATION_ABOVE_PEAK),
                 SOLID_INSULATION_SOURCE.cite()
             )
         } else {
             format!(
-                "{}: no minimum thickness; {}",
+                "{}: no minimum thickness (supplementary, reinforced and double only, above {} V peak); {layers}; {}",
                 spec.grade,
+                format_number(SOLID_INSULATION_ABOVE_PEAK),
                 SOLID_INSULATION_SOURCE.cite()
             )
         };

@@ -70,7 +70,7 @@ macro_rules! barrier_keys {
             GROUP,
             ALTITUDE,
             FIELD,
-            ParamDoc::optional("working_voltage_peak", ParamKind::Quantity("V"), "peak working voltage across the barrier; default √2 × mains_voltage"),
+            ParamDoc::optional("working_voltage_peak", ParamKind::Quantity("V"), "peak working voltage across the barrier (for primary_earth in a flyback, the switch node's highest voltage); default √2 × mains_voltage"),
             ParamDoc::optional("working_voltage_rms", ParamKind::Quantity("V"), "RMS working voltage across the barrier; default mains_voltage"),
             ParamDoc::with_default("working_frequency", ParamKind::Quantity("Hz"), "50 Hz", "frequency of the working voltage"),
             ParamDoc::optional("impulse_voltage", ParamKind::Quantity("V"), "impulse withstand voltage for basic insulation, when not the mains' rated impulse voltage"),
