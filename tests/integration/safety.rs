@@ -1102,7 +1102,10 @@ fn barrier_voltage_and_altitude_boundaries() {
     // 1000 V RMS is the last row (PD2 group III 10 mm, recalled from memory); above is an error
     mm(at(1000.0, 0.0).unwrap().creepage.value * 1e3, 10.0);
     let e = at(1000.5, 0.0).unwrap_err().to_string();
-    assert!(e.contains("working_voltage") && e.contains("1000 V"), "{e}");
+    assert!(
+        e.contains("`working_voltage_rms`") && e.contains("1000 V"),
+        "{e}"
+    );
     // 10 000 m is the last row of Table A.2 (3.02, recalled from memory); above is an error
     let top = at(230.0, 10000.0).unwrap();
     mm(top.clearance_for_transients.value * 1e3, 1.5 * 3.02);

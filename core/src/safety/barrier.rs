@@ -323,6 +323,15 @@ pub fn barrier_requirements(spec: &BarrierSpec) -> Result<BarrierRequirement> {
         )),
     }
     let first_row = CREEPAGE[0].0;
+    let last_row = CREEPAGE[CREEPAGE.len() - 1].0;
+    if rms.value > last_row * (1.0 + 1e-12) {
+        return Err(Error::out_of_range(format!(
+            "`working_voltage_rms` = {} is above the last row ({} V RMS) of {}",
+            Quantity::from_typed(rms),
+            format_number(last_row),
+            super::tables::CREEPAGE_SOURCE.cite()
+        )));
+    }
     let (v_table, low_note) = if rms.value < first_row {
         (
             si::<ElectricPotential>(first_row),
