@@ -1313,3 +1313,34 @@ fn solid_insulation_rule_names_the_layer_counts() {
         b.solid_insulation_rule
     );
 }
+
+#[test]
+fn groove_with_a_zero_clearance_is_refused() {
+    // Before the review a zero associated clearance gave a 0 mm minimum groove width (one third
+    // of 0 mm), so any groove would count; the rule (IEC 60664-1:2020 6.8, value recalled from
+    // memory) only reduces X for a real clearance below 3 mm.
+    let e = minimum_groove_width(Two, Some(si(0.0)))
+        .unwrap_err()
+        .to_string();
+    assert!(
+        e.contains("associated_clearance") && e.contains(" m"),
+        "{e}"
+    );
+    // exactly 3 mm is not below 3 mm: X stays 1.5 mm at PD3; just below, one third
+    mm(
+        minimum_groove_width(Three, Some(si(3.0e-3)))
+            .unwrap()
+            .minimum_width
+            .value
+            * 1e3,
+        1.5,
+    );
+    mm(
+        minimum_groove_width(Three, Some(si(2.97e-3)))
+            .unwrap()
+            .minimum_width
+            .value
+            * 1e3,
+        0.99,
+    );
+}

@@ -9,7 +9,7 @@ use super::tables::{
 };
 use crate::error::{Error, Result};
 use crate::report::{Field, Record};
-use crate::units::validate::non_negative;
+use crate::units::validate::{non_negative, positive};
 use crate::units::{format_number, si, ElectricPotential, Length, Quantity};
 
 /// What a creepage distance must withstand, and on what.
@@ -277,7 +277,8 @@ pub struct GrooveWidth {
 /// Minimum groove width for it to count in a creepage path.
 ///
 /// Rule: X = 0.25 mm (PD1), 1.0 mm (PD2), 1.5 mm (PD3); where the associated clearance is below
-/// 3 mm, X may be reduced to one third of that clearance (never increased by it).
+/// 3 mm, X may be reduced to one third of that clearance (never increased by it); exactly 3 mm
+/// is not below. Valid for a positive associated clearance (zero is an error).
 /// Reference: IEC 60664-1:2020 6.8 (6.2 in the 2007 edition; value recalled from memory).
 pub fn minimum_groove_width(
     pollution_degree: PollutionDegree,
@@ -290,7 +291,8 @@ pub fn minimum_groove_width(
     );
     let mut width = x;
     if let Some(c) = associated_clearance {
-        let c_mm = non_negative("associated_clearance", c)?.value * 1e3;
+        // a zero clearance would make every groove count: refused
+        let c_mm = positive("associated_clearance", c)?.value * 1e3;
         if c_mm < GROOVE_REDUCTION_BELOW_CLEARANCE && c_mm / 3.0 < x {
             width = c_mm / 3.0;
             rule = format!(
