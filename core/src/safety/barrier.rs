@@ -214,6 +214,15 @@ pub fn barrier_requirements(spec: &BarrierSpec) -> Result<BarrierRequirement> {
             Quantity::from_typed(peak)
         )));
     }
+    let last_row = CREEPAGE[CREEPAGE.len() - 1].0;
+    if rms.value > last_row * (1.0 + 1e-12) {
+        return Err(Error::out_of_range(format!(
+            "`working_voltage_rms` = {} is above the last row ({} V RMS) of {}",
+            Quantity::from_typed(rms),
+            format_number(last_row),
+            super::tables::CREEPAGE_SOURCE.cite()
+        )));
+    }
     let (impulse, impulse_rule) = match spec.impulse_voltage {
         Some(u) => (
             positive("impulse_voltage", u)?,
@@ -323,15 +332,6 @@ pub fn barrier_requirements(spec: &BarrierSpec) -> Result<BarrierRequirement> {
         )),
     }
     let first_row = CREEPAGE[0].0;
-    let last_row = CREEPAGE[CREEPAGE.len() - 1].0;
-    if rms.value > last_row * (1.0 + 1e-12) {
-        return Err(Error::out_of_range(format!(
-            "`working_voltage_rms` = {} is above the last row ({} V RMS) of {}",
-            Quantity::from_typed(rms),
-            format_number(last_row),
-            super::tables::CREEPAGE_SOURCE.cite()
-        )));
-    }
     let (v_table, low_note) = if rms.value < first_row {
         (
             si::<ElectricPotential>(first_row),
