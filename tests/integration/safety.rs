@@ -1106,6 +1106,17 @@ fn barrier_voltage_and_altitude_boundaries() {
         e.contains("`working_voltage_rms`") && e.contains("1000 V"),
         "{e}"
     );
+    // on the secondary–earth barrier too (its impulse voltage comes from the same RMS value,
+    // which used to be reported as `mains_voltage`)
+    let e = barrier_requirements(&BarrierSpec {
+        barrier: Barrier::SecondaryEarth,
+        working_voltage_peak: si(1500.0),
+        working_voltage_rms: si(1200.0),
+        ..worked_spec(0.0, Basic)
+    })
+    .unwrap_err()
+    .to_string();
+    assert!(e.contains("`working_voltage_rms`"), "{e}");
     // 10 000 m is the last row of Table A.2 (3.02, recalled from memory); above is an error
     let top = at(230.0, 10000.0).unwrap();
     mm(top.clearance_for_transients.value * 1e3, 1.5 * 3.02);
