@@ -1185,6 +1185,30 @@ proptest! {
             prop_assert!(dirtier.creepage.value >= a.creepage.value - 1e-15);
             prop_assert!(dirtier.creepage_printed_board.value >= a.creepage_printed_board.value - 1e-15);
         }
+        // reinforced and double never ask less than basic, basic never less than functional
+        let graded = |g: InsulationGrade| {
+            barrier_requirements(&BarrierSpec {
+                working_voltage_peak: si(rms * 1.8),
+                working_voltage_rms: si(rms),
+                working_frequency: si(khz * 1e3),
+                pollution_degree: pd_of(pd),
+                ..worked_spec(alt, g)
+            })
+            .unwrap()
+        };
+        let functional = graded(InsulationGrade::Functional);
+        let basic = graded(Basic);
+        for strong in [graded(Reinforced), graded(Double)] {
+            prop_assert!(strong.clearance.value >= basic.clearance.value);
+            prop_assert!(strong.creepage.value >= basic.creepage.value);
+            prop_assert!(strong.creepage_printed_board.value >= basic.creepage_printed_board.value);
+            prop_assert!(strong.test_voltage_peak.value >= basic.test_voltage_peak.value);
+            prop_assert!(strong.distance_through_insulation.value >= basic.distance_through_insulation.value);
+            prop_assert!(strong.thin_sheet_layers_any_two_passing >= basic.thin_sheet_layers_any_two_passing);
+        }
+        prop_assert!(basic.clearance.value >= functional.clearance.value);
+        prop_assert!(basic.creepage.value >= functional.creepage.value);
+        prop_assert!(basic.test_voltage_peak.value >= functional.test_voltage_peak.value);
         for v in [a.clearance.value, a.creepage.value, a.creepage_printed_board.value, a.test_voltage_peak.value] {
             prop_assert!(v.is_finite() && v >= 0.0);
         }
