@@ -171,3 +171,28 @@ fn select_keeps_the_given_order_and_names_unknown_columns() {
     let e = eval_err("table([#{alpha: 1 * V}]).select([\"alpah\"])");
     assert!(e.message.contains("did you mean `alpha`"), "{}", e.message);
 }
+
+#[test]
+fn wrong_arguments_to_a_gapwise_function_say_what_it_takes() {
+    let e = eval_err("safety_capacitor_class(5)").to_string();
+    assert!(
+        e.contains("`safety_capacitor_class` cannot take (integer)")
+            && e.contains("safety_capacitor_class(subclass: text)")
+            && e.contains(":help safety_capacitor_class"),
+        "{e}"
+    );
+    let e = eval_err("emi_limit(150 * kHz, \"B\")").to_string();
+    assert!(
+        e.contains("(quantity, text)") && e.contains("detector: text"),
+        "{e}"
+    );
+    // inside a script function the context stays at the end
+    let e = eval_err("fn f() { creepage_distance() } f()").message;
+    assert!(
+        e.contains("cannot take no arguments") && e.ends_with("(in `f`)"),
+        "{e}"
+    );
+    // names that are not gapwise functions keep the engine's message
+    let e = eval_err("no_such_function(1)").to_string();
+    assert!(e.contains("Function not found"), "{e}");
+}

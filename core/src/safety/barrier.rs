@@ -180,9 +180,10 @@ fn test_voltage(spec: &BarrierSpec, impulse: f64, impulse_rule: &str) -> Result<
 /// Rules, in order:
 /// 1. Impulse voltage: the rated impulse voltage of the mains (IEC 60664-1:2020 Table F.1) for
 ///    barriers that see mains transients, or the given `impulse_voltage`; for the
-///    secondary–earth barrier without one, category I of its own RMS working voltage
-///    (assumption: a circuit not connected to the mains, IEC 60664-1:2020 4.3.3.3; value
-///    recalled from memory).
+///    secondary–earth barrier without one, the mains' rated impulse voltage one overvoltage
+///    category lower (II → I), or category I of the secondary's own RMS working voltage if
+///    that is higher (assumption on the safe side for a secondary isolated from the mains:
+///    common practice, no published source).
 /// 2. Clearance: the largest of (a) the transient clearance, [`super::clearance_distance`]
 ///    (Table F.2, reinforced step; IEC 62368-1:2018 procedure 2), (b) the clearance for the
 ///    peak working voltage, [`super::clearance_for_working_voltage`] (IEC 62368-1:2018
@@ -236,11 +237,25 @@ pub fn barrier_requirements(spec: &BarrierSpec) -> Result<BarrierRequirement> {
             )
         }
         None => {
-            let r = rated_impulse_voltage(si(rms.value.max(1e-3)), OvervoltageCategory::I)?;
+            let lower = spec.overvoltage_category.one_lower();
+            let from_mains = rated_impulse_voltage(spec.mains_voltage, lower)?;
+            let own = rated_impulse_voltage(si(rms.value.max(1e-3)), OvervoltageCategory::I)?;
+            let (r, which) =
+                if own.impulse_voltage_peak.value > from_mains.impulse_voltage_peak.value {
+                    (
+                        own,
+                        "category I of its own working voltage, which is higher",
+                    )
+                } else {
+                    (
+                        from_mains,
+                        "the mains' rated impulse voltage one overvoltage category lower",
+                    )
+                };
             (
                 r.impulse_voltage_peak,
                 format!(
-                    "secondary circuit, category I of its own working voltage (assumption: the secondary is earthed or otherwise kept from mains transients; for a floating secondary, which mains transients reach through the transformer's capacitance, give `impulse_voltage`), {}, {}",
+                    "secondary circuit isolated from the mains: {which} (assumption on the safe side: mains transients reach a floating secondary through the transformer's capacitance, attenuated by the isolation; common practice, no published source; give `impulse_voltage` when the secondary's transient level is known), {}, {}",
                     r.table_row, r.source
                 ),
             )

@@ -167,6 +167,14 @@ impl OvervoltageCategory {
     pub(crate) fn index(self) -> usize {
         self as usize
     }
+    /// The category one lower (category I stays I).
+    pub fn one_lower(self) -> Self {
+        match self {
+            Self::I | Self::II => Self::I,
+            Self::III => Self::II,
+            Self::IV => Self::III,
+        }
+    }
 }
 
 impl fmt::Display for OvervoltageCategory {

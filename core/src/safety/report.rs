@@ -19,8 +19,11 @@ pub struct ProvidedInsulation {
     pub creepage_printed_board: Option<Length>,
     /// Thickness of solid insulation (ignored for thin sheet).
     pub distance_through_insulation: Option<Length>,
-    /// Thin-sheet layers used (any two passing the test).
+    /// Thin-sheet layers used.
     pub thin_sheet_layers: Option<i64>,
+    /// True when each layer alone passes the grade's electric strength test (then fewer layers
+    /// are needed); false when only any two together are known to pass it.
+    pub thin_sheet_each_layer_tested: bool,
 }
 
 /// Warning margin of the checks on measured distances (clearance, creepage): a provided
@@ -115,11 +118,16 @@ pub fn barrier_checks(
                 "`thin_sheet_layers` must be zero or more, got {n}"
             )));
         }
+        let needed = if provided.thin_sheet_each_layer_tested {
+            r.thin_sheet_layers_each_passing
+        } else {
+            r.thin_sheet_layers_any_two_passing
+        };
         check(
             &mut out,
             r,
             "thin_sheet_layers",
-            Quantity::number(r.thin_sheet_layers_any_two_passing as f64),
+            Quantity::number(needed as f64),
             Some(Quantity::number(n as f64)),
             &r.solid_insulation_rule,
             0.0,

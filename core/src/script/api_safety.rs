@@ -104,6 +104,12 @@ const PROVIDED_LAYERS: ParamDoc = ParamDoc::optional(
     ParamKind::Integer,
     "thin-sheet (tape) layers used",
 );
+const PROVIDED_EACH_TESTED: ParamDoc = ParamDoc::with_default(
+    "provided_thin_sheet_each_layer_tested",
+    ParamKind::Flag,
+    "false",
+    "true when each tape layer alone passes the grade's electric strength test (2 layers suffice for reinforced instead of 3)",
+);
 
 static IMPULSE: FunctionDoc = FunctionDoc {
     name: "rated_impulse_voltage",
@@ -247,7 +253,7 @@ static CHECKS: FunctionDoc = FunctionDoc {
     domain: Domain::Safety,
     summary: "Checks provided distances of a barrier against its requirements; one check per provided value (strict mode counts failures).",
     params: &[ParamDoc::required("spec", ParamKind::Map, "see keys")],
-    keys: barrier_keys!(PROVIDED_CLEARANCE, PROVIDED_CREEPAGE, PROVIDED_BOARD, PROVIDED_DTI, PROVIDED_LAYERS),
+    keys: barrier_keys!(PROVIDED_CLEARANCE, PROVIDED_CREEPAGE, PROVIDED_BOARD, PROVIDED_DTI, PROVIDED_LAYERS, PROVIDED_EACH_TESTED),
     returns: "array of CheckResult (print with checks_table)",
     example: "checks_table(barrier_checks(#{barrier: \"primary_secondary\", insulation: \"reinforced\", provided_clearance: 6.5 * mm, provided_creepage: 6.5 * mm}))",
 };
@@ -384,6 +390,7 @@ fn provided(s: &Spec) -> Result<ProvidedInsulation> {
             .value("provided_thin_sheet_layers")?
             .map(|_| s.integer("provided_thin_sheet_layers"))
             .transpose()?,
+        thin_sheet_each_layer_tested: s.flag("provided_thin_sheet_each_layer_tested")?,
     })
 }
 

@@ -451,7 +451,64 @@ impl ScriptHost {
         self.state.start_clock();
         let r = self.engine.eval_ast_with_scope::<Dynamic>(scope, ast);
         self.state.stop_clock();
-        r.map_err(|e| ScriptError::from_eval(&e, source, source_name, &self.limits))
+        r.map_err(|e| {
+            self.with_signature(ScriptError::from_eval(
+                &e,
+                source,
+                source_name,
+                &self.limits,
+            ))
+        })
+    }
+
+    /// When a gapwise function was called with arguments of the wrong number or types, says
+    /// what it takes instead of the engine's bare "function not found".
+    fn with_signature(&self, mut e: ScriptError) -> ScriptError {
+        let Some(rest) = e.message.strip_prefix("Function not found: ") else {
+            return e;
+        };
+        let (name, given) = rest.split_once(' ').unwrap_or((rest, "()"));
+        let Some(doc) = self.doc(name) else {
+            return e;
+        };
+        let params: Vec<String> = doc
+            .params
+            .iter()
+            .map(|p| format!("{}: {}", p.name, p.kind.describe()))
+            .collect();
+        let tail = e
+            .message
+            .find(" (in `")
+            .map(|i| e.message[i..].to_string())
+            .unwrap_or_default();
+        let given = given.strip_suffix(&tail).unwrap_or(given);
+        // the engine's type names, in the words of the help
+        let given = given
+            .trim_start_matches('(')
+            .trim_end_matches(')')
+            .split(", ")
+            .filter(|t| !t.is_empty())
+            .map(|t| match t {
+                "i64" => "integer",
+                "f64" => "number",
+                "&str | ImmutableString | String" => "text",
+                "Quantity" => "quantity",
+                "bool" => "flag",
+                other => other,
+            })
+            .collect::<Vec<_>>()
+            .join(", ");
+        let given = if given.is_empty() {
+            "no arguments".to_string()
+        } else {
+            format!("({given})")
+        };
+        e.message = format!(
+            "`{name}` cannot take {given}; it takes {}({}) (see `:help {name}`){tail}",
+            name,
+            params.join(", ")
+        );
+        e
     }
 
     /// Compiles and runs a script in a fresh scope.
@@ -472,7 +529,7 @@ impl ScriptHost {
             .engine
             .call_fn::<Dynamic>(&mut Scope::new(), ast, name, args);
         self.state.stop_clock();
-        r.map_err(|e| ScriptError::from_eval(&e, "", name, &self.limits))
+        r.map_err(|e| self.with_signature(ScriptError::from_eval(&e, "", name, &self.limits)))
     }
 
     /// True when the text is a complete script, false while brackets, blocks or a string
