@@ -3,7 +3,7 @@
 //! with the reinforced-insulation rules and the altitude factor.
 
 use super::classes::{FieldCase, InsulationGrade, PollutionDegree};
-use super::impulse::altitude_correction;
+use super::impulse::{altitude_correction, AltitudeCorrection};
 use super::tables::{
     CLEARANCE, CLEARANCE_SOURCE, POLLUTION_MINIMUM_CLEARANCE, POLLUTION_MINIMUM_SOURCE,
     PREFERRED_IMPULSE, STEADY_STATE_CLEARANCE, STEADY_STATE_CLEARANCE_SOURCE,
@@ -46,6 +46,55 @@ pub struct Clearance {
     pub table_row: String,
     /// Standard, edition, table and provenance.
     pub source: String,
+}
+
+/// The parts of a clearance lookup that every clearance rule finishes the same way.
+pub(super) struct ClearanceLookup {
+    /// The table value (mm) before any floor or multiplier.
+    pub table_mm: f64,
+    /// Apply the pollution-degree minimum clearance of Table F.2 to the table value.
+    pub floor: Option<PollutionDegree>,
+    /// Grade multiplier (2 for double insulation or a doubled high-frequency value).
+    pub multiplier: f64,
+    /// The voltage the table was entered with.
+    pub withstand_voltage_peak: ElectricPotential,
+    /// The rule so far.
+    pub rule: String,
+    /// Row and column text (the table value is appended).
+    pub table_row: String,
+    /// Standard, edition, table and provenance of the table.
+    pub source: String,
+}
+
+/// Applies the pollution-degree floor, the multiplier and the altitude factor, and writes the
+/// rule: d = max(table, floor) × multiplier × altitude factor.
+pub(super) fn finish_clearance(l: ClearanceLookup, alt: &AltitudeCorrection) -> Clearance {
+    let mut rule = l.rule;
+    let floor_mm = l
+        .floor
+        .map_or(0.0, |pd| POLLUTION_MINIMUM_CLEARANCE[pd.index()]);
+    if let Some(pd) = l.floor.filter(|_| floor_mm > l.table_mm) {
+        rule.push_str(&format!(
+            "; raised to the {pd} minimum of {} mm ({})",
+            format_number(floor_mm),
+            POLLUTION_MINIMUM_SOURCE.cite()
+        ));
+    }
+    let base = l.table_mm.max(floor_mm) * 1e-3 * l.multiplier;
+    rule.push_str(&format!(
+        "; table steps up to the next row; × altitude factor {} ({})",
+        format_number(alt.factor),
+        alt.table_row
+    ));
+    Clearance {
+        clearance: si(base * alt.factor),
+        clearance_up_to_2000m: si(base),
+        withstand_voltage_peak: l.withstand_voltage_peak,
+        altitude_factor: alt.factor,
+        rule,
+        table_row: format!("{}: {} mm", l.table_row, format_number(l.table_mm)),
+        source: format!("{}; altitude {}", l.source, alt.source),
+    }
 }
 
 /// Looks up Table F.2: the first row at or above `kv`; None above the last row.
@@ -116,7 +165,7 @@ pub fn reinforced_withstand_voltage(
 pub fn clearance_distance(spec: &ClearanceSpec) -> Result<Clearance> {
     let basic = positive("impulse_voltage", spec.impulse_voltage)?;
     let alt = altitude_correction(spec.altitude)?;
-    let (u, mut rule, multiplier) = match spec.grade {
+    let (u, rule, multiplier) = match spec.grade {
         InsulationGrade::Reinforced => {
             let (u, r) = reinforced_withstand_voltage(basic)?;
             (u, r, 1.0)
@@ -140,27 +189,23 @@ pub fn clearance_distance(spec: &ClearanceSpec) -> Result<Clearance> {
             CLEARANCE_SOURCE.cite()
         ))
     })?;
-    let base = mm * 1e-3 * multiplier;
-    rule.push_str(&format!(
-        "; table steps up to the next row; × altitude factor {} ({})",
-        format_number(alt.factor),
-        alt.table_row
-    ));
-    Ok(Clearance {
-        clearance: si(base * alt.factor),
-        clearance_up_to_2000m: si(base),
-        withstand_voltage_peak: u,
-        altitude_factor: alt.factor,
-        rule,
-        table_row: format!(
-            "{} kV row, {} field, {}: {} mm",
-            format_number(row),
-            spec.field.as_str(),
-            spec.pollution_degree,
-            format_number(mm)
-        ),
-        source: format!("{}; altitude {}", CLEARANCE_SOURCE.cite(), alt.source),
-    })
+    Ok(finish_clearance(
+        ClearanceLookup {
+            table_mm: mm,
+            floor: None,
+            multiplier,
+            withstand_voltage_peak: u,
+            rule,
+            table_row: format!(
+                "{} kV row, {} field, {}",
+                format_number(row),
+                spec.field.as_str(),
+                spec.pollution_degree
+            ),
+            source: CLEARANCE_SOURCE.cite(),
+        },
+        &alt,
+    ))
 }
 
 /// What a clearance must withstand from the working voltage itself.
@@ -195,7 +240,7 @@ pub struct WorkingClearanceSpec {
 pub fn clearance_for_working_voltage(spec: &WorkingClearanceSpec) -> Result<Clearance> {
     let peak = non_negative("working_voltage_peak", spec.working_voltage_peak)?;
     let alt = altitude_correction(spec.altitude)?;
-    let (u, mut rule, multiplier) = match spec.grade {
+    let (u, rule, multiplier) = match spec.grade {
         InsulationGrade::Reinforced => (
             1.6 * peak.value,
             format!(
@@ -231,39 +276,25 @@ pub fn clearance_for_working_voltage(spec: &WorkingClearanceSpec) -> Result<Clea
         FieldCase::Inhomogeneous => case_a,
         FieldCase::Homogeneous => case_b,
     };
-    let floor_mm = POLLUTION_MINIMUM_CLEARANCE[spec.pollution_degree.index()];
-    if floor_mm > table_mm {
-        rule.push_str(&format!(
-            "; raised to the {} minimum of {} mm ({})",
-            spec.pollution_degree,
-            format_number(floor_mm),
-            POLLUTION_MINIMUM_SOURCE.cite()
-        ));
-    }
-    let base = table_mm.max(floor_mm) * 1e-3 * multiplier;
-    rule.push_str(&format!(
-        "; table steps up to the next row; × altitude factor {} ({})",
-        format_number(alt.factor),
-        alt.table_row
-    ));
-    Ok(Clearance {
-        clearance: si(base * alt.factor),
-        clearance_up_to_2000m: si(base),
-        withstand_voltage_peak: si(u),
-        altitude_factor: alt.factor,
-        rule,
-        table_row: format!(
-            "{} kV peak row, {} field: {} mm",
-            format_number(row),
-            spec.field.as_str(),
-            format_number(table_mm)
-        ),
-        source: format!(
-            "{}; IEC 62368-1:2018 5.4.2.2 procedure 1; altitude {}",
-            STEADY_STATE_CLEARANCE_SOURCE.cite(),
-            alt.source
-        ),
-    })
+    Ok(finish_clearance(
+        ClearanceLookup {
+            table_mm,
+            floor: Some(spec.pollution_degree),
+            multiplier,
+            withstand_voltage_peak: si(u),
+            rule,
+            table_row: format!(
+                "{} kV peak row, {} field",
+                format_number(row),
+                spec.field.as_str()
+            ),
+            source: format!(
+                "{}; IEC 62368-1:2018 5.4.2.2 procedure 1",
+                STEADY_STATE_CLEARANCE_SOURCE.cite()
+            ),
+        },
+        &alt,
+    ))
 }
 
 impl Record for Clearance {

@@ -3,14 +3,14 @@
 //! carries such a voltage.
 
 use super::classes::{InsulationGrade, PollutionDegree};
-use super::clearance::Clearance;
+use super::clearance::{finish_clearance, Clearance, ClearanceLookup};
 use super::creepage::Creepage;
 use super::impulse::altitude_correction;
 use super::tables::{
     TableSource, HIGH_FREQUENCY_CLEARANCE, HIGH_FREQUENCY_CLEARANCE_SOURCE,
     HIGH_FREQUENCY_CREEPAGE, HIGH_FREQUENCY_CREEPAGE_POLLUTION_FACTOR,
     HIGH_FREQUENCY_CREEPAGE_SOURCE, HIGH_FREQUENCY_CREEPAGE_UP_TO_HZ, HIGH_FREQUENCY_LIMIT_HZ,
-    HIGH_FREQUENCY_UP_TO_HZ, POLLUTION_MINIMUM_CLEARANCE, POLLUTION_MINIMUM_SOURCE,
+    HIGH_FREQUENCY_UP_TO_HZ,
 };
 use crate::error::{Error, Result};
 use crate::units::validate::non_negative;
@@ -108,40 +108,23 @@ pub fn high_frequency_clearance(spec: &HighFrequencySpec) -> Result<Clearance> {
         peak,
         &HIGH_FREQUENCY_CLEARANCE_SOURCE,
     )?;
-    let (g, mut rule) = grade_factor(spec.grade);
-    let floor_mm = POLLUTION_MINIMUM_CLEARANCE[spec.pollution_degree.index()];
-    if floor_mm > table_mm {
-        rule.push_str(&format!(
-            "; basic raised to the {} minimum of {} mm ({})",
-            spec.pollution_degree,
-            format_number(floor_mm),
-            POLLUTION_MINIMUM_SOURCE.cite()
-        ));
-    }
-    let base = table_mm.max(floor_mm) * g * 1e-3;
-    rule.push_str(&format!(
-        "; table steps up to the next row; × altitude factor {} ({})",
-        format_number(alt.factor),
-        alt.table_row
-    ));
-    Ok(Clearance {
-        clearance: si(base * alt.factor),
-        clearance_up_to_2000m: si(base),
-        withstand_voltage_peak: peak,
-        altitude_factor: alt.factor,
-        rule,
-        table_row: format!(
-            "{} kV peak row, inhomogeneous field, {}: {} mm",
-            format_number(row),
-            Quantity::from_typed(spec.frequency),
-            format_number(table_mm)
-        ),
-        source: format!(
-            "{}; altitude {}",
-            HIGH_FREQUENCY_CLEARANCE_SOURCE.cite(),
-            alt.source
-        ),
-    })
+    let (g, rule) = grade_factor(spec.grade);
+    Ok(finish_clearance(
+        ClearanceLookup {
+            table_mm,
+            floor: Some(spec.pollution_degree),
+            multiplier: g,
+            withstand_voltage_peak: peak,
+            rule,
+            table_row: format!(
+                "{} kV peak row, inhomogeneous field, {}",
+                format_number(row),
+                Quantity::from_typed(spec.frequency)
+            ),
+            source: HIGH_FREQUENCY_CLEARANCE_SOURCE.cite(),
+        },
+        &alt,
+    ))
 }
 
 /// Required creepage for a working voltage above 30 kHz.
