@@ -870,7 +870,7 @@ fn one_line_questions_at_the_prompt() {
         "clearance_for_working_voltage(#{working_voltage_peak: 1.3 * kV, pollution_degree: 1})",
     );
     assert!(
-        text.contains("760 µm")
+        text.contains("0.76 mm")
             && text.contains("1.5 kV peak row")
             && text.contains("IEC 60664-1:2020"),
         "{text}"

@@ -92,6 +92,15 @@ fn derived_units_print_as_engineers_write_them() {
         ("6e6 A/m^2", "6 A/mm²"),
         ("1e-3 V*s", "1 mWb"),
         ("5e9 V/s", "5 GV/s"),
+        // lengths as the trade writes them (common practice, no published source): clearances,
+        // wire diameters and air gaps in millimetres, micrometres only below 10 µm, metres
+        // from one metre up (wire lengths, altitude)
+        ("0.00064 m", "0.64 mm"),
+        ("0.0254 m", "25.4 mm"),
+        ("0.00001 m", "0.01 mm"),
+        ("0.000005 m", "5 µm"),
+        ("1.5 m", "1.5 m"),
+        ("3000 m", "3000 m"),
     ];
     for (input, shown) in cases {
         assert_eq!(

@@ -54,5 +54,5 @@ fn copper_resistance() {
     // 0.00393 /K: at 100 °C the resistance is 1.3144 times higher (IEC 60028)
     let r = eval_quantity("copper_resistivity(celsius(100)) / copper_resistivity(celsius(20))");
     check_near(r, "1.3144", 1e-4);
-    assert_eq!(eval("metric_wire_at_or_above(0.43 * mm)"), "450 µm");
+    assert_eq!(eval("metric_wire_at_or_above(0.43 * mm)"), "0.45 mm");
 }

@@ -181,8 +181,10 @@ pub struct DisplayUnit {
     pub symbol: &'static str,
     /// Whether engineering prefixes apply (value kept in 1 … 999.9 of the prefixed unit).
     pub prefixed: bool,
-    /// Fixed choices (symbol, scale) when `prefixed` is false, largest scale first.
-    pub choices: &'static [(&'static str, f64)],
+    /// Fixed choices (symbol, scale, smallest magnitude written in it) when `prefixed` is
+    /// false, largest scale first: a value is written in the first choice whose smallest
+    /// magnitude it reaches.
+    pub choices: &'static [(&'static str, f64, f64)],
 }
 
 const fn prefixed(dimension: Dimension, symbol: &'static str) -> DisplayUnit {
@@ -194,7 +196,7 @@ const fn prefixed(dimension: Dimension, symbol: &'static str) -> DisplayUnit {
     }
 }
 
-const fn fixed(dimension: Dimension, choices: &'static [(&'static str, f64)]) -> DisplayUnit {
+const fn fixed(dimension: Dimension, choices: &'static [(&'static str, f64, f64)]) -> DisplayUnit {
     DisplayUnit {
         dimension,
         symbol: "",
@@ -218,7 +220,12 @@ pub const DISPLAY_UNITS: &[DisplayUnit] = &[
     prefixed(D::ENERGY, "J"),
     prefixed(D::CHARGE, "C"),
     prefixed(D::TIME, "s"),
-    prefixed(D::LENGTH, "m"),
+    // lengths in the trade's units: millimetres from 10 µm up to a metre (clearances, wire
+    // diameters, air gaps, tape), metres above (wire lengths, altitude)
+    fixed(
+        D::LENGTH,
+        &[("m", 1.0, 1.0), ("mm", 1e-3, 1e-5), ("µm", 1e-6, 0.0)],
+    ),
     prefixed(D::TEMPERATURE, "K"),
     prefixed(D::FORCE, "N"),
     prefixed(D::PRESSURE, "Pa"),
@@ -232,15 +239,26 @@ pub const DISPLAY_UNITS: &[DisplayUnit] = &[
     prefixed(D::MASS, "kg"),
     fixed(
         D::AREA,
-        &[("m²", 1.0), ("cm²", 1e-4), ("mm²", 1e-6), ("µm²", 1e-12)],
+        &[
+            ("m²", 1.0, 1.0),
+            ("cm²", 1e-4, 1e-4),
+            ("mm²", 1e-6, 1e-6),
+            ("µm²", 1e-12, 1e-12),
+        ],
     ),
-    fixed(D::VOLUME, &[("m³", 1.0), ("cm³", 1e-6), ("mm³", 1e-9)]),
+    fixed(
+        D::VOLUME,
+        &[("m³", 1.0, 1.0), ("cm³", 1e-6, 1e-6), ("mm³", 1e-9, 1e-9)],
+    ),
     fixed(
         D::AREA_PRODUCT,
-        &[("m⁴", 1.0), ("cm⁴", 1e-8), ("mm⁴", 1e-12)],
+        &[("m⁴", 1.0, 1.0), ("cm⁴", 1e-8, 1e-8), ("mm⁴", 1e-12, 1e-12)],
     ),
-    fixed(D::CURRENT_DENSITY, &[("A/mm²", 1e6)]),
-    fixed(D::POWER_PER_AREA, &[("W/cm²", 1e4), ("mW/cm²", 10.0)]),
+    fixed(D::CURRENT_DENSITY, &[("A/mm²", 1e6, 1e6)]),
+    fixed(
+        D::POWER_PER_AREA,
+        &[("W/cm²", 1e4, 1e4), ("mW/cm²", 10.0, 10.0)],
+    ),
 ];
 
 /// The display entry for a dimension, if it has one.

@@ -96,7 +96,7 @@ pub fn choose_unit(value: f64, dimension: Dimension) -> (String, f64) {
         } else {
             u.choices
                 .iter()
-                .find(|c| a >= c.1 * (1.0 - 1e-12))
+                .find(|c| a >= c.2 * (1.0 - 1e-12))
                 .or(u.choices.last())
         };
         c.map(|c| (c.0.to_string(), c.1))
