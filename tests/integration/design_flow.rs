@@ -86,7 +86,10 @@ fn working_voltage_is_bulk_peak_plus_reflected_plus_overshoot_plus_secondary() {
     for c in &d.corners {
         assert!(primary_swing_peak(&spec).value >= c.drain_voltage_peak.value * (1.0 - 1e-12));
     }
-    // RMS: max(bulk, (bulk + Vr)·√(1 − D)) + secondary peak, with the smallest high-line duty
+    // RMS: max(bulk, (bulk + Vr)·√(1 − D)) + the secondary's RMS, with the smallest high-line
+    // duty; the secondary's square wave swings V_bulk/n while the switch is on and V_r/n while
+    // it is off (hand calculation of the documented formula, common practice, no published
+    // source)
     let d_min = d
         .corners
         .iter()
@@ -94,7 +97,19 @@ fn working_voltage_is_bulk_peak_plus_reflected_plus_overshoot_plus_secondary() {
         .map(|c| c.duty_cycle)
         .fold(1.0, f64::min);
     same(spec.duty_cycle, d_min);
-    let rms = bulk.max((bulk + d.reflected_voltage.value) * (1.0 - d_min).sqrt()) + secondary;
+    let secondary_rms = d
+        .corners
+        .iter()
+        .filter(|c| c.corner.contains("high_line"))
+        .flat_map(|c| {
+            d.turns_ratios.iter().map(move |n| {
+                let (on, off) = (c.bulk_peak_voltage.value / n, d.reflected_voltage.value / n);
+                (c.duty_cycle * on * on + (1.0 - c.duty_cycle) * off * off).sqrt()
+            })
+        })
+        .fold(0.0, f64::max);
+    assert!(secondary_rms > 0.0 && secondary_rms < secondary);
+    let rms = bulk.max((bulk + d.reflected_voltage.value) * (1.0 - d_min).sqrt()) + secondary_rms;
     same(w.working_voltage_rms.value, rms);
 }
 

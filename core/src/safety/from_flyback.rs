@@ -21,7 +21,10 @@ impl FlybackBarrierSpec {
     /// - `secondary_voltage_peak`: the largest rectifier reverse voltage over outputs and
     ///   corners, V_bulk,peak/n + V_out: the largest swing of any secondary winding end against
     ///   the secondary return, for the rectifier on either end of the winding (conservative).
-    /// - `secondary_voltage_rms`: none, so the peak is used (conservative).
+    /// - `secondary_voltage_rms`: the largest over outputs and high-line corners of the
+    ///   secondary winding's square wave, √(D·(V_bulk/n)² + (1 − D)·(V_r/n)²), with n the
+    ///   output's turns ratio and D the corner's duty cycle (a DCM idle interval, where the
+    ///   winding rests near zero, is counted as the flyback interval: on the safe side).
     /// - `duty_cycle`: the smallest duty cycle over the corners at the highest line voltage
     ///   (a smaller duty gives the larger RMS in [`flyback_working_voltage`]).
     /// - `switching_frequency`: the design's.
@@ -52,18 +55,28 @@ impl FlybackBarrierSpec {
                 .map(|s| s.rectifier_reverse_voltage.value)
         }));
         let high_line = largest(design.corners.iter().map(|c| c.line_voltage.value));
-        let duty = design
-            .corners
-            .iter()
-            .filter(|c| c.line_voltage.value >= high_line * (1.0 - 1e-12))
+        let high_line_corners = || {
+            design
+                .corners
+                .iter()
+                .filter(move |c| c.line_voltage.value >= high_line * (1.0 - 1e-12))
+        };
+        let duty = high_line_corners()
             .map(|c| c.duty_cycle)
             .fold(f64::INFINITY, f64::min);
+        let secondary_rms = largest(high_line_corners().flat_map(|c| {
+            design.turns_ratios.iter().map(move |n| {
+                let on = c.bulk_peak_voltage.value / n;
+                let off = vr / n;
+                (c.duty_cycle * on * on + (1.0 - c.duty_cycle) * off * off).sqrt()
+            })
+        }));
         Ok(FlybackBarrierSpec {
             bulk_voltage_peak: si(bulk),
             reflected_voltage: design.reflected_voltage,
             clamp_overshoot: si((clamp - vr).max(0.0)),
             secondary_voltage_peak: si(secondary.max(0.0)),
-            secondary_voltage_rms: None,
+            secondary_voltage_rms: Some(si(secondary_rms.clamp(0.0, secondary.max(0.0)))),
             duty_cycle: duty,
             switching_frequency: design.switching_frequency,
         })
@@ -74,7 +87,8 @@ impl FlybackBarrierSpec {
 /// [`flyback_working_voltage`] of [`FlybackBarrierSpec::from_flyback`].
 ///
 /// Formula: peak = V_bulk,peak + V_r + V_overshoot + V_secondary,peak; RMS =
-/// max(V_bulk, (V_bulk + V_r)·√(1 − D)) + V_secondary (conservative sum, common practice,
+/// max(V_bulk, (V_bulk + V_r)·√(1 − D)) + V_secondary,rms, with the secondary's RMS from its
+/// square wave (see [`FlybackBarrierSpec::from_flyback`]) (conservative sum, common practice,
 /// no published source). Valid for any design [`crate::flyback::flyback_design`] returns.
 pub fn flyback_design_working_voltage(design: &FlybackDesign) -> Result<BarrierWorkingVoltage> {
     flyback_working_voltage(&FlybackBarrierSpec::from_flyback(design)?)

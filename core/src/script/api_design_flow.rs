@@ -30,10 +30,10 @@ static EMI_SOURCE: FunctionDoc = FunctionDoc {
 static BARRIER_VOLTAGE: FunctionDoc = FunctionDoc {
     name: "flyback_barrier_voltage",
     domain: Domain::Safety,
-    summary: "Primary–secondary working voltage (peak and RMS) of a flyback design: bulk peak at high line + reflected voltage + clamp overshoot + the secondary's largest swing (conservative sum); its fields feed barrier_requirements.",
+    summary: "Primary–secondary working voltage (peak and RMS) of a flyback design: bulk peak at high line + reflected voltage + clamp overshoot + the secondary's largest swing (conservative sum; RMS with the secondary's square-wave RMS); its fields feed barrier_requirements.",
     params: &[ParamDoc::required("design", ParamKind::Any, "a FlybackDesign")],
     keys: &[],
-    returns: "record: bulk_voltage_peak, reflected_voltage, clamp_overshoot, secondary_voltage_peak, duty_cycle, working_voltage_peak, working_voltage_rms, working_frequency, rule",
+    returns: "record: bulk_voltage_peak, reflected_voltage, clamp_overshoot, secondary_voltage_peak, secondary_voltage_rms, duty_cycle, working_voltage_peak, working_voltage_rms, working_frequency, rule",
     example: "flyback_barrier_voltage(flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A})).working_voltage_peak",
 };
 
@@ -86,8 +86,11 @@ pub(crate) fn register(api: &mut Api) {
                 Field::quantity("reflected_voltage", spec.reflected_voltage),
                 Field::quantity("clamp_overshoot", spec.clamp_overshoot),
                 Field::quantity("secondary_voltage_peak", spec.secondary_voltage_peak),
-                Field::new("duty_cycle", spec.duty_cycle),
             ];
+            if let Some(rms) = spec.secondary_voltage_rms {
+                fields.push(Field::quantity("secondary_voltage_rms", rms));
+            }
+            fields.push(Field::new("duty_cycle", spec.duty_cycle));
             fields.extend(w.fields());
             Ok(ScriptRecord::new("flyback_barrier_voltage", fields))
         }
