@@ -56,3 +56,20 @@ fn readme_commands_name_real_files() {
         "README carries the safety caution"
     );
 }
+
+#[test]
+fn readme_names_the_toolchain_the_workspace_asks_for() {
+    let text = std::fs::read_to_string(readme_path()).expect("README.md exists");
+    let manifest =
+        std::fs::read_to_string(Path::new(env!("CARGO_MANIFEST_DIR")).join("Cargo.toml"))
+            .expect("Cargo.toml exists");
+    let version = manifest
+        .lines()
+        .find_map(|l| l.trim().strip_prefix("rust-version = \""))
+        .and_then(|v| v.strip_suffix('"'))
+        .expect("the workspace sets rust-version");
+    assert!(
+        text.contains(&format!("{version} or newer")),
+        "README should name Rust {version} or newer, as Cargo.toml's rust-version does"
+    );
+}
