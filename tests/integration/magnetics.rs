@@ -37,6 +37,20 @@ fn e_type_effective_parameters_against_handbook_values() {
     // values (every handbook value here is a value recalled from memory, as are the
     // dimensions). Tolerances are what the method achieves with those dimensions:
     // ETD and EFD within 2.5 % on Ae and 3.5 % on le (IEC 60205 method, recalled handbook values)
+    let from_dimensions = |name: &str| {
+        gapwise::units::Quantity::from_typed(
+            magnetics::core_from_built_in_dimensions(name)
+                .unwrap()
+                .effective_area,
+        )
+    };
+    let length_from_dimensions = |name: &str| {
+        gapwise::units::Quantity::from_typed(
+            magnetics::core_from_built_in_dimensions(name)
+                .unwrap()
+                .effective_length,
+        )
+    };
     for (name, ae, le) in [
         ("ETD29", "76 mm2", "72.0 mm"),
         ("ETD34", "97.1 mm2", "78.6 mm"),
@@ -45,15 +59,15 @@ fn e_type_effective_parameters_against_handbook_values() {
         ("EFD20", "31 mm2", "47 mm"),
         ("EFD25", "58 mm2", "57 mm"),
     ] {
-        let c = format!("core_by_size(\"{name}\")");
-        check_near(eval_quantity(&format!("{c}.effective_area")), ae, 0.025);
-        check_near(eval_quantity(&format!("{c}.effective_length")), le, 0.035);
+        check_near(from_dimensions(name), ae, 0.025);
+        check_near(length_from_dimensions(name), le, 0.035);
     }
     // plain E and EF cores: le within 6 %, Ae high by up to 17 % because the recalled
     // centre-leg and depth dimensions are too large (E16/8/5: every section of the path is
     // at least 22 mm², above the handbook Ae of 20.1 mm²); RM and PQ are shaped cores the
     // E-type model only approximates: Ae within 12 %, le within 6 %
-    // (IEC 60205 method, recalled handbook values)
+    // (IEC 60205 method, recalled handbook values). This is why the built-in cores carry the
+    // handbook values themselves (next test).
     for (name, ae, le, tol_ae, tol_le) in [
         ("E16/8/5", "20.1 mm2", "37.6 mm", 0.17, 0.06),
         ("E30/15/7", "60 mm2", "67 mm", 0.17, 0.06),
@@ -66,10 +80,35 @@ fn e_type_effective_parameters_against_handbook_values() {
         ("PQ26/25", "120 mm2", "54.3 mm", 0.12, 0.06),
         ("PQ32/30", "161 mm2", "74.7 mm", 0.12, 0.06),
     ] {
-        let c = format!("core_by_size(\"{name}\")");
-        check_near(eval_quantity(&format!("{c}.effective_area")), ae, tol_ae);
-        check_near(eval_quantity(&format!("{c}.effective_length")), le, tol_le);
+        check_near(from_dimensions(name), ae, tol_ae);
+        check_near(length_from_dimensions(name), le, tol_le);
     }
+}
+
+#[test]
+fn built_in_cores_carry_handbook_effective_parameters() {
+    // makers' handbook values (value recalled from memory): a built-in core uses them for Ae,
+    // le, Ve and Amin, and says so; its window and turn length still come from the dimensions
+    for (name, ae, le) in [
+        ("EF25", "52.5 mm2", "57.5 mm"),
+        ("E16/8/5", "20.1 mm2", "37.6 mm"),
+        ("ETD34", "97.1 mm2", "78.6 mm"),
+    ] {
+        let c = format!("core_by_size(\"{name}\")");
+        check_near(eval_quantity(&format!("{c}.effective_area")), ae, 1e-9);
+        check_near(eval_quantity(&format!("{c}.effective_length")), le, 1e-9);
+        assert!(eval(&format!("{c}.effective_parameters_from")).contains("handbook"));
+        let plain = magnetics::core_from_built_in_dimensions(name).unwrap();
+        let built = core_by_size(name).unwrap();
+        assert_eq!(plain.window_area, built.window_area, "{name}");
+        assert_eq!(plain.mean_turn_length, built.mean_turn_length, "{name}");
+        assert!(built.minimum_area.value <= built.effective_area.value);
+    }
+    // a size without handbook values keeps the summation and says so
+    assert!(eval("core_by_size(\"E19/8/5\").effective_parameters_from").contains("IEC 60205"));
+    // the flux check divides by Amin (N ≥ L·I/(B·Amin)): EF25's is the handbook 51.5 mm²
+    let c = core_by_size("EF25").unwrap();
+    assert!((c.minimum_area.value - 51.5e-6).abs() < 1e-12);
 }
 
 #[test]

@@ -114,6 +114,9 @@ pub struct Core {
     pub mean_turn_length: Length,
     /// Outer surface of the wound transformer (for temperature rise).
     pub surface_area: Area,
+    /// Where Ae, le, Ve and Amin come from: the IEC 60205 summation over the dimensions, or,
+    /// for the built-in standard sizes that have them, makers' handbook values.
+    pub effective_parameters_from: String,
 }
 
 struct Segment {
@@ -250,6 +253,7 @@ impl Core {
             winding_height: si(bh),
             mean_turn_length: si(mlt),
             surface_area: si(surface),
+            effective_parameters_from: FROM_DIMENSIONS.to_string(),
         })
     }
 
@@ -295,6 +299,7 @@ impl Core {
             winding_height: si(bh),
             mean_turn_length: si(mlt),
             surface_area: si(surface),
+            effective_parameters_from: FROM_DIMENSIONS.to_string(),
         })
     }
 
@@ -329,6 +334,7 @@ impl Core {
             winding_height: positive("winding_height", winding_height)?,
             mean_turn_length: positive("mean_turn_length", mean_turn_length)?,
             surface_area: positive("surface_area", surface_area)?,
+            effective_parameters_from: "given effective parameters".to_string(),
         })
     }
 
@@ -355,6 +361,10 @@ impl Record for Core {
             Field::quantity("winding_height", self.winding_height),
             Field::quantity("mean_turn_length", self.mean_turn_length),
             Field::quantity("surface_area", self.surface_area),
+            Field::new(
+                "effective_parameters_from",
+                self.effective_parameters_from.as_str(),
+            ),
             Field::new(
                 "area_product",
                 crate::units::Quantity::new(
@@ -518,6 +528,34 @@ const PAIRED: &[(&str, CoreFamily, [f64; 8], bool, f64)] = &[
     ),
 ];
 
+/// What built cores' effective parameters come from when computed.
+const FROM_DIMENSIONS: &str = "IEC 60205 summation over the dimensions";
+
+/// Makers' handbook effective parameters of the built-in standard sizes that have them: name,
+/// Ae (mm²), le (mm), Amin (mm²); values recalled from memory. The IEC 60205 summation over
+/// our recalled dimensions puts plain E and EF cores up to 17 % high on Ae (which would
+/// understate the flux density by as much), so a built-in core takes these values for Ae, le,
+/// Ve = Ae·le and Amin; its window, bobbin and turn length still come from the dimensions.
+/// Sizes not listed keep the computed values and say so.
+const HANDBOOK_EFFECTIVE: &[(&str, f64, f64, f64)] = &[
+    ("E16/8/5", 20.1, 37.6, 19.3),
+    ("E30/15/7", 60.0, 67.0, 49.0),
+    ("E32/16/9", 83.0, 74.0, 81.0),
+    ("EF20", 32.0, 46.0, 31.0),
+    ("EF25", 52.5, 57.5, 51.5),
+    ("EFD20", 31.0, 47.0, 29.0),
+    ("EFD25", 58.0, 57.0, 55.0),
+    ("ETD29", 76.0, 72.0, 71.0),
+    ("ETD34", 97.1, 78.6, 91.6),
+    ("ETD39", 125.0, 92.2, 123.0),
+    ("ETD44", 173.0, 103.0, 172.0),
+    ("RM8", 64.0, 38.0, 55.0),
+    ("RM10", 98.0, 44.0, 89.0),
+    ("PQ20/16", 62.0, 37.4, 59.0),
+    ("PQ26/25", 120.0, 54.3, 108.0),
+    ("PQ32/30", 161.0, 74.7, 142.0),
+];
+
 /// Built-in toroid sizes in mm (outer diameter, inner diameter, height), IEC 62317 style
 /// ring sizes; nominal values recalled from memory.
 const TOROIDS: &[(&str, [f64; 3])] = &[
@@ -526,10 +564,11 @@ const TOROIDS: &[(&str, [f64; 3])] = &[
     ("T29/19/7.5", [29.0, 19.0, 7.5]),
 ];
 
-fn build_paired(entry: &(&str, CoreFamily, [f64; 8], bool, f64)) -> Result<Core> {
-    let (name, family, v, round, _) = entry;
+/// The dimensions of a built-in pair entry.
+fn paired_dimensions(entry: &(&str, CoreFamily, [f64; 8], bool, f64)) -> PairedCoreDimensions {
+    let (_, _, v, round, _) = entry;
     let mm = |x: f64| -> Length { si(x * 1e-3) };
-    let d = PairedCoreDimensions {
+    PairedCoreDimensions {
         overall_width: mm(v[0]),
         overall_height: mm(v[1]),
         depth: mm(v[2]),
@@ -543,8 +582,33 @@ fn build_paired(entry: &(&str, CoreFamily, [f64; 8], bool, f64)) -> Result<Core>
         } else {
             None
         },
-    };
-    Core::paired(name, *family, &d)
+    }
+}
+
+fn build_paired(entry: &(&str, CoreFamily, [f64; 8], bool, f64)) -> Result<Core> {
+    let (name, family, ..) = entry;
+    let mut core = Core::paired(name, *family, &paired_dimensions(entry))?;
+    if let Some((_, ae, le, amin)) = HANDBOOK_EFFECTIVE.iter().find(|h| h.0 == *name) {
+        core.effective_area = si(ae * 1e-6);
+        core.effective_length = si(le * 1e-3);
+        core.effective_volume = si(ae * le * 1e-9);
+        // never above the centre leg's own section from the dimensions
+        core.minimum_area = si((amin.min(*ae) * 1e-6).min(core.centre_leg_area.value));
+        core.effective_parameters_from =
+            "makers' handbook values for this standard size (value recalled from memory)".into();
+    }
+    Ok(core)
+}
+
+/// A built-in pair core from its dimensions alone (IEC 60205 summation), without the handbook
+/// effective parameters [`core_by_size`] uses: for checking the summation method.
+pub fn core_from_built_in_dimensions(name: &str) -> Result<Core> {
+    let want = normalise(name);
+    let entry = PAIRED
+        .iter()
+        .find(|e| normalise(e.0) == want)
+        .ok_or_else(|| Error::unknown(format!("no built-in pair core `{name}`")))?;
+    Core::paired(entry.0, entry.1, &paired_dimensions(entry))
 }
 
 /// Every built-in core, smallest effective volume first.

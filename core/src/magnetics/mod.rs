@@ -22,7 +22,8 @@ pub use core_loss::{
     steinmetz_loss_density, FluxSegment,
 };
 pub use cores::{
-    core_by_size, core_shapes, Core, CoreFamily, PairedCoreDimensions, ToroidDimensions,
+    core_by_size, core_from_built_in_dimensions, core_shapes, Core, CoreFamily,
+    PairedCoreDimensions, ToroidDimensions,
 };
 pub use from_flyback::{transformer_operating_point, TransformerOperatingPoint};
 pub use gap::{

@@ -49,7 +49,7 @@ static SHAPES: FunctionDoc = FunctionDoc {
 static BY_SIZE: FunctionDoc = FunctionDoc {
     name: "core_by_size",
     domain: Domain::Magnetics,
-    summary: "A built-in core by size name: Ae, le, Ve, Amin (IEC 60205), window, bobbin width and height, mean turn length, surface.",
+    summary: "A built-in core by size name: Ae, le, Ve, Amin (makers' handbook values where the size has them, else IEC 60205 from the dimensions; `effective_parameters_from` says which), window, bobbin width and height, mean turn length, surface.",
     params: &[ParamDoc::required("name", ParamKind::Text, "size name, e.g. \"ETD29\", \"E19/8/5\", \"T25/15/10\"")],
     keys: &[],
     returns: "core record",
@@ -410,6 +410,10 @@ fn core_arg(d: &Dynamic) -> Result<Core> {
                 winding_height: si(rec_quantity(&r, "winding_height")?),
                 mean_turn_length: si(rec_quantity(&r, "mean_turn_length")?),
                 surface_area: si(rec_quantity(&r, "surface_area")?),
+                effective_parameters_from: match r.get("effective_parameters_from") {
+                    Some(Value::Text(t)) => t.clone(),
+                    _ => "the core record".into(),
+                },
             });
         }
     }
