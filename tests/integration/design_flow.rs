@@ -409,3 +409,41 @@ fn flyback_checks_count_once_per_design() {
     .unwrap();
     assert_eq!(h.take_failed_checks(), 2);
 }
+
+#[test]
+fn the_safety_analysis_hands_tape_and_margins_to_the_winding_build() {
+    // the keys are the transformer_insulation values themselves (no formula: a hand-off);
+    // margins are half the barrier's creepage (common practice, no published source)
+    let t = "transformer_insulation(#{barrier: \"primary_secondary\", insulation: \"reinforced\", working_voltage_peak: 600 * V, working_voltage_rms: 300 * V, construction: CONSTRUCTION})";
+    let tape = t.replace("CONSTRUCTION", "\"margin_tape\"");
+    let keys = |expr: &str| {
+        eval(&format!(
+            "let t = {tape}; let b = transformer_build_inputs(t); {expr}"
+        ))
+    };
+    assert_eq!(
+        keys("b.insulation_layers == t.interwinding_tape_layers"),
+        "true"
+    );
+    assert_eq!(keys("b.margin_width == t.margin_width_each_side"), "true");
+    assert_eq!(keys("b.required_creepage == t.creepage_required"), "true");
+    assert_eq!(keys("b.margin_width * 2 == b.required_creepage"), "true");
+    assert_eq!(keys("b.secondary_triple_insulated"), "false");
+    let wire = t.replace("CONSTRUCTION", "\"triple_insulated_wire\"");
+    let b = eval(&format!("transformer_build_inputs({wire})"));
+    assert!(
+        b.contains("secondary_triple_insulated: true") && !b.contains("margin_width"),
+        "{b}"
+    );
+    // the keys are accepted by transformer_design (an unknown key would be an error)
+    let design = eval(&format!(
+        "let i = transformer_inputs_from_flyback(flyback_design(#{{output_voltage: 12 * V, output_current: 1.25 * A}})); i.core = \"EF25\"; i += transformer_build_inputs({wire}); transformer_design(i).design.primary_turns > 0"
+    ));
+    assert_eq!(design, "true");
+    let e = eval_err("transformer_build_inputs(creepage_distance(#{working_voltage: 250 * V}))");
+    assert!(
+        e.message.contains("transformer_insulation"),
+        "{}",
+        e.message
+    );
+}

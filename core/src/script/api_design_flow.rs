@@ -1,6 +1,7 @@
 //! Script API that connects the flyback design to the EMI and isolation work:
 //! `flyback_emi_source` (the converter keys of `input_filter_design` from a corner) and
-//! `flyback_barrier_voltage` (the primary–secondary working voltage from the design).
+//! `flyback_barrier_voltage` (the primary–secondary working voltage from the design), and
+//! `transformer_build_inputs` (the isolation's tape and margins handed to the winding build).
 
 use super::api_flyback::ScriptFlyback;
 use super::convert::{dynamic_to_typed, lift, value_to_dynamic, ScriptResult};
@@ -8,7 +9,7 @@ use super::docs::{Domain, FunctionDoc, ParamDoc, ParamKind};
 use super::record::ScriptRecord;
 use super::{def, overload, Api};
 use crate::emi::{emi_source_from_flyback, FlybackEmiSource, DEFAULT_DRAIN_RISE_TIME_S};
-use crate::report::{Field, Record};
+use crate::report::{Field, Record, Value};
 use crate::safety::{flyback_working_voltage, FlybackBarrierSpec};
 use crate::units::{si, Time};
 use rhai::{Dynamic, ImmutableString, Map};
@@ -36,6 +37,56 @@ static BARRIER_VOLTAGE: FunctionDoc = FunctionDoc {
     returns: "record: bulk_voltage_peak, reflected_voltage, clamp_overshoot, secondary_voltage_peak, secondary_voltage_rms, duty_cycle, working_voltage_peak, working_voltage_rms, working_frequency, rule",
     example: "flyback_barrier_voltage(flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A})).working_voltage_peak",
 };
+
+static BUILD_INPUTS: FunctionDoc = FunctionDoc {
+    name: "transformer_build_inputs",
+    domain: Domain::Magnetics,
+    summary: "The insulation keys of transformer_design from a transformer_insulation result (tape layers between the windings, margin width, the creepage to check the margins against, triple-insulated secondary); add them to the transformer inputs: `inputs += transformer_build_inputs(t)`.",
+    params: &[ParamDoc::required("insulation", ParamKind::Any, "a transformer_insulation record")],
+    keys: &[],
+    returns: "map with the keys insulation_layers, margin_width, required_creepage, secondary_triple_insulated",
+    example: "transformer_build_inputs(transformer_insulation(#{barrier: \"primary_secondary\", insulation: \"reinforced\", working_voltage_peak: 600 * V, working_voltage_rms: 300 * V}))",
+};
+
+/// The transformer_design keys of a transformer_insulation record.
+fn build_inputs(d: &Dynamic) -> crate::error::Result<Map> {
+    let wrong = || {
+        crate::error::Error::invalid(format!(
+            "`insulation` must be the record transformer_insulation returns, got a value of type {}",
+            d.type_name()
+        ))
+    };
+    let r = d.read_lock::<ScriptRecord>().ok_or_else(wrong)?;
+    if r.kind() != "transformer_insulation" {
+        return Err(wrong());
+    }
+    let field = |name: &str| {
+        r.get(name).cloned().ok_or_else(|| {
+            crate::error::Error::invalid(format!(
+                "the transformer_insulation record has no `{name}`"
+            ))
+        })
+    };
+    let triple = matches!(field("construction")?, Value::Text(t) if t == "triple_insulated_wire");
+    let mut m = Map::new();
+    m.insert(
+        "insulation_layers".into(),
+        value_to_dynamic(&field("interwinding_tape_layers")?),
+    );
+    m.insert(
+        "required_creepage".into(),
+        value_to_dynamic(&field("creepage_required")?),
+    );
+    if !triple {
+        // with a triple-insulated secondary the build needs no margins (and ignores the key)
+        m.insert(
+            "margin_width".into(),
+            value_to_dynamic(&field("margin_width_each_side")?),
+        );
+    }
+    m.insert("secondary_triple_insulated".into(), Dynamic::from(triple));
+    Ok(m)
+}
 
 fn source_map(s: &FlybackEmiSource) -> Map {
     let mut m = Map::new();
@@ -95,4 +146,7 @@ pub(crate) fn register(api: &mut Api) {
             Ok(ScriptRecord::new("flyback_barrier_voltage", fields))
         }
     );
+    def!(api, &BUILD_INPUTS, |d: Dynamic| -> ScriptResult<Map> {
+        lift(build_inputs(&d))
+    });
 }
