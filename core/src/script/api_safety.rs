@@ -242,7 +242,7 @@ static GROOVE: FunctionDoc = FunctionDoc {
 static BARRIER: FunctionDoc = FunctionDoc {
     name: "barrier_requirements",
     domain: Domain::Safety,
-    summary: "Clearance, creepage (product and printed board), solid and thin-sheet insulation and test voltage of a barrier, each with its rule and table row.",
+    summary: "Clearance (the largest for transients, for the peak working voltage and above 30 kHz), creepage (product and printed board, at least the high-frequency value), solid and thin-sheet insulation and test voltage of a barrier, each with its rule and table row.",
     params: &[ParamDoc::required("spec", ParamKind::Map, "see keys")],
     keys: barrier_keys!(),
     returns: "record: barrier, grade, impulse_voltage_peak, clearance, clearance_for_transients, clearance_for_working_voltage, clearance_for_high_frequency, creepage, creepage_printed_board, creepage_for_high_frequency, distance_through_insulation, thin_sheet_layers_*, test_voltage_peak, test_voltage_rms, *_rule, not_covered",
