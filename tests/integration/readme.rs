@@ -55,6 +55,35 @@ fn readme_commands_name_real_files() {
         text.contains("Caution"),
         "README carries the safety caution"
     );
+    // every example and recipe the README names exists
+    let root = Path::new(env!("CARGO_MANIFEST_DIR"));
+    let mut named = 0;
+    for part in text.split("cargo run --example ").skip(1) {
+        let name: String = part
+            .chars()
+            .take_while(|c| c.is_alphanumeric() || *c == '_')
+            .collect();
+        assert!(
+            root.join("examples").join(format!("{name}.rs")).exists(),
+            "README names example {name}, which does not exist"
+        );
+        named += 1;
+    }
+    assert!(named >= 1, "README names the examples");
+    for part in text
+        .split('`')
+        .filter(|p| p.ends_with(".rhai") && !p.contains(' '))
+    {
+        let path = if part.starts_with("scripts/") {
+            root.join(part)
+        } else {
+            root.join("scripts").join(part)
+        };
+        assert!(
+            path.exists(),
+            "README names recipe {part}, which does not exist"
+        );
+    }
 }
 
 #[test]
