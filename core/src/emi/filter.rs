@@ -129,13 +129,25 @@ pub fn lc_filter_attenuation(
     let q = r / r0.value;
     let x = f / f0.value;
     let h = Complex::new(1.0 - x * x, x / q).recip();
+    let attenuation = -20.0 * h.abs().log10();
+    let resonance_gain = 20.0 * q.log10();
+    if !(attenuation.is_finite() && resonance_gain.is_finite() && q > 0.0) {
+        return Err(Error::out_of_range(format!(
+            "the LC response cannot be computed for `inductance` = {} H, `capacitance` = {} F, \
+             `load_resistance` = {} Ω at `frequency` = {} Hz: the values are too far apart",
+            format_number(inductance.value),
+            format_number(capacitance.value),
+            format_number(r),
+            format_number(f)
+        )));
+    }
     Ok(LcFilterResponse {
         corner_frequency: f0,
         characteristic_impedance: r0,
         quality_factor: q,
-        resonance_gain: Decibel::from_amplitude_ratio(q)?,
+        resonance_gain: Decibel::ratio(resonance_gain),
         frequency,
-        attenuation: Decibel::ratio(-20.0 * h.abs().log10()),
+        attenuation: Decibel::ratio(attenuation),
     })
 }
 
@@ -174,7 +186,9 @@ impl Record for DampingNetwork {
 /// input) for a chosen capacitance ratio n = C_d/C:
 /// Q_opt = √((2+n)(4+3n) / (2n²(4+n))), R_d = R0·Q_opt, peak output impedance
 /// ‖Z_o‖ = R0·√(2(2+n))/n, R0 = √(L/C).
-/// Larger n damps better at the cost of a larger blocking capacitor. Valid: n > 0.
+/// Larger n damps better at the cost of a larger blocking capacitor.
+/// Valid: n = 0.01 … 100 (below, the branch hardly damps; above, the blocking capacitor is
+/// absurdly large; outside it is an out-of-range error).
 /// Reference: Erickson & Maksimović (2020), input filter chapter, optimal R–C_b parallel
 /// damping (value recalled from memory).
 pub fn damping_network(
@@ -184,14 +198,30 @@ pub fn damping_network(
 ) -> Result<DampingNetwork> {
     let r0 = lc_characteristic_impedance(inductance, capacitance)?;
     let n = positive_number("capacitance_ratio", capacitance_ratio)?;
+    if !(0.01..=100.0).contains(&n) {
+        return Err(Error::out_of_range(format!(
+            "`capacitance_ratio` n = C_d/C = {} is outside 0.01 … 100",
+            format_number(n)
+        )));
+    }
     let q = ((2.0 + n) * (4.0 + 3.0 * n) / (2.0 * n * n * (4.0 + n))).sqrt();
+    let cd = n * capacitance.value;
+    let rd = r0.value * q;
+    let peak = r0.value * (2.0 * (2.0 + n)).sqrt() / n;
+    if !(cd.is_finite() && rd.is_finite() && peak.is_finite()) {
+        return Err(Error::out_of_range(format!(
+            "the damping network overflows for `inductance` = {} H and `capacitance` = {} F",
+            format_number(inductance.value),
+            format_number(capacitance.value)
+        )));
+    }
     Ok(DampingNetwork {
         capacitance_ratio: n,
-        blocking_capacitance: si(n * capacitance.value),
-        damping_resistance: si(r0.value * q),
+        blocking_capacitance: si(cd),
+        damping_resistance: si(rd),
         quality_factor: q,
         characteristic_impedance: r0,
-        peak_output_impedance: si(r0.value * (2.0 * (2.0 + n)).sqrt() / n),
+        peak_output_impedance: si(peak),
     })
 }
 

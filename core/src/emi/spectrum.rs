@@ -6,7 +6,8 @@ use super::complex::Complex;
 use crate::error::{Error, Result};
 use crate::units::validate::{non_negative, positive};
 use crate::units::{
-    format_number, si, ElectricCurrent, ElectricPotential, Frequency, Time, TypedQuantity,
+    format_number, si, unit_symbol, ElectricCurrent, ElectricPotential, Frequency, Time,
+    TypedQuantity,
 };
 use std::f64::consts::PI;
 
@@ -105,7 +106,16 @@ impl<Q: TypedQuantity> PeriodicWaveform<Q> {
                 "`harmonic` must be 1 or more (use mean() for the DC value)",
             ));
         }
-        Ok(si(2.0 * self.coefficient(n).abs()))
+        let a = 2.0 * self.coefficient(n).abs();
+        if a.is_finite() {
+            Ok(si(a))
+        } else {
+            Err(Error::out_of_range(format!(
+                "harmonic {n} of this waveform overflows: its breakpoint values (in {}) are too \
+                 large to compute with",
+                unit_symbol(Q::dimension())
+            )))
+        }
     }
 }
 
