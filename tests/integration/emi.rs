@@ -991,3 +991,36 @@ fn huge_or_extreme_inputs_give_errors_not_inf_or_nan() {
     );
     assert!(e.to_string().contains("x_capacitance"), "{e}");
 }
+
+#[test]
+fn output_impedance_without_a_resonance_takes_the_asymptote() {
+    // Hand calculation of the same circuit, not a reference: with the line shorted,
+    // Z_o = (R_L + jωL) ∥ (ESR + 1/(jωC)) tends to R_L towards DC. With R_L = 100 Ω far above
+    // √(L/C) = 4.6 Ω there is no resonance, and the supremum is 100 Ω (before the review the
+    // scan's lowest point, 97.7 Ω at f0/100, was reported).
+    let p = filter_output_impedance_peak(si(1e-3), si(100.0), si(47e-6), si(0.0), None).unwrap();
+    assert!(
+        (p.magnitude.value - 100.0).abs() < 1e-6,
+        "{}",
+        p.magnitude.value
+    );
+    // a high-ESR capacitor: |Z_o| tends to the ESR towards high frequency; compare with a
+    // dense scan written here up to 10⁴·f0
+    let (l, c, esr) = (100e-6f64, 10e-6f64, 30.0f64);
+    let p = filter_output_impedance_peak(si(l), si(0.0), si(c), si(esr), None).unwrap();
+    let f0 = 1.0 / (2.0 * PI * (l * c).sqrt());
+    let j = Complex::new(0.0, 1.0);
+    let sup = (0..=80_000)
+        .map(|i| {
+            let w = 2.0 * PI * f0 * 10f64.powf(-2.0 + 6.0 * f64::from(i) / 80_000.0);
+            let zl = j * w * l;
+            let zc = esr + 1.0 / (j * w * c);
+            (zl * zc / (zl + zc)).norm()
+        })
+        .fold(0.0f64, f64::max);
+    assert!(
+        (p.magnitude.value / sup - 1.0).abs() < 0.01,
+        "{} vs {sup}",
+        p.magnitude.value
+    );
+}

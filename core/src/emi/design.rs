@@ -689,7 +689,9 @@ pub fn input_filter_report(design: &InputFilterDesign, rows: usize) -> Result<St
     let _ = writeln!(
         s,
         "\nEstimates are first-order (lumped parasitics, in-phase DM+CM sum); confirm with a \
-         conducted emission scan. Levels below {} dBµV are shown as that floor.",
+         conducted emission scan. The filter parts are ideal (no choke winding capacitance, \
+         no capacitor ESL), so filtered levels above a few MHz are optimistic. Levels below {} \
+         dBµV are shown as that floor.",
         super::LEVEL_FLOOR
     );
     Ok(s)

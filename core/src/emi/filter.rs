@@ -239,7 +239,9 @@ pub struct ImpedancePeak {
 /// (the worst case for the filter's resonance). The peak is found by scanning 4000
 /// logarithmically spaced points from f0/100 to 100·f0.
 /// Assumptions: ideal parts apart from the series resistances given. Valid: L, C > 0,
-/// resistances ≥ 0 (all zero gives an unbounded peak, which is reported as an error).
+/// resistances ≥ 0 (all zero gives an unbounded peak, which is reported as an error). When a
+/// resistance larger than √(L/C) leaves no resonance and the largest |Z_o| lies at an end of
+/// the scan, the asymptote there is the peak: R_L towards DC, ESR ∥ R_d towards high frequency.
 /// Reference: Erickson & Maksimović (2020), input filter chapter (filter output impedance).
 pub fn filter_output_impedance_peak(
     inductance: Inductance,
@@ -266,6 +268,7 @@ pub fn filter_output_impedance_peak(
         ));
     }
     let mut best = (0.0f64, f0);
+    let mut best_index = 0;
     let points = 4000;
     for i in 0..=points {
         let f = f0 * 10f64.powf(-2.0 + 4.0 * f64::from(i) / f64::from(points));
@@ -278,11 +281,26 @@ pub fn filter_output_impedance_peak(
         let z = y.recip().abs();
         if z.is_finite() && z > best.0 {
             best = (z, f);
+            best_index = i;
         }
+    }
+    // A resistance larger than √(L/C) leaves no resonance peak: |Z_o| keeps rising towards an
+    // end of the scan, and its supremum is the asymptote there (R_L towards DC with the line
+    // shorted, ESR ∥ R_d towards high frequency).
+    if best_index == 0 {
+        best.0 = best.0.max(rl);
+    } else if best_index == points {
+        let high = match damp {
+            Some((r, _)) if r + esr > 0.0 => r * esr / (r + esr),
+            Some(_) => 0.0,
+            None => esr,
+        };
+        best.0 = best.0.max(high);
     }
     if !(best.0.is_finite() && best.0 > 0.0) || best.0 > 1e12 {
         return Err(Error::invalid(
-            "the filter has no damping at all (zero resistances): its output impedance peak is unbounded",
+            "the filter's output impedance peak is unbounded or above 1 TΩ: it has no usable \
+             damping (`inductor_resistance`, `capacitor_esr` or a damping branch, Ω)",
         ));
     }
     Ok(ImpedancePeak {
