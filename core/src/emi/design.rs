@@ -160,7 +160,8 @@ pub struct InputFilterDesign {
     pub worst_margin_filtered: Decibel,
     /// Frequency of the worst filtered margin.
     pub worst_frequency: Frequency,
-    /// Peak output impedance seen by the converter (DM inductor with the bulk capacitor).
+    /// Peak output impedance seen by the converter (the DM inductors in series with the bulk
+    /// capacitor, line side shorted).
     pub output_impedance_peak: Option<ImpedancePeak>,
     /// Middlebrook's criterion with that peak.
     pub middlebrook: Option<MiddlebrookCheck>,
@@ -283,8 +284,9 @@ fn corner_for(levels: &[f64], targets: &[f64], freqs: &[f64], order: f64) -> Opt
 ///    Y capacitance, L_cm = 1/((2πf_c)²·C_y) with f_c = min f_n·10^(−A_n/40) from the bare
 ///    CM estimate. Both are then evaluated on the full circuit (LISN, bulk capacitor, stages)
 ///    and the inductances raised until every harmonic meets its target (at most 40 steps).
-/// 4. Damping: the DM inductor nearest the converter resonates with the bulk capacitor; its
-///    peak output impedance (bulk ESR and inductor resistance as the only damping) is checked
+/// 4. Damping: the DM inductance resonates with the bulk capacitor (near that resonance the X
+///    capacitors are open, so with two stages both inductors count, in series); the peak
+///    output impedance (bulk ESR and inductor resistances as the only damping) is checked
 ///    with Middlebrook's criterion against |R_N| = V_in,min²/P_in, and the parallel R–C
 ///    damping network (Erickson's optimum) with the smallest ratio n = C_d/C that alone meets
 ///    the margin is given: n = (R0² + R0·√(R0² + 4·Z_max²))/Z_max², Z_max = |R_N|/margin,
@@ -463,35 +465,41 @@ pub fn input_filter_design(spec: &InputFilterSpec) -> Result<InputFilterDesign> 
         .ok_or_else(|| Error::invalid("no harmonic of the switching frequency lies in the band"))?;
 
     // damping and Middlebrook's criterion
-    let (peak, middlebrook, damping) = match stages.first() {
-        Some(s) => {
-            let peak = filter_output_impedance_peak(
-                s.inductance,
-                s.inductor_resistance,
+    // Near the bulk capacitor's resonance with the filter the X capacitors are open, so the
+    // converter sees every stage's inductance (and resistance) in series.
+    let (peak, middlebrook, damping) = if stages.is_empty() {
+        (None, None, None)
+    } else {
+        let l_total: Inductance = si(stages.iter().map(|s| s.inductance.value).sum::<f64>());
+        let r_total: ElectricalResistance = si(stages
+            .iter()
+            .map(|s| s.inductor_resistance.value)
+            .sum::<f64>());
+        let peak = filter_output_impedance_peak(
+            l_total,
+            r_total,
+            spec.bulk_capacitance,
+            spec.bulk_esr,
+            None,
+        )?;
+        let mb = middlebrook_criterion(
+            peak.magnitude,
+            spec.minimum_input_voltage,
+            spec.input_power,
+            spec.middlebrook_margin,
+        )?;
+        let allowed =
+            mb.negative_input_resistance.value / 10f64.powf(spec.middlebrook_margin.value / 20.0);
+        let r0 = (l_total.value / spec.bulk_capacitance.value).sqrt();
+        let net = match smallest_damping_ratio(r0, allowed) {
+            Some(n) => Some(damping_network(
+                l_total,
                 spec.bulk_capacitance,
-                spec.bulk_esr,
-                None,
-            )?;
-            let mb = middlebrook_criterion(
-                peak.magnitude,
-                spec.minimum_input_voltage,
-                spec.input_power,
-                spec.middlebrook_margin,
-            )?;
-            let allowed = mb.negative_input_resistance.value
-                / 10f64.powf(spec.middlebrook_margin.value / 20.0);
-            let r0 = (s.inductance.value / spec.bulk_capacitance.value).sqrt();
-            let net = match smallest_damping_ratio(r0, allowed) {
-                Some(n) => Some(damping_network(
-                    s.inductance,
-                    spec.bulk_capacitance,
-                    n.max(MIN_DAMPING_RATIO),
-                )?),
-                None => None,
-            };
-            (Some(peak), Some(mb), net)
-        }
-        None => (None, None, None),
+                n.max(MIN_DAMPING_RATIO),
+            )?),
+            None => None,
+        };
+        (Some(peak), Some(mb), net)
     };
 
     let total_x: Capacitance = si(cx * stages.len().max(1) as f64);
