@@ -500,6 +500,7 @@ fn one_call_design_at_the_prompt() {
             "<test>",
         )
         .unwrap();
+    // target: the common-practice 6 dB margin (common practice, no published source)
     assert!(
         h.display(&v).starts_with("[true, \"pass\", 1"),
         "{}",
@@ -1059,4 +1060,34 @@ fn two_stage_output_impedance_sees_both_inductors() {
         (peak / sup - 1.0).abs() < 0.03,
         "design {peak} Ω, ladder scan {sup} Ω"
     );
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig::with_cases(32))]
+
+    // the design either meets its margin at every harmonic or says it cannot: never a
+    // filter that silently misses the target, never a non-finite level
+    #[test]
+    fn design_meets_its_margin_or_refuses(
+        cp in 1e-12f64..200e-12, cy in 100e-12f64..4.7e-9, cx in 10e-9f64..1e-6,
+        peak in 0.1f64..5.0, rise in 5e-9f64..200e-9, stages in 1u32..3, margin in 0.0f64..12.0
+    ) {
+        let spec = InputFilterSpec {
+            parasitic_capacitance: si(cp),
+            max_y_capacitance: si(cy),
+            x_capacitance: si(cx),
+            primary_current: PrimaryCurrentShape::Continuous { valley: si(0.3 * peak), peak: si(peak), duty: 0.4 },
+            drain_voltage: DrainVoltageShape { amplitude: si(500.0), duty: 0.4, rise_time: si(rise), fall_time: si(rise) },
+            stages,
+            margin: Decibel::ratio(margin),
+            ..fernbank_like(65e3)
+        };
+        match input_filter_design(&spec) {
+            Ok(d) => {
+                prop_assert!(d.worst_margin_filtered.value >= margin - 1e-9, "{}", d.worst_margin_filtered);
+                prop_assert!(d.harmonics.iter().all(|h| h.estimate_filtered.value.is_finite()));
+            }
+            Err(e) => prop_assert_eq!(e.kind(), ErrorKind::Infeasible, "{}", e.message()),
+        }
+    }
 }
