@@ -1091,3 +1091,28 @@ proptest! {
         }
     }
 }
+
+#[test]
+fn no_y_capacitor_is_allowed_and_a_choke_alone_cannot_do_the_work() {
+    // Current divider of the lumped CM model (common practice, no published source): without
+    // a Y capacitor the CM current is set by the small parasitic capacitance, and a choke in
+    // series with the LISNs hardly changes it, so the design says it is infeasible and points
+    // at the Y capacitance.
+    let spec = InputFilterSpec {
+        max_y_capacitance: si(0.0),
+        ..fernbank_like(65e3)
+    };
+    let e = input_filter_design(&spec).unwrap_err();
+    assert_eq!(e.kind(), ErrorKind::Infeasible);
+    assert!(e.message().contains("max_y_capacitance"), "{}", e.message());
+    // a parasitic capacitance of 10 fF needs no Y capacitor and no choke; no touch current
+    let spec = InputFilterSpec {
+        max_y_capacitance: si(0.0),
+        parasitic_capacitance: si(0.01e-12),
+        ..fernbank_like(65e3)
+    };
+    let d = input_filter_design(&spec).unwrap();
+    assert!(d.choke_inductance.is_none());
+    assert_eq!(d.y_touch_current.value, 0.0);
+    assert!(d.worst_margin_filtered.value >= 6.0 - 1e-9);
+}

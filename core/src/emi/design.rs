@@ -53,7 +53,8 @@ pub struct InputFilterSpec {
     pub x_capacitance: Capacitance,
     /// Series resistance of each DM inductor.
     pub inductor_resistance: ElectricalResistance,
-    /// Largest total Y capacitance the touch-current limit allows (from the safety work).
+    /// Largest total Y capacitance the touch-current limit allows (from the safety work);
+    /// zero for none.
     pub max_y_capacitance: Capacitance,
     /// Lowest DC input (bulk) voltage at full power, for Middlebrook's criterion.
     pub minimum_input_voltage: ElectricPotential,
@@ -148,7 +149,7 @@ pub struct InputFilterDesign {
     pub differential_stages: Vec<FilterStage>,
     /// Corner frequency of each DM stage (with its X capacitor).
     pub differential_corner: Option<Frequency>,
-    /// Y capacitance used (the allowed maximum).
+    /// Y capacitance used (the allowed maximum; zero for none).
     pub y_capacitance: Capacitance,
     /// Common-mode choke inductance (None when the Y capacitance alone suffices).
     pub choke_inductance: Option<Inductance>,
@@ -320,7 +321,9 @@ pub fn input_filter_design(spec: &InputFilterSpec) -> Result<InputFilterDesign> 
     }
     let cx = positive("x_capacitance", spec.x_capacitance)?.value;
     let rl = non_negative("inductor_resistance", spec.inductor_resistance)?.value;
-    let cy = positive("max_y_capacitance", spec.max_y_capacitance)?.value;
+    // zero: no Y capacitor (a choke alone then hardly helps, see the CM step)
+    let cy_value = non_negative("max_y_capacitance", spec.max_y_capacitance)?.value;
+    let cy = (cy_value > 0.0).then_some(cy_value);
     positive("minimum_input_voltage", spec.minimum_input_voltage)?;
     positive("input_power", spec.input_power)?;
 
@@ -390,13 +393,15 @@ pub fn input_filter_design(spec: &InputFilterSpec) -> Result<InputFilterDesign> 
     // common mode: the Y capacitance first, a choke if it is not enough
     let with_y: Vec<f64> = ns
         .iter()
-        .map(|&n| finite_level(cm.receiver_voltage(Some(cy), None, n), "common-mode"))
+        .map(|&n| finite_level(cm.receiver_voltage(cy, None, n), "common-mode"))
         .collect::<Result<_>>()?;
     let mut choke = None;
     let mut cm_corner = None;
     if worst_excess(&with_y, &targets) > 0.0 {
         if let Some(fc) = corner_for(&bare.cm, &targets, &freqs, 2.0) {
-            let mut l = 1.0 / ((2.0 * PI * fc).powi(2) * cy);
+            // without a Y capacitor the choke only adds to a path that the small parasitic
+            // capacitance already dominates; start from 1 mH and let the loop find out
+            let mut l = cy.map_or(1e-3, |cy| 1.0 / ((2.0 * PI * fc).powi(2) * cy));
             let hint = "raise `max_y_capacitance` (F) if the touch-current budget allows, lower \
                         `parasitic_capacitance` (F) (a shield or a lower-capacitance mounting), \
                         slow the drain edges (`rise_time`, s) or lower `margin` (dB)";
@@ -407,9 +412,7 @@ pub fn input_filter_design(spec: &InputFilterSpec) -> Result<InputFilterDesign> 
                 }
                 let levels: Vec<f64> = ns
                     .iter()
-                    .map(|&n| {
-                        finite_level(cm.receiver_voltage(Some(cy), Some(l), n), "common-mode")
-                    })
+                    .map(|&n| finite_level(cm.receiver_voltage(cy, Some(l), n), "common-mode"))
                     .collect::<Result<_>>()?;
                 let e = worst_excess(&levels, &targets);
                 if e <= 0.0 {
@@ -425,11 +428,11 @@ pub fn input_filter_design(spec: &InputFilterSpec) -> Result<InputFilterDesign> 
                 )));
             }
             choke = Some(l);
-            cm_corner = Some(si(1.0 / (2.0 * PI * (l * cy).sqrt())));
+            cm_corner = cy.map(|cy| si(1.0 / (2.0 * PI * (l * cy).sqrt())));
         }
     }
 
-    let filtered = evaluate(&dm, &cm, &ns, &stages, Some(cy), choke)?;
+    let filtered = evaluate(&dm, &cm, &ns, &stages, cy, choke)?;
     let mut rows = Vec::with_capacity(ns.len());
     for i in 0..ns.len() {
         let lim = limit[i];
@@ -509,11 +512,14 @@ pub fn input_filter_design(spec: &InputFilterSpec) -> Result<InputFilterDesign> 
         discharge_time: spec.discharge_time,
         residual_voltage_limit: spec.discharge_voltage,
     })?;
-    let y_touch_current = y_capacitor_touch_current(
-        spec.max_y_capacitance,
-        spec.maximum_line_voltage,
-        spec.line_frequency,
-    )?;
+    let y_touch_current = match cy {
+        Some(_) => y_capacitor_touch_current(
+            spec.max_y_capacitance,
+            spec.maximum_line_voltage,
+            spec.line_frequency,
+        )?,
+        None => si(0.0),
+    };
     Ok(InputFilterDesign {
         spec: *spec,
         worst_margin_unfiltered: db(worst_un),

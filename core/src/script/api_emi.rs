@@ -112,7 +112,7 @@ const RL: ParamDoc = ParamDoc::with_default(
 const CY_MAX: ParamDoc = ParamDoc::required(
     "max_y_capacitance",
     ParamKind::Quantity("F"),
-    "largest total Y capacitance the touch-current limit allows (safety domain)",
+    "largest total Y capacitance the touch-current limit allows (safety domain); 0 F for none",
 );
 const VIN_MIN: ParamDoc = ParamDoc::required(
     "minimum_input_voltage",
