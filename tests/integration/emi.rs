@@ -1116,3 +1116,29 @@ fn no_y_capacitor_is_allowed_and_a_choke_alone_cannot_do_the_work() {
     assert_eq!(d.y_touch_current.value, 0.0);
     assert!(d.worst_margin_filtered.value >= 6.0 - 1e-9);
 }
+
+#[test]
+fn y_touch_current_is_checked_against_the_es1_limit() {
+    // IEC 62368-1:2018, ES1 touch-current limit 0.5 mA RMS (value recalled from memory, the
+    // safety domain's table); I = 2π·f·C·V: 2.2 nF at 264 V / 60 Hz gives 219 µA (hand
+    // calculation of the same formula), 10 nF gives 995 µA and fails
+    let d = input_filter_design(&fernbank_like(65e3)).unwrap();
+    let checks = gapwise::emi::input_filter_checks(&d).unwrap();
+    let touch = checks
+        .iter()
+        .find(|c| c.id == "y_capacitor_touch_current")
+        .unwrap();
+    assert_eq!(touch.status.to_string(), "pass");
+    assert!((d.y_touch_current.value - 2.0 * PI * 60.0 * 2.2e-9 * 264.0).abs() < 1e-12);
+    let d = input_filter_design(&InputFilterSpec {
+        max_y_capacitance: si(10e-9),
+        ..fernbank_like(65e3)
+    })
+    .unwrap();
+    let checks = gapwise::emi::input_filter_checks(&d).unwrap();
+    let touch = checks
+        .iter()
+        .find(|c| c.id == "y_capacitor_touch_current")
+        .unwrap();
+    assert_eq!(touch.status.to_string(), "fail");
+}

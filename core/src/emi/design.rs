@@ -14,6 +14,7 @@ use super::{in_band_harmonics, level_of_peak};
 use crate::error::{Error, Result};
 use crate::report::{Field, Record, Table, SAFETY_CAUTION};
 use crate::rules::{CheckResult, Comparison, Rule};
+use crate::safety::tables::{TOUCH_CURRENT_ES1, TOUCH_CURRENT_SOURCE};
 use crate::safety::{
     x_discharge_resistor, y_capacitor_touch_current, DischargeResistor, DischargeSpec,
 };
@@ -637,7 +638,9 @@ pub fn harmonic_table(design: &InputFilterDesign, rows: usize) -> Table {
 
 /// The design checks: the worst filtered margin against the target margin
 /// (`conducted_emission_margin`, at least, in dB), and the filter's peak output impedance
-/// against |R_N| reduced by the Middlebrook margin (`input_filter_damping`, at most).
+/// against |R_N| reduced by the Middlebrook margin (`input_filter_damping`, at most), and the
+/// Y capacitance's touch current against the ES1 limit (`y_capacitor_touch_current`, at most;
+/// IEC 62368-1:2018, value recalled from memory, see `crate::safety::tables`).
 /// Reference: CISPR 32:2015 limits with the house margin; Middlebrook (1976).
 pub fn input_filter_checks(design: &InputFilterDesign) -> Result<Vec<CheckResult>> {
     let margin = Rule::new(
@@ -661,6 +664,18 @@ pub fn input_filter_checks(design: &InputFilterDesign) -> Result<Vec<CheckResult
             0.05,
         )?;
         out.push(rule.check(Quantity::from_typed(p.magnitude))?);
+    }
+    if design.y_capacitance.value > 0.0 {
+        let source = TOUCH_CURRENT_SOURCE.cite();
+        let rule = Rule::new(
+            "y_capacitor_touch_current",
+            "touch current of the Y capacitance at the highest line voltage and frequency",
+            &source,
+            Comparison::AtMost,
+            Quantity::from_typed::<ElectricCurrent>(si(TOUCH_CURRENT_ES1)),
+            0.1,
+        )?;
+        out.push(rule.check(Quantity::from_typed(design.y_touch_current))?);
     }
     Ok(out)
 }
