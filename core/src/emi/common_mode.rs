@@ -92,7 +92,10 @@ pub fn common_mode_noise(
     let l = choke_inductance
         .map(|l| positive("choke_inductance", l).map(|q| q.value))
         .transpose()?;
-    Ok(in_band_harmonics(c.fsw)
-        .map(|n| HarmonicLevel::new(n, c.fsw, level_of_peak(c.receiver_voltage(y, l, n))))
-        .collect())
+    in_band_harmonics(c.fsw)
+        .map(|n| {
+            let v = super::design::finite_level(c.receiver_voltage(y, l, n), "common-mode")?;
+            Ok(HarmonicLevel::new(n, c.fsw, level_of_peak(v)))
+        })
+        .collect()
 }

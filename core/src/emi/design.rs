@@ -14,6 +14,7 @@ use super::{in_band_harmonics, level_of_peak};
 use crate::error::{Error, Result};
 use crate::report::{Field, Record, Table, SAFETY_CAUTION};
 use crate::rules::{CheckResult, Comparison, Rule};
+use crate::safety::tables::{TOUCH_CURRENT_ES1, TOUCH_CURRENT_SOURCE};
 use crate::safety::{
     x_discharge_resistor, y_capacitor_touch_current, DischargeResistor, DischargeSpec,
 };
@@ -45,7 +46,7 @@ pub struct InputFilterSpec {
     pub parasitic_capacitance: Capacitance,
     /// CISPR 32 class to meet.
     pub class: EmissionClass,
-    /// Margin under the limit to design for (a ratio in dB, e.g. 6 dB).
+    /// Margin under the limit to design for (a ratio in dB, 0 … 40 dB, e.g. 6 dB).
     pub margin: Decibel,
     /// Number of DM LC stages, 1 or 2.
     pub stages: u32,
@@ -53,7 +54,8 @@ pub struct InputFilterSpec {
     pub x_capacitance: Capacitance,
     /// Series resistance of each DM inductor.
     pub inductor_resistance: ElectricalResistance,
-    /// Largest total Y capacitance the touch-current limit allows (from the safety work).
+    /// Largest total Y capacitance the touch-current limit allows (from the safety work);
+    /// zero for none.
     pub max_y_capacitance: Capacitance,
     /// Lowest DC input (bulk) voltage at full power, for Middlebrook's criterion.
     pub minimum_input_voltage: ElectricPotential,
@@ -148,7 +150,7 @@ pub struct InputFilterDesign {
     pub differential_stages: Vec<FilterStage>,
     /// Corner frequency of each DM stage (with its X capacitor).
     pub differential_corner: Option<Frequency>,
-    /// Y capacitance used (the allowed maximum).
+    /// Y capacitance used (the allowed maximum; zero for none).
     pub y_capacitance: Capacitance,
     /// Common-mode choke inductance (None when the Y capacitance alone suffices).
     pub choke_inductance: Option<Inductance>,
@@ -160,12 +162,15 @@ pub struct InputFilterDesign {
     pub worst_margin_filtered: Decibel,
     /// Frequency of the worst filtered margin.
     pub worst_frequency: Frequency,
-    /// Peak output impedance seen by the converter (DM inductor with the bulk capacitor).
+    /// Peak output impedance seen by the converter (the DM inductors in series with the bulk
+    /// capacitor, line side shorted).
     pub output_impedance_peak: Option<ImpedancePeak>,
     /// Middlebrook's criterion with that peak.
     pub middlebrook: Option<MiddlebrookCheck>,
-    /// A parallel R–C damping network across the bulk capacitor that would meet the
-    /// Middlebrook margin on its own (useful when the bulk ESR is low).
+    /// The parallel R–C damping network across the bulk capacitor, Erickson's optimum for the
+    /// smallest capacitance ratio n (0.25 … 16) that meets the Middlebrook margin on its own
+    /// (useful when the bulk ESR is low); None when there is no DM stage or when even n = 16
+    /// would not meet it (then lower the DM inductance or raise the bulk capacitance).
     pub damping: Option<DampingNetwork>,
     /// The X capacitors' discharge resistor.
     pub x_discharge: DischargeResistor,
@@ -189,14 +194,60 @@ fn evaluate(
     stages: &[FilterStage],
     y: Option<f64>,
     choke: Option<f64>,
-) -> Evaluated {
-    Evaluated {
-        dm: ns.iter().map(|&n| dm.receiver_voltage(stages, n)).collect(),
+) -> Result<Evaluated> {
+    Ok(Evaluated {
+        dm: ns
+            .iter()
+            .map(|&n| finite_level(dm.receiver_voltage(stages, n), "differential-mode"))
+            .collect::<Result<_>>()?,
         cm: ns
             .iter()
-            .map(|&n| cm.receiver_voltage(y, choke, n))
-            .collect(),
+            .map(|&n| finite_level(cm.receiver_voltage(y, choke, n), "common-mode"))
+            .collect::<Result<_>>()?,
+    })
+}
+
+/// A receiver voltage (peak volts) must be a finite number: an overflow is an error, never a
+/// level shown as the floor.
+pub(crate) fn finite_level(v: f64, mode: &str) -> Result<f64> {
+    if v.is_finite() {
+        Ok(v)
+    } else {
+        Err(Error::out_of_range(format!(
+            "the {mode} noise estimate overflows: the converter's currents (A), voltages (V) or \
+             parts (F, H, Ω) are far outside anything this estimate covers"
+        )))
     }
+}
+
+/// Largest DM inductance per stage the design will propose, henries (50 mH): beyond it the
+/// filter is not one a 5–75 W supply is built with, and the design is reported as infeasible
+/// (common practice, no published source).
+pub const MAX_DIFFERENTIAL_INDUCTANCE_H: f64 = 50e-3;
+/// Largest common-mode choke inductance the design will propose, henries (200 mH), for the
+/// same reason (common practice, no published source).
+pub const MAX_CHOKE_INDUCTANCE_H: f64 = 200e-3;
+
+/// The error of an inductance the design cannot reasonably propose.
+fn too_large(what: &str, key_hint: &str, max: f64) -> Error {
+    Error::infeasible(format!(
+        "the {what} would need more than {} mH, more than this design proposes; {key_hint}",
+        crate::units::format_number(max * 1e3)
+    ))
+}
+
+/// Smallest capacitance ratio the design proposes for the R–C damping network (n = 0.25).
+const MIN_DAMPING_RATIO: f64 = 0.25;
+/// Largest capacitance ratio the design proposes (n = 16: the blocking capacitor would be
+/// sixteen bulk capacitors); beyond it no damping network is proposed.
+const MAX_DAMPING_RATIO: f64 = 16.0;
+
+/// The smallest n = C_d/C whose optimally damped peak R0·√(2(2+n))/n is at most `allowed`:
+/// the positive root of allowed²·n² − 2R0²·n − 4R0² = 0,
+/// n = (R0² + R0·√(R0² + 4·allowed²))/allowed². None when it exceeds [`MAX_DAMPING_RATIO`].
+fn smallest_damping_ratio(r0: f64, allowed: f64) -> Option<f64> {
+    let n = (r0 * r0 + r0 * (r0 * r0 + 4.0 * allowed * allowed).sqrt()) / (allowed * allowed);
+    (n.is_finite() && n <= MAX_DAMPING_RATIO).then_some(n)
 }
 
 /// Worst excess (dB) of `levels` (peak volts) over the per-harmonic targets (dBµV).
@@ -235,13 +286,19 @@ fn corner_for(levels: &[f64], targets: &[f64], freqs: &[f64], order: f64) -> Opt
 ///    Y capacitance, L_cm = 1/((2πf_c)²·C_y) with f_c = min f_n·10^(−A_n/40) from the bare
 ///    CM estimate. Both are then evaluated on the full circuit (LISN, bulk capacitor, stages)
 ///    and the inductances raised until every harmonic meets its target (at most 40 steps).
-/// 4. Damping: the DM inductor nearest the converter resonates with the bulk capacitor; its
-///    peak output impedance (bulk ESR and inductor resistance as the only damping) is checked
-///    with Middlebrook's criterion against |R_N| = V_in,min²/P_in, and the smallest parallel
-///    R–C damping network (Erickson's optimum) that alone meets the margin is given.
+/// 4. Damping: the DM inductance resonates with the bulk capacitor (near that resonance the X
+///    capacitors are open, so with two stages both inductors count, in series); the peak
+///    output impedance (bulk ESR and inductor resistances as the only damping) is checked
+///    with Middlebrook's criterion against |R_N| = V_in,min²/P_in, and the parallel R–C
+///    damping network (Erickson's optimum) with the smallest ratio n = C_d/C that alone meets
+///    the margin is given: n = (R0² + R0·√(R0² + 4·Z_max²))/Z_max², Z_max = |R_N|/margin,
+///    at least 0.25 and none above 16.
 /// 5. X discharge resistor for the total X capacitance; touch current of the Y capacitance.
 ///
 /// Valid: 1 or 2 stages; switching frequency 10 kHz … 2 MHz; all parts positive.
+/// Errors (infeasible): a DM stage above [`MAX_DIFFERENTIAL_INDUCTANCE_H`] or a choke above
+/// [`MAX_CHOKE_INDUCTANCE_H`] would be needed, naming the inputs that would help; an estimate
+/// that overflows is an out-of-range error, never a level shown at the floor.
 /// References: CISPR 32:2015 Tables A.9/A.10 (limits); CISPR 16-1-2 (LISN); Erickson &
 /// Maksimović, *Fundamentals of Power Electronics*, 3rd ed. (2020), input filter chapter;
 /// Middlebrook (1976). The 6 dB split between DM and CM is common practice, no published
@@ -249,9 +306,11 @@ fn corner_for(levels: &[f64], targets: &[f64], freqs: &[f64], order: f64) -> Opt
 pub fn input_filter_design(spec: &InputFilterSpec) -> Result<InputFilterDesign> {
     let dm = spec.differential_mode().checked()?;
     let cm = spec.common_mode().checked()?;
-    if spec.margin.reference != DbReference::Ratio || !spec.margin.value.is_finite() {
-        return Err(Error::invalid(format!(
-            "`margin` must be a finite ratio in dB, got {}",
+    if spec.margin.reference != DbReference::Ratio
+        || !(spec.margin.value.is_finite() && (0.0..=40.0).contains(&spec.margin.value))
+    {
+        return Err(Error::out_of_range(format!(
+            "`margin` must be a ratio of 0 … 40 dB under the limit, got {}",
             spec.margin
         )));
     }
@@ -263,7 +322,9 @@ pub fn input_filter_design(spec: &InputFilterSpec) -> Result<InputFilterDesign> 
     }
     let cx = positive("x_capacitance", spec.x_capacitance)?.value;
     let rl = non_negative("inductor_resistance", spec.inductor_resistance)?.value;
-    let cy = positive("max_y_capacitance", spec.max_y_capacitance)?.value;
+    // zero: no Y capacitor (a choke alone then hardly helps, see the CM step)
+    let cy_value = non_negative("max_y_capacitance", spec.max_y_capacitance)?.value;
+    let cy = (cy_value > 0.0).then_some(cy_value);
     positive("minimum_input_voltage", spec.minimum_input_voltage)?;
     positive("input_power", spec.input_power)?;
 
@@ -281,7 +342,7 @@ pub fn input_filter_design(spec: &InputFilterSpec) -> Result<InputFilterDesign> 
         .map(|l| l - spec.margin.value - 20.0 * 2f64.log10())
         .collect();
 
-    let bare = evaluate(&dm, &cm, &ns, &[], None, None);
+    let bare = evaluate(&dm, &cm, &ns, &[], None, None)?;
 
     // differential mode
     let order = 2.0 * f64::from(spec.stages);
@@ -298,16 +359,33 @@ pub fn input_filter_design(spec: &InputFilterSpec) -> Result<InputFilterDesign> 
                 })
                 .collect()
         };
-        for _ in 0..40 {
+        let hint = "raise `x_capacitance` (F), use `stages: 2`, lower `margin` (dB) or check the \
+                    converter's `peak_current` (A)";
+        let mut met = false;
+        for _ in 0..60 {
+            if !(l.is_finite() && l <= MAX_DIFFERENTIAL_INDUCTANCE_H) {
+                return Err(too_large(
+                    "differential-mode filter",
+                    hint,
+                    MAX_DIFFERENTIAL_INDUCTANCE_H,
+                ));
+            }
             let levels: Vec<f64> = ns
                 .iter()
-                .map(|&n| dm.receiver_voltage(&build(l), n))
-                .collect();
+                .map(|&n| finite_level(dm.receiver_voltage(&build(l), n), "differential-mode"))
+                .collect::<Result<_>>()?;
             let e = worst_excess(&levels, &targets);
             if e <= 0.0 {
+                met = true;
                 break;
             }
             l *= 10f64.powf(e.max(0.5) / (20.0 * order));
+        }
+        if !met {
+            return Err(Error::infeasible(format!(
+                "no differential-mode inductance up to {} mH meets the target at every harmonic; {hint}",
+                crate::units::format_number(MAX_DIFFERENTIAL_INDUCTANCE_H * 1e3)
+            )));
         }
         stages = build(l);
         dm_corner = Some(si(1.0 / (2.0 * PI * (l * cx).sqrt())));
@@ -316,30 +394,46 @@ pub fn input_filter_design(spec: &InputFilterSpec) -> Result<InputFilterDesign> 
     // common mode: the Y capacitance first, a choke if it is not enough
     let with_y: Vec<f64> = ns
         .iter()
-        .map(|&n| cm.receiver_voltage(Some(cy), None, n))
-        .collect();
+        .map(|&n| finite_level(cm.receiver_voltage(cy, None, n), "common-mode"))
+        .collect::<Result<_>>()?;
     let mut choke = None;
     let mut cm_corner = None;
     if worst_excess(&with_y, &targets) > 0.0 {
         if let Some(fc) = corner_for(&bare.cm, &targets, &freqs, 2.0) {
-            let mut l = 1.0 / ((2.0 * PI * fc).powi(2) * cy);
-            for _ in 0..40 {
+            // without a Y capacitor the choke only adds to a path that the small parasitic
+            // capacitance already dominates; start from 1 mH and let the loop find out
+            let mut l = cy.map_or(1e-3, |cy| 1.0 / ((2.0 * PI * fc).powi(2) * cy));
+            let hint = "raise `max_y_capacitance` (F) if the touch-current budget allows, lower \
+                        `parasitic_capacitance` (F) (a shield or a lower-capacitance mounting), \
+                        slow the drain edges (`rise_time`, s) or lower `margin` (dB)";
+            let mut met = false;
+            for _ in 0..60 {
+                if !(l.is_finite() && l <= MAX_CHOKE_INDUCTANCE_H) {
+                    return Err(too_large("common-mode choke", hint, MAX_CHOKE_INDUCTANCE_H));
+                }
                 let levels: Vec<f64> = ns
                     .iter()
-                    .map(|&n| cm.receiver_voltage(Some(cy), Some(l), n))
-                    .collect();
+                    .map(|&n| finite_level(cm.receiver_voltage(cy, Some(l), n), "common-mode"))
+                    .collect::<Result<_>>()?;
                 let e = worst_excess(&levels, &targets);
                 if e <= 0.0 {
+                    met = true;
                     break;
                 }
                 l *= 10f64.powf(e.max(0.5) / 40.0);
             }
+            if !met {
+                return Err(Error::infeasible(format!(
+                    "no common-mode choke up to {} mH meets the target at every harmonic; {hint}",
+                    crate::units::format_number(MAX_CHOKE_INDUCTANCE_H * 1e3)
+                )));
+            }
             choke = Some(l);
-            cm_corner = Some(si(1.0 / (2.0 * PI * (l * cy).sqrt())));
+            cm_corner = cy.map(|cy| si(1.0 / (2.0 * PI * (l * cy).sqrt())));
         }
     }
 
-    let filtered = evaluate(&dm, &cm, &ns, &stages, Some(cy), choke);
+    let filtered = evaluate(&dm, &cm, &ns, &stages, cy, choke)?;
     let mut rows = Vec::with_capacity(ns.len());
     for i in 0..ns.len() {
         let lim = limit[i];
@@ -375,32 +469,41 @@ pub fn input_filter_design(spec: &InputFilterSpec) -> Result<InputFilterDesign> 
         .ok_or_else(|| Error::invalid("no harmonic of the switching frequency lies in the band"))?;
 
     // damping and Middlebrook's criterion
-    let (peak, middlebrook, damping) = match stages.first() {
-        Some(s) => {
-            let peak = filter_output_impedance_peak(
-                s.inductance,
-                s.inductor_resistance,
+    // Near the bulk capacitor's resonance with the filter the X capacitors are open, so the
+    // converter sees every stage's inductance (and resistance) in series.
+    let (peak, middlebrook, damping) = if stages.is_empty() {
+        (None, None, None)
+    } else {
+        let l_total: Inductance = si(stages.iter().map(|s| s.inductance.value).sum::<f64>());
+        let r_total: ElectricalResistance = si(stages
+            .iter()
+            .map(|s| s.inductor_resistance.value)
+            .sum::<f64>());
+        let peak = filter_output_impedance_peak(
+            l_total,
+            r_total,
+            spec.bulk_capacitance,
+            spec.bulk_esr,
+            None,
+        )?;
+        let mb = middlebrook_criterion(
+            peak.magnitude,
+            spec.minimum_input_voltage,
+            spec.input_power,
+            spec.middlebrook_margin,
+        )?;
+        let allowed =
+            mb.negative_input_resistance.value / 10f64.powf(spec.middlebrook_margin.value / 20.0);
+        let r0 = (l_total.value / spec.bulk_capacitance.value).sqrt();
+        let net = match smallest_damping_ratio(r0, allowed) {
+            Some(n) => Some(damping_network(
+                l_total,
                 spec.bulk_capacitance,
-                spec.bulk_esr,
-                None,
-            )?;
-            let mb = middlebrook_criterion(
-                peak.magnitude,
-                spec.minimum_input_voltage,
-                spec.input_power,
-                spec.middlebrook_margin,
-            )?;
-            let allowed = mb.negative_input_resistance.value
-                / 10f64.powf(spec.middlebrook_margin.value / 20.0);
-            let mut n = 0.25;
-            let mut net = damping_network(s.inductance, spec.bulk_capacitance, n)?;
-            while net.peak_output_impedance.value > allowed && n < 16.0 {
-                n *= 1.25;
-                net = damping_network(s.inductance, spec.bulk_capacitance, n)?;
-            }
-            (Some(peak), Some(mb), Some(net))
-        }
-        None => (None, None, None),
+                n.max(MIN_DAMPING_RATIO),
+            )?),
+            None => None,
+        };
+        (Some(peak), Some(mb), net)
     };
 
     let total_x: Capacitance = si(cx * stages.len().max(1) as f64);
@@ -410,11 +513,14 @@ pub fn input_filter_design(spec: &InputFilterSpec) -> Result<InputFilterDesign> 
         discharge_time: spec.discharge_time,
         residual_voltage_limit: spec.discharge_voltage,
     })?;
-    let y_touch_current = y_capacitor_touch_current(
-        spec.max_y_capacitance,
-        spec.maximum_line_voltage,
-        spec.line_frequency,
-    )?;
+    let y_touch_current = match cy {
+        Some(_) => y_capacitor_touch_current(
+            spec.max_y_capacitance,
+            spec.maximum_line_voltage,
+            spec.line_frequency,
+        )?,
+        None => si(0.0),
+    };
     Ok(InputFilterDesign {
         spec: *spec,
         worst_margin_unfiltered: db(worst_un),
@@ -532,7 +638,9 @@ pub fn harmonic_table(design: &InputFilterDesign, rows: usize) -> Table {
 
 /// The design checks: the worst filtered margin against the target margin
 /// (`conducted_emission_margin`, at least, in dB), and the filter's peak output impedance
-/// against |R_N| reduced by the Middlebrook margin (`input_filter_damping`, at most).
+/// against |R_N| reduced by the Middlebrook margin (`input_filter_damping`, at most), and the
+/// Y capacitance's touch current against the ES1 limit (`y_capacitor_touch_current`, at most;
+/// IEC 62368-1:2018, value recalled from memory, see `crate::safety::tables`).
 /// Reference: CISPR 32:2015 limits with the house margin; Middlebrook (1976).
 pub fn input_filter_checks(design: &InputFilterDesign) -> Result<Vec<CheckResult>> {
     let margin = Rule::new(
@@ -556,6 +664,18 @@ pub fn input_filter_checks(design: &InputFilterDesign) -> Result<Vec<CheckResult
             0.05,
         )?;
         out.push(rule.check(Quantity::from_typed(p.magnitude))?);
+    }
+    if design.y_capacitance.value > 0.0 {
+        let source = TOUCH_CURRENT_SOURCE.cite();
+        let rule = Rule::new(
+            "y_capacitor_touch_current",
+            "touch current of the Y capacitance at the highest line voltage and frequency",
+            &source,
+            Comparison::AtMost,
+            Quantity::from_typed::<ElectricCurrent>(si(TOUCH_CURRENT_ES1)),
+            0.1,
+        )?;
+        out.push(rule.check(Quantity::from_typed(design.y_touch_current))?);
     }
     Ok(out)
 }
@@ -588,10 +708,19 @@ pub fn input_filter_report(design: &InputFilterDesign, rows: usize) -> Result<St
             c.reference
         );
     }
+    if !design.differential_stages.is_empty() && design.damping.is_none() {
+        let _ = writeln!(
+            s,
+            "\nNo R–C damping network with a blocking capacitor up to 16 × the bulk capacitance \
+             meets the Middlebrook margin: lower the DM inductance or raise the bulk capacitance."
+        );
+    }
     let _ = writeln!(
         s,
         "\nEstimates are first-order (lumped parasitics, in-phase DM+CM sum); confirm with a \
-         conducted emission scan. Levels below {} dBµV are shown as that floor.",
+         conducted emission scan. The filter parts are ideal (no choke winding capacitance, \
+         no capacitor ESL), so filtered levels above a few MHz are optimistic. Levels below {} \
+         dBµV are shown as that floor.",
         super::LEVEL_FLOOR
     );
     Ok(s)

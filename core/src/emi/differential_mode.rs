@@ -125,7 +125,11 @@ pub fn differential_mode_noise(
     for s in stages {
         s.check()?;
     }
-    Ok(in_band_harmonics(c.fsw)
-        .map(|n| HarmonicLevel::new(n, c.fsw, level_of_peak(c.receiver_voltage(stages, n))))
-        .collect())
+    in_band_harmonics(c.fsw)
+        .map(|n| {
+            let v =
+                super::design::finite_level(c.receiver_voltage(stages, n), "differential-mode")?;
+            Ok(HarmonicLevel::new(n, c.fsw, level_of_peak(v)))
+        })
+        .collect()
 }

@@ -129,13 +129,25 @@ pub fn lc_filter_attenuation(
     let q = r / r0.value;
     let x = f / f0.value;
     let h = Complex::new(1.0 - x * x, x / q).recip();
+    let attenuation = -20.0 * h.abs().log10();
+    let resonance_gain = 20.0 * q.log10();
+    if !(attenuation.is_finite() && resonance_gain.is_finite() && q > 0.0) {
+        return Err(Error::out_of_range(format!(
+            "the LC response cannot be computed for `inductance` = {} H, `capacitance` = {} F, \
+             `load_resistance` = {} Ω at `frequency` = {} Hz: the values are too far apart",
+            format_number(inductance.value),
+            format_number(capacitance.value),
+            format_number(r),
+            format_number(f)
+        )));
+    }
     Ok(LcFilterResponse {
         corner_frequency: f0,
         characteristic_impedance: r0,
         quality_factor: q,
-        resonance_gain: Decibel::from_amplitude_ratio(q)?,
+        resonance_gain: Decibel::ratio(resonance_gain),
         frequency,
-        attenuation: Decibel::ratio(-20.0 * h.abs().log10()),
+        attenuation: Decibel::ratio(attenuation),
     })
 }
 
@@ -174,7 +186,9 @@ impl Record for DampingNetwork {
 /// input) for a chosen capacitance ratio n = C_d/C:
 /// Q_opt = √((2+n)(4+3n) / (2n²(4+n))), R_d = R0·Q_opt, peak output impedance
 /// ‖Z_o‖ = R0·√(2(2+n))/n, R0 = √(L/C).
-/// Larger n damps better at the cost of a larger blocking capacitor. Valid: n > 0.
+/// Larger n damps better at the cost of a larger blocking capacitor.
+/// Valid: n = 0.01 … 100 (below, the branch hardly damps; above, the blocking capacitor is
+/// absurdly large; outside it is an out-of-range error).
 /// Reference: Erickson & Maksimović (2020), input filter chapter, optimal R–C_b parallel
 /// damping (value recalled from memory).
 pub fn damping_network(
@@ -184,14 +198,30 @@ pub fn damping_network(
 ) -> Result<DampingNetwork> {
     let r0 = lc_characteristic_impedance(inductance, capacitance)?;
     let n = positive_number("capacitance_ratio", capacitance_ratio)?;
+    if !(0.01..=100.0).contains(&n) {
+        return Err(Error::out_of_range(format!(
+            "`capacitance_ratio` n = C_d/C = {} is outside 0.01 … 100",
+            format_number(n)
+        )));
+    }
     let q = ((2.0 + n) * (4.0 + 3.0 * n) / (2.0 * n * n * (4.0 + n))).sqrt();
+    let cd = n * capacitance.value;
+    let rd = r0.value * q;
+    let peak = r0.value * (2.0 * (2.0 + n)).sqrt() / n;
+    if !(cd.is_finite() && rd.is_finite() && peak.is_finite()) {
+        return Err(Error::out_of_range(format!(
+            "the damping network overflows for `inductance` = {} H and `capacitance` = {} F",
+            format_number(inductance.value),
+            format_number(capacitance.value)
+        )));
+    }
     Ok(DampingNetwork {
         capacitance_ratio: n,
-        blocking_capacitance: si(n * capacitance.value),
-        damping_resistance: si(r0.value * q),
+        blocking_capacitance: si(cd),
+        damping_resistance: si(rd),
         quality_factor: q,
         characteristic_impedance: r0,
-        peak_output_impedance: si(r0.value * (2.0 * (2.0 + n)).sqrt() / n),
+        peak_output_impedance: si(peak),
     })
 }
 
@@ -209,7 +239,9 @@ pub struct ImpedancePeak {
 /// (the worst case for the filter's resonance). The peak is found by scanning 4000
 /// logarithmically spaced points from f0/100 to 100·f0.
 /// Assumptions: ideal parts apart from the series resistances given. Valid: L, C > 0,
-/// resistances ≥ 0 (all zero gives an unbounded peak, which is reported as an error).
+/// resistances ≥ 0 (all zero gives an unbounded peak, which is reported as an error). When a
+/// resistance larger than √(L/C) leaves no resonance and the largest |Z_o| lies at an end of
+/// the scan, the asymptote there is the peak: R_L towards DC, ESR ∥ R_d towards high frequency.
 /// Reference: Erickson & Maksimović (2020), input filter chapter (filter output impedance).
 pub fn filter_output_impedance_peak(
     inductance: Inductance,
@@ -236,6 +268,7 @@ pub fn filter_output_impedance_peak(
         ));
     }
     let mut best = (0.0f64, f0);
+    let mut best_index = 0;
     let points = 4000;
     for i in 0..=points {
         let f = f0 * 10f64.powf(-2.0 + 4.0 * f64::from(i) / f64::from(points));
@@ -248,11 +281,26 @@ pub fn filter_output_impedance_peak(
         let z = y.recip().abs();
         if z.is_finite() && z > best.0 {
             best = (z, f);
+            best_index = i;
         }
+    }
+    // A resistance larger than √(L/C) leaves no resonance peak: |Z_o| keeps rising towards an
+    // end of the scan, and its supremum is the asymptote there (R_L towards DC with the line
+    // shorted, ESR ∥ R_d towards high frequency).
+    if best_index == 0 {
+        best.0 = best.0.max(rl);
+    } else if best_index == points {
+        let high = match damp {
+            Some((r, _)) if r + esr > 0.0 => r * esr / (r + esr),
+            Some(_) => 0.0,
+            None => esr,
+        };
+        best.0 = best.0.max(high);
     }
     if !(best.0.is_finite() && best.0 > 0.0) || best.0 > 1e12 {
         return Err(Error::invalid(
-            "the filter has no damping at all (zero resistances): its output impedance peak is unbounded",
+            "the filter's output impedance peak is unbounded or above 1 TΩ: it has no usable \
+             damping (`inductor_resistance`, `capacitor_esr` or a damping branch, Ω)",
         ));
     }
     Ok(ImpedancePeak {

@@ -30,7 +30,7 @@ mod spectrum;
 pub use common_mode::{common_mode_noise, CommonModeSpec};
 pub use design::{
     harmonic_table, input_filter_checks, input_filter_design, input_filter_report, HarmonicRow,
-    InputFilterDesign, InputFilterSpec,
+    InputFilterDesign, InputFilterSpec, MAX_CHOKE_INDUCTANCE_H, MAX_DIFFERENTIAL_INDUCTANCE_H,
 };
 pub use differential_mode::{differential_mode_noise, DifferentialModeSpec, FilterStage};
 pub use filter::{
@@ -84,7 +84,7 @@ pub const LEVEL_FLOOR: f64 = -100.0;
 pub(crate) fn level_of_peak(peak: f64) -> Decibel {
     let rms = peak / std::f64::consts::SQRT_2;
     let v = if rms.is_finite() && rms > 0.0 {
-        (20.0 * (rms / 1e-6).log10()).max(LEVEL_FLOOR)
+        (20.0 * (rms.log10() + 6.0)).max(LEVEL_FLOOR)
     } else {
         LEVEL_FLOOR
     };
@@ -151,5 +151,10 @@ mod tests {
         assert!((level_of_peak(std::f64::consts::SQRT_2 * 1e-3).value - 60.0).abs() < 1e-9);
         assert_eq!(level_of_peak(0.0).value, LEVEL_FLOOR);
         assert_eq!(level_of_peak(f64::NAN).value, LEVEL_FLOOR);
+        // a huge but finite peak still gives a finite level (no overflow dividing by 1 µV)
+        assert!(
+            (level_of_peak(1e307).value - (20.0 * (1e307f64 / 2f64.sqrt()).log10() + 120.0)).abs()
+                < 1e-9
+        );
     }
 }

@@ -174,7 +174,10 @@ pub fn spectrum_svg(design: &InputFilterDesign) -> String {
         s,
         r#"<text x="{LEFT}" y="{:.1}" font-size="10">{}</text>"#,
         HEIGHT - 40.0,
-        escape("Estimate from the converter's waveforms (DM + CM in phase); confirm with a scan.")
+        escape(
+            "Estimate from the converter's waveforms (DM + CM in phase); ideal filter parts, so \
+             filtered levels above a few MHz are optimistic; confirm with a scan.",
+        )
     );
     // the caution, wrapped by words so that it fits the width of the plot
     let mut lines: Vec<String> = vec![String::new()];

@@ -6,7 +6,8 @@ use super::complex::Complex;
 use crate::error::{Error, Result};
 use crate::units::validate::{non_negative, positive};
 use crate::units::{
-    format_number, si, ElectricCurrent, ElectricPotential, Frequency, Time, TypedQuantity,
+    format_number, si, unit_symbol, ElectricCurrent, ElectricPotential, Frequency, Time,
+    TypedQuantity,
 };
 use std::f64::consts::PI;
 
@@ -88,7 +89,9 @@ impl<Q: TypedQuantity> PeriodicWaveform<Q> {
         sum
     }
 
-    /// The mean (DC) value over a period: c₀ = ∫₀¹ x dθ (trapezoid rule, exact here).
+    /// The mean (DC) value over a period: c₀ = ∫₀¹ x dθ (trapezoid rule, exact for a
+    /// piecewise-linear period). Reference: the Fourier series' DC term, Erickson &
+    /// Maksimović, *Fundamentals of Power Electronics*, 3rd ed. (2020), input filter chapter.
     pub fn mean(&self) -> Q {
         si(self.coefficient(0).re)
     }
@@ -105,7 +108,16 @@ impl<Q: TypedQuantity> PeriodicWaveform<Q> {
                 "`harmonic` must be 1 or more (use mean() for the DC value)",
             ));
         }
-        Ok(si(2.0 * self.coefficient(n).abs()))
+        let a = 2.0 * self.coefficient(n).abs();
+        if a.is_finite() {
+            Ok(si(a))
+        } else {
+            Err(Error::out_of_range(format!(
+                "harmonic {n} of this waveform overflows: its breakpoint values (in {}) are too \
+                 large to compute with",
+                unit_symbol(Q::dimension())
+            )))
+        }
     }
 }
 
@@ -172,8 +184,13 @@ impl PrimaryCurrentShape {
         }
     }
 
-    /// Peak amplitude of harmonic `n` of the primary current: see
-    /// [`PeriodicWaveform::harmonic_amplitude`].
+    /// Peak amplitude of harmonic `n` (n ≥ 1) of the primary current: A_n = 2·|c_n| of the
+    /// period built by [`PrimaryCurrentShape::waveform`], integrated exactly piece by piece
+    /// (see [`PeriodicWaveform::harmonic_amplitude`]). Assumes ideal edges (the current steps
+    /// at turn-off and, in CCM, at turn-on; the leading-edge spike is left out). Valid: the
+    /// checks of `waveform`; an overflowing result is an error.
+    /// Reference: Erickson & Maksimović (2020), input filter chapter (harmonics of the
+    /// converter's input current).
     pub fn harmonic_amplitude(&self, n: u32) -> Result<ElectricCurrent> {
         self.waveform()?.harmonic_amplitude(n)
     }
@@ -222,7 +239,13 @@ impl DrainVoltageShape {
         PeriodicWaveform::new(vec![(0.0, z), (d, z), (d + r, v), (1.0 - f, v), (1.0, z)])
     }
 
-    /// Peak amplitude of harmonic `n` of the drain voltage.
+    /// Peak amplitude of harmonic `n` (n ≥ 1) of the drain voltage: A_n = 2·|c_n| of the
+    /// trapezoid of [`DrainVoltageShape::waveform`]. With equal rise and fall times t_r it
+    /// equals 2·V·(τ/T)·|sinc(nπτ/T)|·|sinc(nπt_r/T)| (τ the width between the 50 % points),
+    /// whose envelope is flat to 1/(πτ), falls 20 dB/decade to 1/(πt_r) and 40 dB/decade
+    /// above. Valid: the checks of `waveform`.
+    /// Reference: Fourier series of a trapezoid (integration by parts); the envelope corners
+    /// are common practice, no published source.
     pub fn harmonic_amplitude(
         &self,
         switching_frequency: Frequency,

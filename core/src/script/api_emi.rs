@@ -93,7 +93,7 @@ const MARGIN: ParamDoc = ParamDoc::with_default(
     "margin",
     ParamKind::Any,
     "6 dB",
-    "margin under the limit, dB",
+    "margin under the limit, 0 … 40 dB",
 );
 const STAGES: ParamDoc =
     ParamDoc::with_default("stages", ParamKind::Integer, "1", "DM LC stages, 1 or 2");
@@ -112,7 +112,7 @@ const RL: ParamDoc = ParamDoc::with_default(
 const CY_MAX: ParamDoc = ParamDoc::required(
     "max_y_capacitance",
     ParamKind::Quantity("F"),
-    "largest total Y capacitance the touch-current limit allows (safety domain)",
+    "largest total Y capacitance the touch-current limit allows (safety domain); 0 F for none",
 );
 const VIN_MIN: ParamDoc = ParamDoc::required(
     "minimum_input_voltage",
@@ -276,7 +276,7 @@ static DAMPING: FunctionDoc = FunctionDoc {
     params: &[
         ParamDoc::required("inductance", ParamKind::Quantity("H"), "filter inductance"),
         ParamDoc::required("capacitance", ParamKind::Quantity("F"), "filter capacitance at the converter"),
-        ParamDoc::required("capacitance_ratio", ParamKind::Number, "n = C_d/C, > 0"),
+        ParamDoc::required("capacitance_ratio", ParamKind::Number, "n = C_d/C, 0.01 … 100"),
     ],
     keys: &[],
     returns: "record: capacitance_ratio, blocking_capacitance, damping_resistance, quality_factor, characteristic_impedance, peak_output_impedance",
