@@ -509,6 +509,26 @@ fn group_of(i: u8) -> MaterialGroup {
     [I, II, IIIa, IIIb][i as usize]
 }
 
+/// A clearance rule never gives less for a higher voltage, altitude, pollution degree or grade,
+/// and always a positive finite value.
+fn never_decreases(
+    f: &dyn Fn(f64, FieldCase, PollutionDegree, InsulationGrade, f64) -> f64,
+    field: FieldCase,
+    (kv, kv2): (f64, f64),
+    pd: u8,
+    (alt, alt2): (f64, f64),
+) -> Result<(), TestCaseError> {
+    let a = f(kv, field, pd_of(pd), Basic, alt);
+    prop_assert!(f(kv2, field, pd_of(pd), Basic, alt) >= a - 1e-12);
+    prop_assert!(f(kv, field, pd_of(pd), Basic, alt2) >= a - 1e-12);
+    if pd < 3 {
+        prop_assert!(f(kv, field, pd_of(pd + 1), Basic, alt) >= a - 1e-12);
+    }
+    prop_assert!(f(kv, field, pd_of(pd), Reinforced, alt) >= a);
+    prop_assert!(a.is_finite() && a > 0.0);
+    Ok(())
+}
+
 proptest! {
     #[test]
     fn creepage_never_decreases(v in 10.0f64..1000.0, dv in 0.0f64..200.0, pd in 1u8..=3, g in 0u8..4, board: bool) {
@@ -530,14 +550,7 @@ proptest! {
         let field = if homogeneous { Homogeneous } else { Inhomogeneous };
         let kv2 = (kv + dkv).min(8.0);
         let alt2 = (alt + dalt).min(10000.0);
-        let a = clearance(kv, field, pd_of(pd), Basic, alt);
-        prop_assert!(clearance(kv2, field, pd_of(pd), Basic, alt) >= a - 1e-12);
-        prop_assert!(clearance(kv, field, pd_of(pd), Basic, alt2) >= a - 1e-12);
-        if pd < 3 {
-            prop_assert!(clearance(kv, field, pd_of(pd + 1), Basic, alt) >= a - 1e-12);
-        }
-        prop_assert!(clearance(kv, field, pd_of(pd), Reinforced, alt) >= a);
-        prop_assert!(a.is_finite() && a > 0.0);
+        never_decreases(&clearance, field, (kv, kv2), pd, (alt, alt2))?;
     }
 
     #[test]
@@ -905,14 +918,7 @@ proptest! {
         let field = if homogeneous { Homogeneous } else { Inhomogeneous };
         let kv2 = (kv + dkv).min(31.0);
         let alt2 = (alt + dalt).min(10000.0);
-        let a = working_clearance(kv, field, pd_of(pd), Basic, alt);
-        prop_assert!(working_clearance(kv2, field, pd_of(pd), Basic, alt) >= a - 1e-12);
-        prop_assert!(working_clearance(kv, field, pd_of(pd), Basic, alt2) >= a - 1e-12);
-        if pd < 3 {
-            prop_assert!(working_clearance(kv, field, pd_of(pd + 1), Basic, alt) >= a - 1e-12);
-        }
-        prop_assert!(working_clearance(kv, field, pd_of(pd), Reinforced, alt) >= a);
-        prop_assert!(a.is_finite() && a > 0.0);
+        never_decreases(&working_clearance, field, (kv, kv2), pd, (alt, alt2))?;
     }
 
     #[test]
