@@ -72,12 +72,21 @@ pub enum Command {
 
 /// Arguments of `gapwise run`.
 #[derive(Debug, Args)]
+#[command(disable_help_flag = true)]
 pub struct RunArgs {
     /// The recipe (`.rhai`); `-` reads it from stdin.
     #[arg(value_name = "FILE")]
-    pub file: String,
-    #[command(flatten)]
-    pub sets: SetArgs,
+    pub file: Option<String>,
+    /// Show this help; with a recipe, also the parameters it declares (name, kind and unit,
+    /// default, meaning).
+    #[arg(short = 'h', long = "help")]
+    pub help: bool,
+    /// Give a parameter the recipe declares with `param(...)` a value: `NAME=VALUE`, read as
+    /// the parameter's kind (a quantity of its dimension such as `switching_frequency="100 kHz"`,
+    /// a number, true/false or text). An unknown name or a value of the wrong kind or
+    /// dimension is a usage error. Repeatable.
+    #[arg(long = "set", value_name = "NAME=VALUE")]
+    pub set: Vec<String>,
     /// Folder for the output tables (NAME.csv or NAME.json) and texts (NAME.md, NAME.svg, …);
     /// created if missing. Without it, tables print on stdout.
     #[arg(long, value_name = "DIR")]
@@ -96,17 +105,8 @@ pub struct EvalArgs {
     /// The expression, e.g. `12 * V * (1.5 * A)`.
     #[arg(value_name = "EXPR", allow_hyphen_values = true)]
     pub expression: String,
-    #[command(flatten)]
-    pub sets: SetArgs,
-}
-
-/// Values pushed into the script's scope before it runs.
-#[derive(Debug, Args)]
-pub struct SetArgs {
-    /// Set a constant before the run: `name=value`. The value is read as a quantity
+    /// Define a constant before the expression: `name=value`, read as a quantity
     /// (`output_voltage="12 V"`), else true/false, else a number, else text. Repeatable.
-    /// A recipe gives a default for a value that may be set like this:
-    /// `let output_voltage = if is_def_var("output_voltage") { output_voltage } else { 12 * V };`
     #[arg(long = "set", value_name = "NAME=VALUE")]
     pub set: Vec<String>,
 }

@@ -313,15 +313,15 @@ mod tests {
     fn completes_fields_of_records_maps_and_tables() {
         let s = session_with(
             "let d = resistor_divider(#{output_voltage: 12 * V, reference_voltage: 2.5 * V});\n\
-             let m = #{inner: #{gain: 2}, vout: 5 * V};\n\
+             let mp = #{inner: #{gain: 2}, vout: 5 * V};\n\
              let t = table([#{power: 1 * W}]);",
         );
         let (start, c) = candidates(&s, "d.upp", 5);
         assert_eq!(start, 2);
         assert!(c.iter().any(|n| n == "upper_resistor"), "{c:?}");
-        let (_, c) = candidates(&s, "m.", 2);
+        let (_, c) = candidates(&s, "mp.", 3);
         assert_eq!(c, ["inner", "vout"]);
-        let (_, c) = candidates(&s, "m.inner.g", 9);
+        let (_, c) = candidates(&s, "mp.inner.g", 10);
         assert_eq!(c, ["gain"]);
         let (_, c) = candidates(&s, "t.", 2);
         assert!(c.contains(&"column(\"power\")".to_string()), "{c:?}");

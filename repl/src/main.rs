@@ -23,8 +23,14 @@ pub enum Failure {
     Script(ScriptError),
     /// Bad usage or an IO error (exit code 2).
     Usage(anyhow::Error),
-    /// `--strict` and this many design-rule checks failed (exit code 3).
-    Strict(usize),
+    /// `--strict`: design-rule checks in the outputs failed, or variants became error rows
+    /// (exit code 3).
+    Strict {
+        /// Failed checks that reached an output.
+        failed_checks: usize,
+        /// Error rows in the output tables.
+        error_rows: usize,
+    },
 }
 
 impl From<anyhow::Error> for Failure {
@@ -61,11 +67,24 @@ fn main() -> ExitCode {
             eprintln!("error: {e:#}");
             ExitCode::from(2)
         }
-        Err(Failure::Strict(n)) => {
-            eprintln!(
-                "error: {n} design-rule check{} failed (--strict)",
-                if n == 1 { "" } else { "s" }
-            );
+        Err(Failure::Strict {
+            failed_checks,
+            error_rows,
+        }) => {
+            let mut parts = Vec::new();
+            if failed_checks > 0 {
+                parts.push(format!(
+                    "{failed_checks} design-rule check{} failed",
+                    if failed_checks == 1 { "" } else { "s" }
+                ));
+            }
+            if error_rows > 0 {
+                parts.push(format!(
+                    "{error_rows} variant{} failed (error rows)",
+                    if error_rows == 1 { "" } else { "s" }
+                ));
+            }
+            eprintln!("error: {} (--strict)", parts.join(" and "));
             ExitCode::from(3)
         }
     }

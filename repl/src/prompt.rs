@@ -325,6 +325,15 @@ pub fn run(limits: EngineLimits) -> Result<()> {
                 }
                 continue;
             }
+            if let Some(cmd) = bare_command(&session.borrow(), trimmed) {
+                history.append(trimmed);
+                input.remember(trimmed);
+                println!("(prompt commands start with a colon: running `{cmd}`)");
+                if command(&session, &cmd) == Flow::Quit {
+                    break;
+                }
+                continue;
+            }
         }
         buffer.push_str(&line);
         buffer.push('\n');
@@ -367,6 +376,24 @@ fn run_entry(session: &Rc<RefCell<Session>>, source: &str, source_name: &str) {
         );
     }
     s.host.take_failed_checks();
+}
+
+/// A prompt command typed without its colon (`help`, `help NAME`, `quit`, `exit`, `vars`,
+/// `functions`, `constants`), unless the word is one of the session's own variables.
+pub fn bare_command(session: &Session, line: &str) -> Option<String> {
+    let (word, arg) = match line.split_once(char::is_whitespace) {
+        Some((w, a)) => (w, a.trim()),
+        None => (line, ""),
+    };
+    let known = ["help", "quit", "exit", "vars", "functions", "constants"];
+    if !known.contains(&word) || session.scope.contains(word) {
+        return None;
+    }
+    let arg_ok = match word {
+        "help" => arg.is_empty() || arg.chars().all(|c| c.is_ascii_alphanumeric() || c == '_'),
+        _ => arg.is_empty(),
+    };
+    arg_ok.then(|| format!(":{line}"))
 }
 
 #[derive(PartialEq, Eq)]

@@ -5,9 +5,10 @@ use crate::output::{write_files_atomically, Progress};
 use crate::Failure;
 use anyhow::{bail, Context};
 use gapwise_core::report::Table;
-use gapwise_core::script::{EngineLimits, OutputText, ScriptHost};
+use gapwise_core::script::{EngineLimits, OutputText, RecipeParam, ScriptHost};
 use gapwise_core::units::parse_quantity;
 use rhai::{Dynamic, Scope};
+use std::collections::HashMap;
 use std::io::{IsTerminal, Read, Write};
 use std::path::Path;
 use std::sync::Arc;
@@ -44,13 +45,72 @@ pub fn parse_set(arg: &str) -> anyhow::Result<(String, Dynamic)> {
     Ok((name.to_string(), dynamic))
 }
 
-fn scope_with_sets(sets: &[String]) -> anyhow::Result<Scope<'static>> {
+/// `eval --set`: constants in the scope (an expression declares no parameters). A name
+/// that is a unit constant is refused.
+fn scope_with_sets(host: &ScriptHost, sets: &[String]) -> anyhow::Result<Scope<'static>> {
     let mut scope = Scope::new();
     for s in sets {
         let (name, value) = parse_set(s)?;
+        if host.constant_names().contains(&name.as_str()) {
+            bail!("--set {name}: `{name}` is a unit constant and cannot be redefined");
+        }
         scope.push_constant_dynamic(name, value);
     }
     Ok(scope)
+}
+
+/// Reads `--set NAME=VALUE` for a recipe: every name must be a parameter the recipe
+/// declares, and every value of that parameter's kind and dimension (else a usage error).
+fn recipe_overrides(
+    sets: &[String],
+    params: &[RecipeParam],
+    recipe: &str,
+) -> anyhow::Result<HashMap<String, Dynamic>> {
+    let mut out = HashMap::new();
+    for s in sets {
+        let Some((name, value)) = s.split_once('=') else {
+            bail!("--set `{s}` must be name=value, e.g. --set output_voltage=\"12 V\"");
+        };
+        let name = name.trim();
+        let Some(p) = params.iter().find(|p| p.name == name) else {
+            let names: Vec<&str> = params.iter().map(|p| p.name.as_str()).collect();
+            let hint = gapwise_core::script::suggest::did_you_mean(name, &names);
+            if names.is_empty() {
+                bail!("--set {name}: {recipe} declares no parameters (a recipe declares them with `param(\"name\", default, \"description\")`)");
+            }
+            bail!(
+                "--set {name}: {recipe} has no parameter `{name}`{hint} (its parameters: {}; see `gapwise run {recipe} --help`)",
+                names.join(", ")
+            );
+        };
+        if out.contains_key(name) {
+            bail!("--set {name} is given twice");
+        }
+        let v = p.parse_override(value).map_err(anyhow::Error::msg)?;
+        out.insert(name.to_string(), v);
+    }
+    Ok(out)
+}
+
+/// The parameters of a recipe, as `gapwise run RECIPE --help` lists them.
+pub fn params_help(recipe: &str, params: &[RecipeParam]) -> String {
+    let mut s = format!("Parameters of {recipe} (give them with --set NAME=VALUE):\n");
+    if params.is_empty() {
+        s.push_str("  (none: the recipe declares no parameters with `param(...)`)\n");
+        return s;
+    }
+    let w = params.iter().map(|p| p.name.len()).max().unwrap_or(0);
+    for p in params {
+        s.push_str(&format!(
+            "  {:w$}  {} (default {})\n  {:w$}  {}\n",
+            p.name,
+            p.kind(),
+            p.default_text(),
+            "",
+            p.description
+        ));
+    }
+    s
 }
 
 /// Script `print` goes to stdout as it happens; a progress bar on stderr (only when it is
@@ -86,27 +146,68 @@ fn read_source(file: &str) -> anyhow::Result<(String, String)> {
     }
 }
 
-/// `gapwise run FILE`: runs the recipe, then writes its output tables and texts.
+/// `gapwise run FILE`: reads the recipe's parameters, applies `--set`, runs the recipe,
+/// then writes its output tables and texts. When the recipe fails after handing over
+/// outputs, they are still written, with `INCOMPLETE.txt` saying why, and the run exits 1.
 pub fn run(args: &RunArgs, limits: EngineLimits) -> Result<(), Failure> {
-    let (source, source_name) = read_source(&args.file)?;
-    let mut scope = scope_with_sets(&args.sets.set)?;
+    let Some(file) = args.file.as_deref() else {
+        print_run_help();
+        return Ok(());
+    };
+    let (source, source_name) = read_source(file)?;
     let host = ScriptHost::new(limits);
+    let ast = host.compile(&source, &source_name)?;
+    let params = host.recipe_params(&ast, &source, &source_name)?;
+    if args.help {
+        print_run_help();
+        println!();
+        print!("{}", params_help(&source_name, &params));
+        return Ok(());
+    }
+    let overrides = recipe_overrides(&args.set, &params, &source_name)?;
+    host.set_overrides(overrides);
     let progress = attach_print_and_progress(&host);
-    let result = host
-        .compile_with_scope(&scope, &source, &source_name)
-        .and_then(|ast| host.run(&ast, &mut scope, &source, &source_name));
+    let result = host.run(&ast, &mut Scope::new(), &source, &source_name);
     if let Some(p) = &progress {
         p.finish();
     }
     let outputs = host.take_outputs();
     let texts = host.take_texts();
-    result.map(drop)?;
-    write_outputs(&outputs, &texts, args.out.as_deref(), args.format)?;
+    if let Err(e) = result {
+        if args.out.is_some() && (!outputs.is_empty() || !texts.is_empty()) {
+            let note = format!(
+                "INCOMPLETE: {source_name} stopped with an error after handing over these outputs; they are what it produced before the error, not a finished run.\n\n{e}\n"
+            );
+            if let Err(w) = write_outputs(
+                &outputs,
+                &texts,
+                args.out.as_deref(),
+                args.format,
+                Some(&note),
+            ) {
+                eprintln!("error: {w:#}");
+            }
+        }
+        return Err(e.into());
+    }
+    write_outputs(&outputs, &texts, args.out.as_deref(), args.format, None)?;
     let failed = host.take_failed_checks();
-    if args.strict && failed > 0 {
-        return Err(Failure::Strict(failed));
+    let error_rows: usize = outputs.iter().map(|(_, t)| t.error_count()).sum();
+    if args.strict && (failed > 0 || error_rows > 0) {
+        return Err(Failure::Strict {
+            failed_checks: failed,
+            error_rows,
+        });
     }
     Ok(())
+}
+
+fn print_run_help() {
+    use clap::CommandFactory;
+    let mut cmd = crate::cli::Cli::command();
+    if let Some(run) = cmd.find_subcommand_mut("run") {
+        let _ = run.print_help();
+    }
 }
 
 /// Writes tables and texts into `out` (whole or not at all), or prints tables on stdout.
@@ -115,8 +216,12 @@ fn write_outputs(
     texts: &[OutputText],
     out: Option<&Path>,
     format: Format,
+    incomplete: Option<&str>,
 ) -> anyhow::Result<()> {
     let mut files: Vec<(String, Vec<u8>)> = Vec::new();
+    if let Some(note) = incomplete {
+        files.push((INCOMPLETE_MARKER.to_string(), note.as_bytes().to_vec()));
+    }
     let print_tables = out.is_none() || format == Format::Table;
     for (name, table) in tables {
         match format {
@@ -136,6 +241,10 @@ fn write_outputs(
                     format!("{}.{}", t.name, t.extension),
                     t.text.clone().into_bytes(),
                 ));
+            }
+            if incomplete.is_none() && !files.is_empty() {
+                // a finished run replaces the marker a failed run left
+                let _ = std::fs::remove_file(dir.join(INCOMPLETE_MARKER));
             }
             if !files.is_empty() {
                 let written = write_files_atomically(dir, &files)?;
@@ -165,10 +274,13 @@ fn print_table(name: &str, table: &Table) {
     let _ = writeln!(out, "{}", table.to_text().trim_end());
 }
 
+/// The file that marks an output folder whose recipe failed part-way.
+pub const INCOMPLETE_MARKER: &str = "INCOMPLETE.txt";
+
 /// `gapwise eval 'EXPR'`: evaluates and prints the result with units.
 pub fn eval(args: &EvalArgs, limits: EngineLimits) -> Result<(), Failure> {
-    let mut scope = scope_with_sets(&args.sets.set)?;
     let host = ScriptHost::new(limits);
+    let mut scope = scope_with_sets(&host, &args.set)?;
     let progress = attach_print_and_progress(&host);
     let source = &args.expression;
     let result = host

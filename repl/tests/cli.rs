@@ -165,29 +165,65 @@ fn set_pushes_quantities_numbers_flags_and_text() {
     ]);
     assert_eq!(r.code, 0, "{}", r.stderr);
     assert_eq!(r.stdout.trim(), "36 V true E96");
+}
+
+/// A recipe with one declared parameter, used everywhere: top level, `fn`, closure, family.
+const PARAMS: &str = r#"
+const output_voltage = param("output_voltage", 12 * V, "output voltage of the member");
+const series = param("series", "E96", "preferred-value series");
+fn power(i) { output_voltage * i }
+let rows = family(|i| #{inside: output_voltage, power: power(i)}, [1 * A, 2 * A]);
+print(`${output_voltage} ${series} ${rows.column("inside")[1]} ${rows.column("power")[1]}`);
+"#;
+
+#[test]
+fn set_replaces_a_declared_parameter_everywhere() {
+    // issue 10: --set changed a name inside the family but not at top level
     let d = temp_dir("set");
-    let path = write_recipe(&d, "set.rhai", "print(output_voltage * 2 * A);\n");
-    let r = gapwise(&["run", path.to_str().unwrap(), "--set", "output_voltage=5 V"]);
+    let path = write_recipe(&d, "set.rhai", PARAMS);
+    let p = path.to_str().unwrap();
+    let r = gapwise(&["run", p]);
     assert_eq!(r.code, 0, "{}", r.stderr);
-    assert_eq!(r.stdout.trim(), "10 W");
-    let defaults = write_recipe(
-        &d,
-        "defaults.rhai",
-        "let output_voltage = if is_def_var(\"output_voltage\") { output_voltage } else { 12 * V };\n\
-         print(output_voltage);\n",
-    );
-    let r = gapwise(&["run", defaults.to_str().unwrap()]);
-    assert_eq!(r.stdout.trim(), "12 V", "{}", r.stderr);
+    assert_eq!(r.stdout.trim(), "12 V E96 12 V 24 W");
     let r = gapwise(&[
         "run",
-        defaults.to_str().unwrap(),
+        p,
         "--set",
-        "output_voltage=48 V",
+        "output_voltage=5 V",
+        "--set",
+        "series=E24",
     ]);
-    assert_eq!(r.stdout.trim(), "48 V", "{}", r.stderr);
-    let r = gapwise(&["run", path.to_str().unwrap(), "--set", "no equals"]);
-    assert_eq!(r.code, 2, "{}", r.stderr);
-    assert!(r.stderr.contains("name=value"), "{}", r.stderr);
+    assert_eq!(r.code, 0, "{}", r.stderr);
+    assert_eq!(r.stdout.trim(), "5 V E24 5 V 10 W");
+    let help = gapwise(&["run", p, "--help"]);
+    assert_eq!(help.code, 0, "{}", help.stderr);
+    assert!(
+        help.stdout
+            .contains("output_voltage  voltage (V) (default 12 V)")
+            && help.stdout.contains("output voltage of the member"),
+        "{}",
+        help.stdout
+    );
+    std::fs::remove_dir_all(&d).unwrap();
+}
+
+#[test]
+fn bad_set_values_are_usage_errors() {
+    let d = temp_dir("set-bad");
+    let path = write_recipe(&d, "set.rhai", PARAMS);
+    let p = path.to_str().unwrap();
+    for (arg, expect) in [
+        ("output_votage=5 V", "did you mean `output_voltage`?"),
+        ("output_voltage=5", "no unit"),
+        ("output_voltage=5 A", "expected a voltage"),
+        ("mm=1 m", "has no parameter `mm`"),
+        ("no equals", "name=value"),
+    ] {
+        let r = gapwise(&["run", p, "--set", arg]);
+        assert_eq!(r.code, 2, "{arg}: {}", r.stderr);
+        assert!(r.stderr.contains(expect), "{arg}: {}", r.stderr);
+        assert!(r.stdout.is_empty(), "the recipe did not run: {}", r.stdout);
+    }
     std::fs::remove_dir_all(&d).unwrap();
 }
 
@@ -267,9 +303,9 @@ fn without_out_tables_print_aligned_on_stdout() {
 }
 
 #[test]
-fn a_script_error_writes_no_files() {
+fn a_script_error_before_any_output_writes_no_files() {
     let d = temp_dir("nothing");
-    let recipe = format!("{FAMILY_WITH_A_FAILURE}\nlet broken = 1 * V + 1 * A;\n");
+    let recipe = format!("let broken = 1 * V + 1 * A;\n{FAMILY_WITH_A_FAILURE}\n");
     let path = write_recipe(&d, "broken.rhai", &recipe);
     let out = d.join("out");
     let r = gapwise(&[
@@ -283,12 +319,49 @@ fn a_script_error_writes_no_files() {
     std::fs::remove_dir_all(&d).unwrap();
 }
 
+#[test]
+fn a_recipe_failing_after_its_outputs_writes_them_marked_incomplete() {
+    // issue 10: a recipe whose final assert failed wrote nothing at all
+    let d = temp_dir("incomplete");
+    let recipe =
+        format!("{FAMILY_WITH_A_FAILURE}\nassert(false, \"a final check the recipe makes\");\n");
+    let path = write_recipe(&d, "late.rhai", &recipe);
+    let out = d.join("out");
+    let r = gapwise(&[
+        "run",
+        path.to_str().unwrap(),
+        "--out",
+        out.to_str().unwrap(),
+    ]);
+    assert_eq!(r.code, 1, "{}", r.stderr);
+    assert!(
+        r.stderr.contains("a final check the recipe makes"),
+        "{}",
+        r.stderr
+    );
+    let names = file_names(&out);
+    assert!(names.contains(&"members.csv".to_string()), "{names:?}");
+    let marker = std::fs::read_to_string(out.join("INCOMPLETE.txt")).unwrap();
+    assert!(
+        marker.contains("a final check the recipe makes"),
+        "{marker}"
+    );
+    // a finished run into the same folder removes the marker
+    let ok = write_recipe(&d, "ok.rhai", FAMILY_WITH_A_FAILURE);
+    let r = gapwise(&["run", ok.to_str().unwrap(), "--out", out.to_str().unwrap()]);
+    assert_eq!(r.code, 0, "{}", r.stderr);
+    assert!(!out.join("INCOMPLETE.txt").exists());
+    std::fs::remove_dir_all(&d).unwrap();
+}
+
 const ONE_CHECK: &str = r#"
 let rules = rule_book();
 rules.add_rule(#{ id: "switch_voltage", description: "drain at most 85 % of 650 V",
                   reference: "house rule", limit: 552.5 * V });
-let c = rules.check("switch_voltage", drain * V);
+const drain = param("drain", 480 * V, "drain voltage at high line");
+let c = rules.check("switch_voltage", drain);
 print(c);
+output_table("checks", checks_table([c]));
 "#;
 
 #[test]
@@ -296,21 +369,43 @@ fn strict_exits_3_only_when_a_check_fails() {
     let d = temp_dir("strict");
     let path = write_recipe(&d, "check.rhai", ONE_CHECK);
     let p = path.to_str().unwrap();
-    let failing = gapwise(&["run", p, "--strict", "--set", "drain=600"]);
+    let failing = gapwise(&["run", p, "--strict", "--set", "drain=600 V"]);
     assert_eq!(failing.code, 3, "{}{}", failing.stdout, failing.stderr);
     assert!(
         failing.stderr.contains("1 design-rule check failed"),
         "{}",
         failing.stderr
     );
-    let passing = gapwise(&["run", p, "--strict", "--set", "drain=480"]);
+    let passing = gapwise(&["run", p, "--strict", "--set", "drain=480 V"]);
     assert_eq!(passing.code, 0, "{}", passing.stderr);
-    let lenient = gapwise(&["run", p, "--set", "drain=600"]);
+    let lenient = gapwise(&["run", p, "--set", "drain=600 V"]);
     assert_eq!(
         lenient.code, 0,
         "without --strict a failed check is reported, not fatal"
     );
     std::fs::remove_dir_all(&d).unwrap();
+}
+
+#[test]
+fn strict_fails_on_error_rows() {
+    // issue 10: --strict exited 0 when variants failed
+    let r = gapwise_with_stdin(&["run", "-", "--strict"], FAMILY_WITH_A_FAILURE, None);
+    assert_eq!(r.code, 3, "{}", r.stderr);
+    assert!(
+        r.stderr.contains("1 variant failed (error rows)"),
+        "{}",
+        r.stderr
+    );
+    let r = gapwise_with_stdin(&["run", "-"], FAMILY_WITH_A_FAILURE, None);
+    assert_eq!(r.code, 0, "{}", r.stderr);
+}
+
+#[test]
+fn help_and_quit_without_the_colon_are_recognised() {
+    let r = gapwise_with_stdin(&[], "help celsius\nquit\nprint(\"after quit\")\n", None);
+    assert_eq!(r.code, 0, "{}", r.stderr);
+    assert!(r.stdout.contains("celsius(degrees)"), "{}", r.stdout);
+    assert!(!r.stdout.contains("after quit"), "{}", r.stdout);
 }
 
 #[test]
@@ -431,9 +526,9 @@ fn power(v, i) {
 power(output_voltage, 1.5 * A)
 :vars
 1 * mH + 1 * A
-let m = #{ a: 1,
+let mp = #{ a: 1,
            b: 2 };
-m.b
+mp.b
 :frobnicate
 :quit
 print(\"after quit\")

@@ -388,26 +388,40 @@ fn script_barrier_voltage_feeds_barrier_requirements() {
 }
 
 #[test]
-fn flyback_checks_count_once_per_design() {
+fn failed_checks_count_only_when_they_reach_an_output() {
+    // issue 10/16: --strict counts the verdicts in the outputs, and only those
     let h = host();
+    let d = "let d = flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A, rule_limits: #{drain_voltage_derating: 400 * V}});";
     let _ = h.eval(
-        "let d = flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A, rule_limits: #{drain_voltage_derating: 400 * V}}); \
-         let a = flyback_checks(d); let b = flyback_checks(d); let e = d; let c = flyback_checks(e); \
-         assert(worst_status(c) == \"fail\", \"tightened rule fails\");",
+        &format!("{d} let a = flyback_checks(d); let b = flyback_checks(d); assert(worst_status(a) == \"fail\", \"tightened rule fails\");"),
         "<test>",
     )
     .unwrap();
-    assert_eq!(h.take_failed_checks(), 1);
-    // two designs count separately
-    let _ = h.eval(
-        "let lim = #{drain_voltage_derating: 400 * V}; \
-         let d1 = flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A, rule_limits: lim}); \
-         let d2 = flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A, rule_limits: lim}); \
-         flyback_checks(d1); flyback_checks(d2); flyback_checks(d1);",
-        "<test>",
-    )
-    .unwrap();
-    assert_eq!(h.take_failed_checks(), 2);
+    assert_eq!(h.take_failed_checks(), 0, "made but never output");
+    let _ = h
+        .eval(
+            &format!("{d} output_table(\"checks\", checks_table(flyback_checks(d)));"),
+            "<test>",
+        )
+        .unwrap();
+    assert_eq!(h.take_failed_checks(), 1, "one failed check in a table");
+    let _ = h
+        .eval(
+            &format!("{d} output_text(\"report\", \"md\", flyback_report(d, \"t\"));"),
+            "<test>",
+        )
+        .unwrap();
+    assert_eq!(h.take_failed_checks(), 1, "one failed check in a report");
+    let _ = h
+        .eval(
+            &format!("{d} output_table(\"family\", table([flyback_summary(d)]));"),
+            "<test>",
+        )
+        .unwrap();
+    assert!(
+        h.take_failed_checks() >= 1,
+        "a summary row whose worst status fails counts"
+    );
 }
 
 #[test]

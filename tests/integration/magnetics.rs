@@ -532,7 +532,7 @@ fn transformer_design_turns_flux_and_checks() {
     assert_ne!(flux, "fail");
     // house limit tightened: the temperature-rise check fails
     let fail = eval(&format!(
-        "let s = {DESIGN}; s.max_temperature_rise = 1 * K; worst_status(transformer_design(s).checks)"
+        "let spec = {DESIGN}; spec.max_temperature_rise = 1 * K; worst_status(transformer_design(spec).checks)"
     ));
     assert_eq!(fail, "fail");
 }
@@ -540,11 +540,11 @@ fn transformer_design_turns_flux_and_checks() {
 #[test]
 fn transformer_design_bad_inputs_name_the_parameter() {
     let e = eval_err(&format!(
-        "let s = {DESIGN}; s.primary_inductance = -1 * mH; transformer_design(s)"
+        "let spec = {DESIGN}; spec.primary_inductance = -1 * mH; transformer_design(spec)"
     ));
     assert!(e.message.contains("primary_inductance"), "{}", e.message);
     let e = eval_err(&format!(
-        "let s = {DESIGN}; s.core = \"ETD28\"; transformer_design(s)"
+        "let spec = {DESIGN}; spec.core = \"ETD28\"; transformer_design(spec)"
     ));
     assert!(
         e.message.contains("did you mean `ETD29`") || e.message.contains("ETD29"),
@@ -552,11 +552,11 @@ fn transformer_design_bad_inputs_name_the_parameter() {
         e.message
     );
     let e = eval_err(&format!(
-        "let s = {DESIGN}; s.switching_frequency = 5 * V; transformer_design(s)"
+        "let spec = {DESIGN}; spec.switching_frequency = 5 * V; transformer_design(spec)"
     ));
     assert!(e.message.contains("switching_frequency"), "{}", e.message);
     let e = eval_err(&format!(
-        "let s = {DESIGN}; s.primary_peak_curent = 1 * A; transformer_design(s)"
+        "let spec = {DESIGN}; spec.primary_peak_curent = 1 * A; transformer_design(spec)"
     ));
     assert!(e.message.contains("unknown key"), "{}", e.message);
 }
@@ -570,16 +570,16 @@ fn interleaving_lowers_leakage_and_creepage_is_checked() {
         "transformer_design({DESIGN}).design.leakage_inductance"
     ));
     let plain = eval_quantity(&format!(
-        "let s = {DESIGN}; s.winding_order = \"primary_secondary_bias\"; transformer_design(s).design.leakage_inductance"
+        "let spec = {DESIGN}; spec.winding_order = \"primary_secondary_bias\"; transformer_design(spec).design.leakage_inductance"
     ));
     assert!(split.value() < 0.5 * plain.value(), "{split} vs {plain}");
     let st = eval(&format!(
-        "let s = {DESIGN}; s.required_creepage = 6.4 * mm; let c = transformer_design(s).checks; c.filter(|x| x.id == \"creepage_along_bobbin\")[0].status"
+        "let spec = {DESIGN}; spec.required_creepage = 6.4 * mm; let c = transformer_design(spec).checks; c.filter(|x| x.id == \"creepage_along_bobbin\")[0].status"
     ));
     assert_eq!(st, "fail", "2 × 2 mm margins are below 6.4 mm");
     // a given thermal resistance replaces the surface fit: ΔT = Rθ·P
     let r = eval_quantity(&format!(
-        "let s = {DESIGN}; s.thermal_resistance = 30 * K / W; let d = transformer_design(s).design; d.temperature_rise / d.total_loss"
+        "let spec = {DESIGN}; spec.thermal_resistance = 30 * K / W; let d = transformer_design(spec).design; d.temperature_rise / d.total_loss"
     ));
     check_near(r, "30 K/W", 1e-9);
 }
@@ -610,11 +610,11 @@ fn wire_by_current_density_and_skin_depth() {
 fn secondary_wire_kinds() {
     // litz: strands of the given diameter, copper area for 6 A/mm², and a lower AC factor
     // than solid parallel strands at the same current (Dowell per strand layer)
-    let litz = eval(&format!("let s = {DESIGN}; s.secondary_litz = true; transformer_design(s).design[\"secondary.wire\"]"));
+    let litz = eval(&format!("let spec = {DESIGN}; spec.secondary_litz = true; transformer_design(spec).design[\"secondary.wire\"]"));
     assert!(litz.contains("litz") && litz.contains("0.100 mm"), "{litz}");
-    let tiw = eval(&format!("let s = {DESIGN}; s.secondary_triple_insulated = true; transformer_design(s).design[\"secondary.wire\"]"));
+    let tiw = eval(&format!("let spec = {DESIGN}; spec.secondary_triple_insulated = true; transformer_design(spec).design[\"secondary.wire\"]"));
     assert!(tiw.contains("triple-insulated"), "{tiw}");
-    let e = eval_err(&format!("let s = {DESIGN}; s.secondary_triple_insulated = true; s.secondary_litz = true; transformer_design(s)"));
+    let e = eval_err(&format!("let spec = {DESIGN}; spec.secondary_triple_insulated = true; spec.secondary_litz = true; transformer_design(spec)"));
     assert!(e.message.contains("exclude each other"), "{}", e.message);
 }
 
@@ -628,7 +628,7 @@ fn materials_are_editable_from_scripts() {
     assert!(e.message.contains("saturation_100c"), "{}", e.message);
     // an edited material feeds the design: lower Bsat lowers the margin
     let m = eval(&format!(
-        "let s = {DESIGN}; s.material = ferrite_material(\"mnzn_power_100khz\", #{{saturation_100c: 0.3 * T}}); transformer_design(s).design.saturation_margin"
+        "let spec = {DESIGN}; spec.material = ferrite_material(\"mnzn_power_100khz\", #{{saturation_100c: 0.3 * T}}); transformer_design(spec).design.saturation_margin"
     ));
     assert!(m.parse::<f64>().unwrap() < 0.2, "{m}");
 }
@@ -811,7 +811,7 @@ fn transformer_inputs_come_from_the_flyback_design() {
 #[test]
 fn several_outputs_share_the_secondary_ampere_turns() {
     // 12 V / 1 A regulated plus 5 V / 1 A (0.4 V drop) on the EF25 design above
-    let two = "let s = DESIGN_SPEC; s.output_current = 1 * A; s.additional_outputs = [#{voltage: 5 * V, current: 1 * A, rectifier_drop: 0.4 * V}]; let d = transformer_design(s).design; ";
+    let two = "let spec = DESIGN_SPEC; spec.output_current = 1 * A; spec.additional_outputs = [#{voltage: 5 * V, current: 1 * A, rectifier_drop: 0.4 * V}]; let d = transformer_design(spec).design; ";
     let two = two.replace("DESIGN_SPEC", DESIGN);
     let turns = |e: &str| -> f64 { eval(&format!("{two} {e}")).parse().unwrap() };
     let ns = turns("d.secondary_turns");
@@ -838,16 +838,16 @@ fn several_outputs_share_the_secondary_ampere_turns() {
     assert!((v2 - 5.0).abs() <= 0.5 * 12.5 / ns + 1e-9, "{v2}");
     // the extra winding is wound and appears in the build sheet and losses
     let sheet = eval(&format!(
-        "let s = {DESIGN}; s.output_current = 1 * A; s.additional_outputs = [#{{voltage: 5 * V, current: 1 * A}}]; transformer_design(s).build_sheet"
+        "let spec = {DESIGN}; spec.output_current = 1 * A; spec.additional_outputs = [#{{voltage: 5 * V, current: 1 * A}}]; transformer_design(spec).build_sheet"
     ));
     assert!(sheet.contains("secondary 2"), "{sheet}");
     // bad input names the parameter
     let e = eval_err(&format!(
-        "let s = {DESIGN}; s.additional_outputs = [#{{voltage: 5 * V, current: 1 * A}}]; transformer_design(s)"
+        "let spec = {DESIGN}; spec.additional_outputs = [#{{voltage: 5 * V, current: 1 * A}}]; transformer_design(spec)"
     ));
     assert!(e.message.contains("output_current"), "{}", e.message);
     let e = eval_err(&format!(
-        "let s = {DESIGN}; s.output_current = 1 * A; s.additional_outputs = [#{{voltage: -5 * V, current: 1 * A}}]; transformer_design(s)"
+        "let spec = {DESIGN}; spec.output_current = 1 * A; spec.additional_outputs = [#{{voltage: -5 * V, current: 1 * A}}]; transformer_design(spec)"
     ));
     assert!(
         e.message.contains("additional_outputs[0]") && e.message.contains("voltage"),

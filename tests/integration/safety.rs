@@ -461,13 +461,17 @@ fn barrier_checks_count_failures_and_report_carries_the_caution() {
         .eval(
             "let b = #{barrier: \"primary_secondary\", insulation: \"reinforced\", altitude: 3000 * m, \
              provided_clearance: 3.0 * mm, provided_creepage: 6.0 * mm}; \
-             let c = barrier_checks(b); [c[0].status, c[1].status, c.len()]",
+             let c = barrier_checks(b); output_table(\"barrier\", checks_table(c)); [c[0].status, c[1].status, c.len()]",
             "<test>",
         )
         .unwrap();
     // 3.42 mm clearance required at 3000 m: 3.0 mm fails; creepage 4.6 mm: 6.0 mm passes
     assert_eq!(h.display(&v), "[\"fail\", \"pass\", 2]");
-    assert_eq!(h.take_failed_checks(), 1);
+    assert_eq!(
+        h.take_failed_checks(),
+        1,
+        "the failed check reached an output"
+    );
     let report =
         eval("isolation_report([#{barrier: \"primary_secondary\", insulation: \"reinforced\"}])");
     assert!(report.contains(gapwise::SAFETY_CAUTION));

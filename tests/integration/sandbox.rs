@@ -43,7 +43,7 @@ fn deep_recursion_stops_at_the_call_depth() {
 #[test]
 fn huge_string_stops_at_the_size_limit() {
     let e = small_host()
-        .eval("let s = \"x\"; loop { s += s; }", "<test>")
+        .eval("let text = \"x\"; loop { text += text; }", "<test>")
         .unwrap_err();
     assert!(e.message.contains("size limit"), "{}", e.message);
 }

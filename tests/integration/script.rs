@@ -34,10 +34,25 @@ fn ints_and_floats_mix_both_ways() {
 }
 
 #[test]
-fn user_variables_shadow_unit_constants() {
-    assert_eq!(eval("let m = 3; m * 2"), "6");
+fn unit_constants_cannot_be_shadowed() {
+    // issue 10: `let V = 2; 12 * V` gave 24, a leftover `s` turned seconds into a number
+    for src in [
+        "let V = 2; 12 * V",
+        "let s = 10; 1 * V * 1 * s",
+        "const mm = 0.1 * mm; mm",
+        "for m in [1, 2] { print(m) }",
+        "fn g(m) { m + 1 } g(1)",
+        "param(\"mm\", 1 * mm, \"a unit\")",
+    ] {
+        let e = eval_err(src);
+        assert!(
+            e.message.contains("unit constant") && e.message.contains("cannot be redefined"),
+            "{src}: {}",
+            e.message
+        );
+    }
     assert_eq!(eval("fn f(x) { x * V } f(2)"), "2 V");
-    assert_eq!(eval("fn g(m) { m + 1 } g(1)"), "2");
+    assert_eq!(eval("let volts = 3; volts * V"), "3 V");
 }
 
 #[test]
@@ -195,4 +210,133 @@ fn wrong_arguments_to_a_gapwise_function_say_what_it_takes() {
     // names that are not gapwise functions keep the engine's message
     let e = eval_err("no_such_function(1)").to_string();
     assert!(e.contains("Function not found"), "{e}");
+}
+
+#[test]
+fn whole_numbers_divide_to_the_real_quotient() {
+    // issue 10: `3/2 * mH` printed 1 mH and `1/2 * 100 * uF` 0 F
+    assert_eq!(eval("3/2 * mH"), "1.5 mH");
+    assert_eq!(eval("1/2 * 100 * uF"), "50 µF");
+    assert_eq!(eval("let x = 7; x /= 2; x"), "3.5");
+    assert_eq!(eval("div_floor(7, 2)"), "3");
+    assert_eq!(eval("div_floor(-7, 2)"), "-4");
+    assert_eq!(eval("div_floor(7, -2)"), "-4");
+    assert!(eval_err("1 / 0").message.contains("division by zero"));
+    assert!(eval_err("div_floor(1, 0)").message.contains("`b`"));
+}
+
+#[test]
+fn quantity_equality_has_a_stated_tolerance() {
+    // issue 10: `22 * uF == 22000 * nF` was false
+    assert_eq!(eval("22 * uF == 22000 * nF"), "true");
+    assert_eq!(
+        eval("22 * uF <= 22000 * nF && 22 * uF >= 22000 * nF"),
+        "true"
+    );
+    assert_eq!(eval("22 * uF < 22000 * nF"), "false");
+    assert_eq!(eval("exactly_equal(22 * uF, 22000 * nF)"), "false");
+    assert_eq!(eval("exactly_equal(22 * uF, 22 * uF)"), "true");
+    // one part in a million is not equal
+    assert_eq!(eval("1 * V == 1.000001 * V"), "false");
+}
+
+#[test]
+fn one_scope_for_constants_functions_and_families() {
+    // issue 10: a top-level const was invisible in fn and in family closures
+    assert_eq!(
+        eval("const f = 65 * kHz; fn g() { f * 2 } let t = family(|v| #{x: v * f, y: g()}, [1, 2]); t.column(\"y\")[1]"),
+        "130 kHz"
+    );
+    let e = eval_err("let x = 1; fn f() { x } f()");
+    assert!(
+        e.message.contains("no variable `x`") && e.message.contains("const"),
+        "{}",
+        e.message
+    );
+}
+
+#[test]
+fn built_in_functions_cannot_be_redefined() {
+    for src in [
+        "fn creepage_distance(s_) { #{creepage: 0.1 * mm} }",
+        "fn flyback_checks(d) { [] }",
+    ] {
+        let e = eval_err(src);
+        assert!(
+            e.message.contains("built-in function") && e.message.contains("cannot be redefined"),
+            "{src}: {}",
+            e.message
+        );
+    }
+    let e = eval_err("flyback_desing(1)");
+    assert!(
+        e.message.contains("did you mean `flyback_design`?"),
+        "{}",
+        e.message
+    );
+}
+
+#[test]
+fn angles_and_temperatures_have_no_traps() {
+    // issue 10: `quantity("1 rad/s")` was 1 Hz, `quantity("25 C")` 25 coulombs without a word,
+    // `celsius(25) * 2` 596 K, `celsius(-300)` accepted
+    assert_eq!(
+        eval("dimension_of(quantity(\"1 rad/s\"))"),
+        "angular frequency"
+    );
+    assert!(eval_err("quantity(\"1 rad/s\") == 1 * Hz")
+        .message
+        .contains("dimensions differ"));
+    assert_eq!(eval("angular_frequency(50 * Hz)"), "314.2 rad/s");
+    assert_eq!(
+        eval("frequency_from_angular(angular_frequency(50 * Hz))"),
+        "50 Hz"
+    );
+    assert_eq!(eval("sin(30 * deg)"), "0.5");
+    let e = eval_err("quantity(\"25 C\")");
+    assert!(
+        e.message.contains("25 °C") && e.message.contains("coulombs"),
+        "{}",
+        e.message
+    );
+    assert_eq!(eval("quantity(\"2 nC\")"), "2 nC");
+    assert!(eval_err("celsius(25) * 2")
+        .message
+        .contains("absolute temperature"));
+    assert!(eval_err("-celsius(25)")
+        .message
+        .contains("absolute temperature"));
+    assert!(eval_err("celsius(-300)").message.contains("absolute zero"));
+    assert!(eval_err("quantity(\"-300 °C\")")
+        .message
+        .contains("absolute zero"));
+    assert_eq!(eval("(celsius(100) - celsius(25)) * 2"), "150 K");
+}
+
+#[test]
+fn a_family_variant_that_is_not_a_row_is_an_error_row() {
+    let h = host();
+    let v = h
+        .eval("let t = family(|v| if v == 1 { () } else if v == 2 { [1, 2] } else { #{x: v} }, [1, 2, 3]); [t.error_count, t.rows]", "<test>")
+        .unwrap();
+    assert_eq!(h.display(&v), "[2, 3]");
+    // a design flattens as its summary (every field, not an empty row)
+    let v = h
+        .eval("family(|v| flyback_design(#{output_voltage: v, output_current: 1 * A}), [5 * V, 12 * V]).columns.len() > 10", "<test>")
+        .unwrap();
+    assert_eq!(h.display(&v), "true");
+}
+
+#[test]
+fn a_design_prints_its_summary_not_its_type() {
+    let text = eval("flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A})");
+    assert!(
+        !text.contains("ScriptFlyback") && text.contains("primary_inductance"),
+        "{text}"
+    );
+    let text = eval("let b = rule_book(); b.add_rule(#{id: \"house_drain\", description: \"drain at most 550 V\", reference: \"house rule\", limit: 550 * V}); b");
+    assert!(
+        !text.contains("RuleBook") && text.contains("house_drain"),
+        "{text}"
+    );
 }

@@ -370,7 +370,7 @@ impl Record for Core {
                 crate::units::Quantity::new(
                     self.area_product(),
                     crate::units::Dimension {
-                        exponents: [4, 0, 0, 0, 0, 0, 0],
+                        exponents: [4, 0, 0, 0, 0, 0, 0, 0],
                     },
                 ),
             ),

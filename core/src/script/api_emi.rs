@@ -718,7 +718,6 @@ pub(crate) fn register(api: &mut Api, state: &Arc<HostState>) {
         (&f, "mains_frequency"),
         crate::safety::y_capacitor_touch_current
     ));
-    let st = state.clone();
     def!(api, &DESIGN, move |m: Map| -> ScriptResult<Map> {
         let (spec, rows) = lift(design_spec(&DESIGN, &m))?;
         let d = lift(emi::input_filter_design(&spec))?;
@@ -734,7 +733,7 @@ pub(crate) fn register(api: &mut Api, state: &Arc<HostState>) {
         );
         out.insert(
             "checks".into(),
-            Dynamic::from_array(super::api_rules::checks_to_array(&st, checks)),
+            Dynamic::from_array(super::api_rules::checks_to_array(checks)),
         );
         Ok(out)
     });
@@ -742,11 +741,11 @@ pub(crate) fn register(api: &mut Api, state: &Arc<HostState>) {
         let (spec, _) = lift(design_spec(&PLOT, &m))?;
         Ok(emi::spectrum_svg(&lift(emi::input_filter_design(&spec))?))
     });
-    def!(api, &REPORT, |m: Map| -> ScriptResult<String> {
+    let st = state.clone();
+    def!(api, &REPORT, move |m: Map| -> ScriptResult<String> {
         let (spec, rows) = lift(design_spec(&REPORT, &m))?;
-        lift(emi::input_filter_report(
-            &lift(emi::input_filter_design(&spec))?,
-            rows,
-        ))
+        let d = lift(emi::input_filter_design(&spec))?;
+        let failed = super::api_rules::failed_count(&lift(emi::input_filter_checks(&d))?);
+        Ok(st.verdict_text(lift(emi::input_filter_report(&d, rows))?, failed))
     });
 }

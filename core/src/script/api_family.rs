@@ -8,7 +8,7 @@ use super::{def, Api};
 use crate::error::Error;
 use crate::report::{Field, Table};
 use rayon::prelude::*;
-use rhai::{Array, Dynamic, FnPtr, ImmutableString, Map, NativeCallContext, AST, INT};
+use rhai::{Array, Dynamic, FnPtr, ImmutableString, Map, NativeCallContext, INT};
 use std::sync::atomic::{AtomicUsize, Ordering};
 use std::sync::Arc;
 
@@ -142,13 +142,36 @@ fn variant_fields(v: &Dynamic) -> Vec<Field> {
     f
 }
 
-fn lib_ast(ctx: &NativeCallContext) -> AST {
-    let mut ast = AST::empty();
-    for m in ctx.iter_namespaces() {
-        ast.combine(AST::new_from_module(m.clone()));
+/// The row fields of one variant's result: a map or a record by field, a design by its
+/// summary, a single value as `value`. Nothing, an array, a table or a function is not a row:
+/// that variant becomes an error row saying so (never an empty row).
+fn result_row(out: &Dynamic) -> Result<Vec<Field>, String> {
+    if out.is_unit() {
+        return Err("the variant returned nothing `()`; end the design function with a map or a record of results".into());
     }
-    ast
+    if out.is_array() || out.is::<Table>() || out.is::<FnPtr>() {
+        return Err(format!(
+            "the variant returned {}, which is not a row; return a map (e.g. `#{{name: value}}`) or a record",
+            match out.type_name() {
+                "array" => "an array",
+                "Table" => "a table",
+                _ => "a function",
+            }
+        ));
+    }
+    let mut fields = Vec::new();
+    flatten("", out, &mut fields);
+    if fields.is_empty() && !out.is_map() {
+        return Err(format!(
+            "the variant returned a {}, which a row cannot hold; return a map or a record",
+            out.type_name()
+        ));
+    }
+    Ok(fields)
 }
+
+/// Why a family stopped as a whole (Ctrl-C, the time budget): not one variant's error row.
+struct Stopped(String);
 
 fn run_family(
     ctx: &NativeCallContext,
@@ -156,36 +179,65 @@ fn run_family(
     limits: &EngineLimits,
     f: &FnPtr,
     variants: &Array,
-) -> Table {
+) -> ScriptResult<Table> {
     let engine = ctx.engine();
-    let ast = lib_ast(ctx);
+    // every variant runs in the caller's context: the recipe's functions and top-level
+    // constants are visible, and the call depth counts from here (a family inside a family
+    // inside … meets the call-depth limit)
+    let global = ctx.global_runtime_state();
+    let fn_name = ctx.fn_name();
+    let source = ctx.call_source();
+    let pos = ctx.call_position();
     let total = variants.len();
     let done = AtomicUsize::new(0);
     let progress = state.progress();
-    let results: Vec<Result<Dynamic, String>> = variants
+    let results: Vec<Result<Result<Dynamic, String>, Stopped>> = variants
         .par_iter()
         .map(|v| {
-            let r = f
-                .call::<Dynamic>(engine, &ast, (v.clone(),))
-                .map_err(|e| ScriptError::from_eval(&e, "", "", limits).message);
+            if let Some(why) = state.should_stop() {
+                return Err(Stopped(why));
+            }
+            let vctx = NativeCallContext::new_with_all_fields(engine, fn_name, source, global, pos);
+            let r = f.call_raw(&vctx, None, [v.clone()]);
             if let Some(p) = &progress {
                 p(done.fetch_add(1, Ordering::Relaxed) + 1, total);
             }
-            r
+            match r {
+                Ok(x) => Ok(Ok(x)),
+                Err(e) => {
+                    if let Some(why) = state.should_stop() {
+                        return Err(Stopped(why));
+                    }
+                    if matches!(*e, rhai::EvalAltResult::ErrorStackOverflow(_)) {
+                        // the same in every variant: the family as a whole is too deep
+                        return Err(Stopped(ScriptError::from_eval(&e, "", "", limits).message));
+                    }
+                    Ok(Err(ScriptError::from_eval(&e, "", "", limits).message))
+                }
+            }
         })
         .collect();
     let mut table = Table::new();
     for (v, r) in variants.iter().zip(results) {
         let mut fields = variant_fields(v);
         match r {
-            Ok(out) => {
-                flatten("", &out, &mut fields);
-                table.push_row(fields);
+            Ok(Ok(out)) => match result_row(&out) {
+                Ok(mut f) => {
+                    fields.append(&mut f);
+                    table.push_row(fields);
+                }
+                Err(message) => table.push_error_row(fields, message),
+            },
+            Ok(Err(message)) => table.push_error_row(fields, message),
+            Err(Stopped(why)) => {
+                return Err(Box::new(rhai::EvalAltResult::ErrorTerminated(
+                    Dynamic::from(why),
+                    pos,
+                )))
             }
-            Err(message) => table.push_error_row(fields, message),
         }
     }
-    table
+    Ok(table)
 }
 
 fn grid(axes: &Map, max_rows: usize) -> crate::error::Result<Array> {
@@ -250,7 +302,7 @@ pub(crate) fn register(api: &mut Api, state: &Arc<HostState>, limits: &EngineLim
     def!(api, &FAMILY, move |ctx: NativeCallContext,
                              f: FnPtr,
                              variants: Array|
-          -> Table {
+          -> ScriptResult<Table> {
         run_family(&ctx, &st, &lim, &f, &variants)
     });
     let max_rows = limits.max_array_size;

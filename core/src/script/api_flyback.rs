@@ -17,7 +17,6 @@ use crate::flyback::{
 use crate::report::{Field, Table};
 use crate::units::{Frequency, Inductance};
 use rhai::{Array, Dynamic, ImmutableString, Map};
-use std::sync::atomic::{AtomicBool, Ordering};
 use std::sync::Arc;
 
 use ParamKind::{Flag, List, Number, Quantity as Q, Text};
@@ -226,9 +225,6 @@ pub struct ScriptFlyback {
     design: Arc<FlybackDesign>,
     summary: ScriptRecord,
     spec: Arc<crate::flyback::FlybackSpec>,
-    /// Set once this design's failed checks have gone into the strict-mode count (shared by
-    /// every copy of the design, so asking for the checks again does not count them again).
-    counted: Arc<AtomicBool>,
 }
 
 impl ScriptFlyback {
@@ -500,7 +496,6 @@ pub(crate) fn register(api: &mut Api, state: &Arc<HostState>) {
             design: Arc::new(d),
             summary,
             spec: Arc::new(spec),
-            counted: Arc::new(AtomicBool::new(false)),
         })
     });
     def!(api, &SUMMARY, |d: ScriptFlyback| d.summary.clone());
@@ -519,19 +514,20 @@ pub(crate) fn register(api: &mut Api, state: &Arc<HostState>) {
         Ok(corner_of(&d, &name)?.losses.table())
     });
     def!(api, &OVERLOAD, |d: ScriptFlyback| d.design.overload_table());
-    let st = state.clone();
     def!(api, &CHECKS, move |d: ScriptFlyback| {
-        let checks = d.design.checks.clone();
-        if d.counted.swap(true, Ordering::Relaxed) {
-            // Already counted for this design: hand the results back without counting again.
-            checks.into_iter().map(Dynamic::from).collect::<Array>()
-        } else {
-            checks_to_array(&st, checks)
+        checks_to_array(d.design.checks.clone())
+    });
+    let st = state.clone();
+    def!(
+        api,
+        &REPORT,
+        move |d: ScriptFlyback, title: ImmutableString| {
+            st.verdict_text(
+                design_report_markdown(&d.design, &title),
+                super::api_rules::failed_count(&d.design.checks),
+            )
         }
-    });
-    def!(api, &REPORT, |d: ScriptFlyback, title: ImmutableString| {
-        design_report_markdown(&d.design, &title)
-    });
+    );
     def!(
         api,
         &BOUNDARY,

@@ -3,12 +3,10 @@
 
 use super::convert::{dynamic_to_integer, dynamic_to_typed, lift, ScriptResult};
 use super::docs::{Domain, FunctionDoc, ParamDoc, ParamKind};
-use super::host::HostState;
 use super::{def, overload, Api};
 use crate::magnetics;
 use crate::units::{Quantity, ThermodynamicTemperature};
 use rhai::{Array, Dynamic};
-use std::sync::Arc;
 
 mod design;
 
@@ -114,8 +112,8 @@ static FROM_FLYBACK: FunctionDoc = FunctionDoc {
     example: "let t = transformer_inputs_from_flyback(flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A})); t.core = \"EF25\"; transformer_design(t).design.primary_turns",
 };
 
-pub(crate) fn register(api: &mut Api, state: &Arc<HostState>) {
-    design::register(api, state);
+pub(crate) fn register(api: &mut Api) {
+    design::register(api);
     def!(
         api,
         &FROM_FLYBACK,

@@ -2,14 +2,12 @@
 
 use super::convert::{dynamic_to_quantity, lift, script_error, ScriptResult};
 use super::docs::{Domain, FunctionDoc, ParamDoc, ParamKind};
-use super::host::HostState;
 use super::spec::Spec;
 use super::{def, Api};
 use crate::error::Error;
 use crate::report::Table;
 use crate::rules::{checks_table, worst_status, CheckResult, Comparison, Rule, RuleBook, Status};
 use rhai::{Array, Dynamic, ImmutableString, Map};
-use std::sync::Arc;
 
 static RULE_BOOK: FunctionDoc = FunctionDoc {
     name: "rule_book",
@@ -138,30 +136,34 @@ fn checks_from_array(a: &Array) -> ScriptResult<Vec<CheckResult>> {
         .collect()
 }
 
+/// A rule book as text, one rule per line: id, comparison, limit, description, reference.
+pub(crate) fn rule_book_text(b: &RuleBook) -> String {
+    b.rules()
+        .iter()
+        .map(|r| {
+            format!(
+                "{}: {} {} ({}) [{}]",
+                r.id,
+                r.comparison.as_str(),
+                r.limit,
+                r.description,
+                r.reference
+            )
+        })
+        .collect::<Vec<_>>()
+        .join("\n")
+}
+
 fn failed(checks: &[CheckResult]) -> usize {
     checks.iter().filter(|c| c.status == Status::Fail).count()
 }
 
-pub(crate) fn register(api: &mut Api, state: &Arc<HostState>) {
+pub(crate) fn register(api: &mut Api) {
     let e = &mut *api.engine;
     e.register_type_with_name::<RuleBook>("RuleBook");
     e.register_type_with_name::<CheckResult>("CheckResult");
-    e.register_fn("to_string", |b: &mut RuleBook| {
-        b.rules()
-            .iter()
-            .map(|r| {
-                format!(
-                    "{}: {} {} ({}) [{}]",
-                    r.id,
-                    r.comparison.as_str(),
-                    r.limit,
-                    r.description,
-                    r.reference
-                )
-            })
-            .collect::<Vec<_>>()
-            .join("\n")
-    });
+    e.register_fn("to_string", |b: &mut RuleBook| rule_book_text(b));
+    e.register_fn("to_debug", |b: &mut RuleBook| rule_book_text(b));
     e.register_fn("to_string", |c: &mut CheckResult| check_line(c));
     e.register_fn("to_debug", |c: &mut CheckResult| check_line(c));
     e.register_get("id", |c: &mut CheckResult| c.id.clone());
@@ -200,20 +202,16 @@ pub(crate) fn register(api: &mut Api, state: &Arc<HostState>) {
         let l = lift(dynamic_to_quantity(&limit, "limit", None))?;
         lift(book.set_limit(id.as_str(), l))
     });
-    // Failed checks are counted once, where they are made (check, check_all); the runner's
-    // strict mode reads the count. Domain functions that evaluate rules count through
-    // `count_failed_checks`.
-    let st = state.clone();
+    // Failed checks count toward --strict when they reach an output (a table or a report
+    // handed to the runner), not where they are made.
     def!(api, &CHECK, move |book: &mut RuleBook,
                             id: ImmutableString,
                             value: Dynamic|
           -> ScriptResult<CheckResult> {
         let v = lift(dynamic_to_quantity(&value, "value", None))?;
         let c = lift(book.check(id.as_str(), v))?;
-        st.note_failed_checks(failed(std::slice::from_ref(&c)));
         Ok(c)
     });
-    let st = state.clone();
     def!(api, &CHECK_ALL, move |book: &mut RuleBook,
                                 values: Map|
           -> ScriptResult<Table> {
@@ -222,7 +220,6 @@ pub(crate) fn register(api: &mut Api, state: &Arc<HostState>) {
             let q = lift(dynamic_to_quantity(v, id, None))?;
             out.push(lift(book.check(id, q))?);
         }
-        st.note_failed_checks(failed(&out));
         Ok(checks_table(&out))
     });
     def!(api, &CHECKS_TABLE, |a: Array| -> ScriptResult<Table> {
@@ -233,9 +230,12 @@ pub(crate) fn register(api: &mut Api, state: &Arc<HostState>) {
     });
 }
 
-/// For domain bindings that evaluate rules natively: turns check results into a script array
-/// and counts the failures for the runner's strict mode.
-pub(crate) fn checks_to_array(state: &HostState, checks: Vec<CheckResult>) -> Array {
-    state.note_failed_checks(failed(&checks));
+/// For domain bindings that evaluate rules natively: turns check results into a script array.
+pub(crate) fn checks_to_array(checks: Vec<CheckResult>) -> Array {
     checks.into_iter().map(Dynamic::from).collect()
+}
+
+/// How many of the checks failed.
+pub(crate) fn failed_count(checks: &[CheckResult]) -> usize {
+    failed(checks)
 }

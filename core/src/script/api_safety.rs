@@ -535,20 +535,26 @@ pub(crate) fn register(api: &mut Api, state: &Arc<HostState>) {
         })())?;
         Ok(ScriptRecord::from_record("barrier_requirements", &r))
     });
-    let st = state.clone();
     def!(api, &CHECKS, move |m: Map| -> ScriptResult<Array> {
         let checks = lift((|| {
             let s = Spec::new(&CHECKS, &m)?;
             let r = safety::barrier_requirements(&barrier_spec(&s)?)?;
             safety::barrier_checks(&r, &provided(&s)?)
         })())?;
-        Ok(checks_to_array(&st, checks))
+        Ok(checks_to_array(checks))
     });
     def!(api, &TABLE, |a: Array| -> ScriptResult<Table> {
         lift(barrier_rows(&a).and_then(|rows| safety::isolation_table(&rows)))
     });
-    def!(api, &REPORT, |a: Array| -> ScriptResult<String> {
-        lift(barrier_rows(&a).and_then(|rows| safety::isolation_report(&rows)))
+    let st = state.clone();
+    def!(api, &REPORT, move |a: Array| -> ScriptResult<String> {
+        let rows = lift(barrier_rows(&a))?;
+        let text = lift(safety::isolation_report(&rows))?;
+        let mut failed = 0;
+        for (r, p) in &rows {
+            failed += super::api_rules::failed_count(&lift(safety::barrier_checks(r, p))?);
+        }
+        Ok(st.verdict_text(text, failed))
     });
     def!(api, &WORKING, |m: Map| -> ScriptResult<ScriptRecord> {
         let r = lift((|| {

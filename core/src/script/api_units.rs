@@ -105,6 +105,92 @@ static CELSIUS: FunctionDoc = FunctionDoc {
     returns: "an absolute temperature, printed in °C",
     example: "celsius(100) - celsius(25)",
 };
+static EXACTLY_EQUAL: FunctionDoc = FunctionDoc {
+    name: "exactly_equal",
+    domain: Domain::Units,
+    summary: "Exact equality of two quantities (same dimension, same value to the last bit); `==` allows a relative 1e-9.",
+    params: &[
+        ParamDoc::required("a", Q, "quantity or number"),
+        ParamDoc::required("b", Q, "quantity or number"),
+    ],
+    keys: &[],
+    returns: "true or false (an error when the dimensions differ)",
+    example: "exactly_equal(22 * uF, 22000 * nF)",
+};
+static DIV_FLOOR: FunctionDoc = FunctionDoc {
+    name: "div_floor",
+    domain: Domain::Units,
+    summary:
+        "Whole-number division rounded down (`/` between whole numbers gives the real quotient).",
+    params: &[
+        ParamDoc::required("a", ParamKind::Integer, "dividend"),
+        ParamDoc::required("b", ParamKind::Integer, "divisor, not zero"),
+    ],
+    keys: &[],
+    returns: "a whole number",
+    example: "div_floor(7, 2)",
+};
+static ANGULAR_FREQUENCY: FunctionDoc = FunctionDoc {
+    name: "angular_frequency",
+    domain: Domain::Units,
+    summary: "The angular frequency of a frequency: ω = 2π·f, in rad/s (angles are a dimension of their own, so rad/s is never read as Hz).",
+    params: &[ParamDoc::required("frequency", ParamKind::Quantity("Hz"), "frequency")],
+    keys: &[],
+    returns: "angular frequency (rad/s)",
+    example: "angular_frequency(50 * Hz)",
+};
+static FREQUENCY_FROM_ANGULAR: FunctionDoc = FunctionDoc {
+    name: "frequency_from_angular",
+    domain: Domain::Units,
+    summary: "The frequency of an angular frequency: f = ω / 2π.",
+    params: &[ParamDoc::required(
+        "angular_frequency",
+        ParamKind::Quantity("rad/s"),
+        "angular frequency",
+    )],
+    keys: &[],
+    returns: "frequency (Hz)",
+    example: "frequency_from_angular(314.16 * rad / s)",
+};
+static SIN: FunctionDoc = FunctionDoc {
+    name: "sin",
+    domain: Domain::Units,
+    summary: "Sine of an angle (rad or deg; a plain number is radians).",
+    params: &[ParamDoc::required(
+        "angle",
+        ParamKind::Quantity("rad"),
+        "angle",
+    )],
+    keys: &[],
+    returns: "a plain number",
+    example: "sin(30 * deg)",
+};
+static COS: FunctionDoc = FunctionDoc {
+    name: "cos",
+    domain: Domain::Units,
+    summary: "Cosine of an angle (rad or deg; a plain number is radians).",
+    params: &[ParamDoc::required(
+        "angle",
+        ParamKind::Quantity("rad"),
+        "angle",
+    )],
+    keys: &[],
+    returns: "a plain number",
+    example: "cos(60 * deg)",
+};
+static TAN: FunctionDoc = FunctionDoc {
+    name: "tan",
+    domain: Domain::Units,
+    summary: "Tangent of an angle (rad or deg; a plain number is radians).",
+    params: &[ParamDoc::required(
+        "angle",
+        ParamKind::Quantity("rad"),
+        "angle",
+    )],
+    keys: &[],
+    returns: "a plain number",
+    example: "tan(45 * deg)",
+};
 static DIMENSION_OF: FunctionDoc = FunctionDoc {
     name: "dimension_of",
     domain: Domain::Units,
@@ -266,6 +352,20 @@ fn constants() -> &'static HashMap<&'static str, Dynamic> {
     })
 }
 
+/// The unit a unit constant stands for (`"mm"` → `"mm"`, `"ohm"` → `"ohm"`), or None.
+pub(crate) fn constant_text(name: &str) -> Option<&'static str> {
+    SCRIPT_CONSTANTS
+        .iter()
+        .find(|(n, _)| *n == name)
+        .map(|(_, t)| *t)
+        .or(match name {
+            "dB" => Some("dB"),
+            "dBuV" => Some("dBµV"),
+            "dBuA" => Some("dBµA"),
+            _ => None,
+        })
+}
+
 /// Names of the unit constants, sorted.
 pub(crate) fn constant_names() -> Vec<&'static str> {
     let mut v: Vec<&'static str> = constants().keys().copied().collect();
@@ -290,7 +390,40 @@ fn to_dyn(r: crate::error::Result<Quantity>) -> ScriptResult<Dynamic> {
 }
 
 fn cmp(a: Quantity, b: Quantity, f: fn(std::cmp::Ordering) -> bool) -> ScriptResult<bool> {
-    lift(a.compare(&b)).map(f)
+    lift(a.compare_tolerant(&b)).map(f)
+}
+
+/// Whole-number arithmetic that would truncate gives the real quotient instead: `3 / 2` is
+/// 1.5 in a recipe, as an engineer reads it. Integer division only by `div_floor`.
+fn register_number_division(engine: &mut Engine) {
+    engine.register_fn("/", |a: INT, b: INT| -> ScriptResult<FLOAT> {
+        if b == 0 {
+            return Err(super::convert::script_error(Error::invalid(format!(
+                "division by zero: {a} / 0"
+            ))));
+        }
+        Ok(a as FLOAT / b as FLOAT)
+    });
+    // `x /= n` on a whole number turns x into the real quotient, like `x = x / n`
+    engine.register_fn("/=", |a: &mut Dynamic, b: INT| -> ScriptResult<()> {
+        let x = if let Ok(i) = a.as_int() {
+            i as FLOAT
+        } else if let Ok(f) = a.as_float() {
+            f
+        } else {
+            return Err(super::convert::script_error(Error::invalid(format!(
+                "cannot divide a value of type {} by {b}",
+                a.type_name()
+            ))));
+        };
+        if b == 0 {
+            return Err(super::convert::script_error(Error::invalid(format!(
+                "division by zero: {x} / 0"
+            ))));
+        }
+        *a = Dynamic::from_float(x / b as FLOAT);
+        Ok(())
+    });
 }
 
 fn register_quantity_operators(engine: &mut Engine) {
@@ -307,29 +440,27 @@ fn register_quantity_operators(engine: &mut Engine) {
     }
     both_orders!("+", |a: Quantity, b: Quantity| to_dyn(a.add(&b)));
     both_orders!("-", |a: Quantity, b: Quantity| to_dyn(a.sub(&b)));
-    both_orders!("*", |a: Quantity, b: Quantity| -> ScriptResult<Dynamic> {
-        Ok(quantity_to_dynamic(a.mul(&b)))
-    });
-    both_orders!("/", |a: Quantity, b: Quantity| -> ScriptResult<Dynamic> {
-        if b.value() == 0.0 {
-            return Err(super::convert::script_error(Error::invalid(format!(
-                "division by zero: {} / {}",
-                a, b
-            ))));
-        }
-        Ok(quantity_to_dynamic(a.div(&b)))
-    });
-    both_orders!("==", |a: Quantity, b: Quantity| cmp(a, b, |o| o.is_eq()));
-    both_orders!("!=", |a: Quantity, b: Quantity| cmp(a, b, |o| o.is_ne()));
+    both_orders!("*", |a: Quantity, b: Quantity| to_dyn(a.checked_mul(&b)));
+    both_orders!("/", |a: Quantity, b: Quantity| to_dyn(a.checked_div(&b)));
+    // `==` and `!=` hold within COMPARISON_TOLERANCE (relative); `<=` and `>=` agree with
+    // them, `<` and `>` are strict beyond it, so `22 * uF == 22000 * nF` and the ordering
+    // never contradict each other. `exactly_equal` compares the bits.
+    both_orders!("==", |a: Quantity, b: Quantity| lift(a.approx_eq(&b)));
+    both_orders!("!=", |a: Quantity, b: Quantity| lift(a.approx_eq(&b))
+        .map(|e| !e));
     both_orders!("<", |a: Quantity, b: Quantity| cmp(a, b, |o| o.is_lt()));
     both_orders!("<=", |a: Quantity, b: Quantity| cmp(a, b, |o| o.is_le()));
     both_orders!(">", |a: Quantity, b: Quantity| cmp(a, b, |o| o.is_gt()));
     both_orders!(">=", |a: Quantity, b: Quantity| cmp(a, b, |o| o.is_ge()));
-    engine.register_fn("-", |a: Quantity| quantity_to_dynamic(a.neg()));
+    engine.register_fn("-", |a: Quantity| -> ScriptResult<Dynamic> {
+        lift(a.checked_mul(&Quantity::number(-1.0)))?;
+        Ok(quantity_to_dynamic(a.neg()))
+    });
     engine.register_fn("+", |a: Quantity| a);
     engine.register_fn("**", |a: Quantity, n: INT| -> ScriptResult<Dynamic> {
         let n = i32::try_from(n)
             .map_err(|_| super::convert::script_error(Error::out_of_range("exponent too large")))?;
+        lift(a.checked_mul(&Quantity::number(1.0)))?;
         Ok(quantity_to_dynamic(a.powi(n)))
     });
     engine.register_fn("to_string", |a: &mut Quantity| a.to_string());
@@ -406,16 +537,29 @@ fn register_record(engine: &mut Engine) {
     engine.register_fn("to_debug", |r: &mut ScriptRecord| r.to_text());
 }
 
-pub(crate) fn register(api: &mut Api) {
+pub(crate) fn register(api: &mut Api, state: &std::sync::Arc<super::host::HostState>) {
+    let state = state.clone();
+    register_number_division(api.engine);
     register_quantity_operators(api.engine);
     register_decibel(api.engine);
     register_record(api.engine);
     #[allow(deprecated)] // on_var is marked volatile, not deprecated
-    api.engine
-        .on_var(|name, _, ctx| match constants().get(name) {
-            Some(v) if !ctx.scope().contains(name) => Ok(Some(v.clone())),
-            _ => Ok(None),
-        });
+    api.engine.on_var(move |name, _, ctx| {
+        if ctx.scope().contains(name) {
+            return Ok(None);
+        }
+        if let Some(v) = constants().get(name) {
+            return Ok(Some(v.clone()));
+        }
+        // one scope: the recipe's top-level constants (and the session's) are visible in
+        // every function, closure and family variant
+        if let Some(c) = &ctx.global_runtime_state().constants {
+            if let Some(v) = c.read().ok().and_then(|m| m.get(name).cloned()) {
+                return Ok(Some(v));
+            }
+        }
+        Ok(state.session_constant(name))
+    });
 
     def!(
         api,
@@ -451,8 +595,96 @@ pub(crate) fn register(api: &mut Api) {
     .map(|d| keep_temperature(d, &a, &b)));
     def!(api, &CELSIUS, |t: Dynamic| -> ScriptResult<Quantity> {
         let x = lift(super::convert::dynamic_to_number(&t, "degrees"))?;
-        Ok(Quantity::celsius(x))
+        lift(Quantity::celsius_checked(x))
     });
+    def!(api, &EXACTLY_EQUAL, |a: Dynamic,
+                               b: Dynamic|
+     -> ScriptResult<bool> {
+        let (a, b) = (q(&a, "a")?, q(&b, "b")?);
+        lift(a.compare(&b))?;
+        Ok(a.exactly_equal(&b))
+    });
+    def!(api, &DIV_FLOOR, |a: INT, b: INT| -> ScriptResult<INT> {
+        if b == 0 {
+            return Err(super::convert::script_error(Error::invalid(format!(
+                "`b` must not be zero in div_floor({a}, 0)"
+            ))));
+        }
+        a.checked_div(b)
+            .map(|x| {
+                if a % b != 0 && ((a < 0) != (b < 0)) {
+                    x - 1
+                } else {
+                    x
+                }
+            })
+            .ok_or_else(|| {
+                super::convert::script_error(Error::out_of_range(format!(
+                    "div_floor({a}, {b}) overflows"
+                )))
+            })
+    });
+    def!(
+        api,
+        &ANGULAR_FREQUENCY,
+        |f: Dynamic| -> ScriptResult<Dynamic> {
+            let f = lift(super::convert::dynamic_to_quantity(
+                &f,
+                "frequency",
+                Some(crate::units::Dimension::FREQUENCY),
+            ))?;
+            if f.dimension() != crate::units::Dimension::FREQUENCY {
+                return Err(super::convert::script_error(Error::dimension(format!(
+                    "`frequency` must be a frequency (Hz), got {}",
+                    f.describe()
+                ))));
+            }
+            Ok(Dynamic::from(Quantity::new(
+                2.0 * std::f64::consts::PI * f.value(),
+                crate::units::Dimension::ANGULAR_FREQUENCY,
+            )))
+        }
+    );
+    def!(
+        api,
+        &FREQUENCY_FROM_ANGULAR,
+        |w: Dynamic| -> ScriptResult<Dynamic> {
+            let w = lift(super::convert::dynamic_to_quantity(
+                &w,
+                "angular_frequency",
+                Some(crate::units::Dimension::ANGULAR_FREQUENCY),
+            ))?;
+            if w.dimension() != crate::units::Dimension::ANGULAR_FREQUENCY {
+                return Err(super::convert::script_error(Error::dimension(format!(
+                    "`angular_frequency` must be an angular frequency (rad/s), got {}",
+                    w.describe()
+                ))));
+            }
+            Ok(Dynamic::from(Quantity::new(
+                w.value() / (2.0 * std::f64::consts::PI),
+                crate::units::Dimension::FREQUENCY,
+            )))
+        }
+    );
+    // trigonometry of angles (plain numbers are radians, as in the standard library)
+    for (doc, f) in [
+        (&SIN, f64::sin as fn(f64) -> f64),
+        (&COS, f64::cos),
+        (&TAN, f64::tan),
+    ] {
+        let name = doc.name;
+        api.add_doc(doc);
+        api.engine
+            .register_fn(name, move |a: Quantity| -> ScriptResult<FLOAT> {
+                if a.dimension() != crate::units::Dimension::ANGLE {
+                    return Err(super::convert::script_error(Error::dimension(format!(
+                        "{name} takes an angle (rad or deg) or a plain number, got {}",
+                        a.describe()
+                    ))));
+                }
+                Ok(f(a.value()))
+            });
+    }
     def!(api, &DIMENSION_OF, |v: Dynamic| -> ScriptResult<String> {
         Ok(q(&v, "value")?.dimension().to_string())
     });
@@ -565,6 +797,12 @@ fn display_nested(v: &Dynamic) -> String {
     }
     if let Some(c) = v.read_lock::<crate::rules::CheckResult>() {
         return super::api_rules::check_line(&c);
+    }
+    if let Some(b) = v.read_lock::<crate::rules::RuleBook>() {
+        return super::api_rules::rule_book_text(&b);
+    }
+    if let Some(d) = v.read_lock::<super::api_flyback::ScriptFlyback>() {
+        return d.summary().to_text().trim_end().to_string();
     }
     if let Ok(x) = v.as_float() {
         return crate::units::format_number(x);

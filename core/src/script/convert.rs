@@ -154,6 +154,16 @@ pub fn flatten(name: &str, d: &Dynamic, out: &mut Vec<Field>) {
         }
         return;
     }
+    if let Some(fb) = d.read_lock::<super::api_flyback::ScriptFlyback>() {
+        // a design flattens as its summary (the fields `flyback_summary` gives)
+        for f in fb.summary().fields() {
+            out.push(Field {
+                name: join(&f.name),
+                value: f.value.clone(),
+            });
+        }
+        return;
+    }
     if let Some(r) = d.read_lock::<super::record::ScriptRecord>() {
         for f in r.fields() {
             out.push(Field {

@@ -68,6 +68,15 @@ pub(crate) struct HostState {
     printed: Mutex<Vec<String>>,
     print: RwLock<Option<PrintFn>>,
     progress: RwLock<Option<ProgressFn>>,
+    /// Constants of the scope a run starts with (earlier prompt lines, `eval --set`), which
+    /// functions and closures see like the recipe's own top-level constants.
+    session_constants: RwLock<std::collections::HashMap<String, Dynamic>>,
+    /// Report texts made by gapwise functions and the failed checks each shows.
+    verdict_texts: Mutex<std::collections::HashMap<u64, usize>>,
+    /// Parameters the running recipe declared with `param`, in order.
+    params: Mutex<Vec<super::recipe::RecipeParam>>,
+    /// Values `--set` gives declared parameters.
+    overrides: RwLock<std::collections::HashMap<String, Dynamic>>,
 }
 
 impl HostState {
@@ -83,7 +92,48 @@ impl HostState {
             printed: Mutex::new(Vec::new()),
             print: RwLock::new(None),
             progress: RwLock::new(None),
+            session_constants: RwLock::new(std::collections::HashMap::new()),
+            verdict_texts: Mutex::new(std::collections::HashMap::new()),
+            params: Mutex::new(Vec::new()),
+            overrides: RwLock::new(std::collections::HashMap::new()),
         }
+    }
+    /// A constant of the scope the run started with.
+    pub(crate) fn session_constant(&self, name: &str) -> Option<Dynamic> {
+        self.session_constants
+            .read()
+            .ok()
+            .and_then(|m| m.get(name).cloned())
+    }
+    /// True when the run was stopped (Ctrl-C) or ran out of time: families stop too.
+    pub(crate) fn should_stop(&self) -> Option<String> {
+        if self.interrupt.load(Ordering::Relaxed) {
+            Some("script interrupted".to_string())
+        } else if self.over_time() {
+            Some(format!(
+                "script stopped: time budget of {} s exceeded (raise it with --time-budget)",
+                self.budget.as_secs_f64()
+            ))
+        } else {
+            None
+        }
+    }
+    pub(crate) fn declare_param(&self, p: super::recipe::RecipeParam) -> Result<(), String> {
+        let mut params = self.params.lock().map_err(|_| "parameter list poisoned")?;
+        if params.iter().any(|q| q.name == p.name) {
+            return Err(format!(
+                "param `{}` is declared twice; declare each parameter once",
+                p.name
+            ));
+        }
+        params.push(p);
+        Ok(())
+    }
+    pub(crate) fn param_override(&self, name: &str) -> Option<Dynamic> {
+        self.overrides
+            .read()
+            .ok()
+            .and_then(|m| m.get(name).cloned())
     }
     fn start_clock(&self) {
         self.interrupt.store(false, Ordering::Relaxed);
@@ -100,19 +150,42 @@ impl HostState {
         let d = self.deadline_nanos.load(Ordering::Relaxed);
         d != 0 && self.epoch.elapsed().as_nanos() > u128::from(d)
     }
+    /// Hands a table to the runner. Its failed verdicts (cells reading `fail`: a check's
+    /// status, a worst status) count toward `--strict`: what reaches an output counts, and
+    /// only that.
     pub(crate) fn push_output(&self, name: String, table: Table) {
+        self.note_failed_checks(failed_verdicts(&table));
         if let Ok(mut o) = self.outputs.lock() {
             o.retain(|(n, _)| *n != name);
             o.push((name, table));
         }
     }
+    /// Hands a text to the runner; a report made by a gapwise function brings the failed
+    /// checks it shows toward `--strict` (see [`HostState::verdict_text`]).
     pub(crate) fn push_text(&self, text: OutputText) {
+        let failed = self
+            .verdict_texts
+            .lock()
+            .ok()
+            .and_then(|m| m.get(&text_key(&text.text)).copied())
+            .unwrap_or(0);
+        self.note_failed_checks(failed);
         if let Ok(mut o) = self.texts.lock() {
             o.retain(|t| !(t.name == text.name && t.extension == text.extension));
             o.push(text);
         }
     }
-    pub(crate) fn note_failed_checks(&self, n: usize) {
+    /// Remembers that a report text shows `failed` failed checks, so that handing it to
+    /// `output_text` counts them; returns the text.
+    pub(crate) fn verdict_text(&self, text: String, failed: usize) -> String {
+        if failed > 0 {
+            if let Ok(mut m) = self.verdict_texts.lock() {
+                m.insert(text_key(&text), failed);
+            }
+        }
+        text
+    }
+    fn note_failed_checks(&self, n: usize) {
         self.failed_checks.fetch_add(n, Ordering::Relaxed);
     }
     pub(crate) fn progress(&self) -> Option<ProgressFn> {
@@ -129,6 +202,28 @@ impl HostState {
             }
         }
     }
+}
+
+fn text_key(text: &str) -> u64 {
+    use std::hash::{Hash, Hasher};
+    let mut h = std::collections::hash_map::DefaultHasher::new();
+    text.hash(&mut h);
+    h.finish()
+}
+
+/// Cells of a table that read `fail` (a failed check's status or a worst status).
+fn failed_verdicts(table: &Table) -> usize {
+    let names = table.column_names().to_vec();
+    (0..table.len())
+        .map(|i| {
+            names
+                .iter()
+                .filter(|n| {
+                    matches!(table.get(i, n), Some(crate::report::Value::Text(t)) if t == "fail")
+                })
+                .count()
+        })
+        .sum()
 }
 
 /// A text output a script handed to the runner (a report, an SVG plot).
@@ -160,6 +255,11 @@ pub struct ScriptError {
 }
 
 impl ScriptError {
+    /// An error at a position of a source.
+    pub(crate) fn at(message: String, pos: Position, source: &str, source_name: &str) -> Self {
+        Self::locate(message, pos, source, source_name)
+    }
+
     fn locate(message: String, pos: Position, source: &str, source_name: &str) -> Self {
         let line = pos.line();
         let column = pos.position();
@@ -289,6 +389,7 @@ pub struct ScriptHost {
     state: Arc<HostState>,
     docs: Vec<&'static FunctionDoc>,
     limits: EngineLimits,
+    protected: super::recipe::ProtectedNames,
 }
 
 impl ScriptHost {
@@ -321,22 +422,15 @@ impl ScriptHost {
         engine.set_max_variables(limits.max_variables);
         engine.set_max_functions(limits.max_functions);
         engine.set_optimization_level(rhai::OptimizationLevel::Simple);
-        let budget = limits.time_budget;
+        // whole-number division gives the real quotient: built-in operators must not bypass
+        // the registered ones
+        engine.set_fast_operators(false);
         let st = state.clone();
         engine.on_progress(move |ops| {
-            if ops % 4096 != 0 {
+            if ops % 512 != 0 {
                 return None;
             }
-            if st.interrupt.load(Ordering::Relaxed) {
-                Some(Dynamic::from("script interrupted".to_string()))
-            } else if st.over_time() {
-                Some(Dynamic::from(format!(
-                    "script stopped: time budget of {} s exceeded (raise it with --time-budget)",
-                    budget.as_secs_f64()
-                )))
-            } else {
-                None
-            }
+            st.should_stop().map(Dynamic::from)
         });
         let st = state.clone();
         engine.on_print(move |s| st.print(s));
@@ -345,11 +439,13 @@ impl ScriptHost {
         let mut docs = Vec::new();
         super::register_all(&mut engine, &mut docs, &state, &limits);
         extend(&mut engine);
+        let protected = super::recipe::ProtectedNames::from_engine(&engine);
         Self {
             engine,
             state,
             docs,
             limits,
+            protected,
         }
     }
 
@@ -415,16 +511,62 @@ impl ScriptHost {
             .map(|mut o| std::mem::take(&mut *o))
             .unwrap_or_default()
     }
-    /// Failed design-rule checks seen since the last call (for the runner's strict mode).
+    /// Failed design-rule checks in the outputs handed to the runner since the last call
+    /// (tables and reports; for the runner's strict mode). Checks that are made but never
+    /// reach an output do not count.
     pub fn take_failed_checks(&self) -> usize {
         self.state.failed_checks.swap(0, Ordering::Relaxed)
     }
 
-    /// Compiles a script; `source_name` appears in error messages.
+    /// Compiles a script; `source_name` appears in error messages. A script that redefines
+    /// a built-in function or names a variable like a unit constant is refused here.
     pub fn compile(&self, source: &str, source_name: &str) -> Result<AST, ScriptError> {
-        self.engine
+        let ast = self
+            .engine
             .compile(source)
-            .map_err(|e| ScriptError::from_parse(&e, source, source_name))
+            .map_err(|e| ScriptError::from_parse(&e, source, source_name))?;
+        self.protected.check(&ast, source, source_name)?;
+        Ok(ast)
+    }
+
+    /// The parameters a compiled recipe declares with `param(...)` at its top level, with
+    /// their defaults, found by running only those declarations (the recipe itself does not
+    /// run).
+    pub fn recipe_params(
+        &self,
+        ast: &AST,
+        source: &str,
+        source_name: &str,
+    ) -> Result<Vec<super::recipe::RecipeParam>, ScriptError> {
+        let decl = super::recipe::declarations_only(ast);
+        let saved = self.take_overrides();
+        let r = self.run(&decl, &mut Scope::new(), source, source_name);
+        self.set_overrides(saved);
+        let _ = self.take_printed();
+        r.map(drop)?;
+        Ok(self.take_params())
+    }
+
+    /// Gives declared parameters their `--set` values for the next runs.
+    pub fn set_overrides(&self, values: std::collections::HashMap<String, Dynamic>) {
+        if let Ok(mut o) = self.state.overrides.write() {
+            *o = values;
+        }
+    }
+    fn take_overrides(&self) -> std::collections::HashMap<String, Dynamic> {
+        self.state
+            .overrides
+            .write()
+            .map(|mut o| std::mem::take(&mut *o))
+            .unwrap_or_default()
+    }
+    /// Parameters declared since the last call.
+    pub fn take_params(&self) -> Vec<super::recipe::RecipeParam> {
+        self.state
+            .params
+            .lock()
+            .map(|mut p| std::mem::take(&mut *p))
+            .unwrap_or_default()
     }
 
     /// Compiles with the variables of a scope known (constants may be folded).
@@ -434,9 +576,12 @@ impl ScriptHost {
         source: &str,
         source_name: &str,
     ) -> Result<AST, ScriptError> {
-        self.engine
+        let ast = self
+            .engine
             .compile_with_scope(scope, source)
-            .map_err(|e| ScriptError::from_parse(&e, source, source_name))
+            .map_err(|e| ScriptError::from_parse(&e, source, source_name))?;
+        self.protected.check(&ast, source, source_name)?;
+        Ok(ast)
     }
 
     /// Runs a compiled script in a scope under the time budget and returns its last value.
@@ -448,6 +593,17 @@ impl ScriptHost {
         source: &str,
         source_name: &str,
     ) -> Result<Dynamic, ScriptError> {
+        if let Ok(mut c) = self.state.session_constants.write() {
+            c.clear();
+            for (name, constant, value) in scope.iter_raw() {
+                if constant {
+                    c.insert(name.to_string(), value.clone());
+                }
+            }
+        }
+        if let Ok(mut p) = self.state.params.lock() {
+            p.clear();
+        }
         self.state.start_clock();
         let r = self.engine.eval_ast_with_scope::<Dynamic>(scope, ast);
         self.state.stop_clock();
@@ -464,11 +620,44 @@ impl ScriptHost {
     /// When a gapwise function was called with arguments of the wrong number or types, says
     /// what it takes instead of the engine's bare "function not found".
     fn with_signature(&self, mut e: ScriptError) -> ScriptError {
+        if let Some(rest) = e.message.strip_prefix("Variable not found: ") {
+            let name = rest.split([' ', '(']).next().unwrap_or(rest).to_string();
+            let names: Vec<&str> = self
+                .protected
+                .constants
+                .iter()
+                .copied()
+                .filter(|c| c.chars().count() >= 3)
+                .collect();
+            let hint = super::suggest::did_you_mean(&name, &names);
+            let inside = e.message.contains(" (in `");
+            e.message = format!(
+                "no variable `{name}`{hint}{}",
+                if inside {
+                    " (a function sees its arguments, the recipe's top-level `const`s and `param`s, not the recipe's `let` variables)"
+                } else {
+                    ""
+                }
+            );
+            return e;
+        }
         let Some(rest) = e.message.strip_prefix("Function not found: ") else {
             return e;
         };
         let (name, given) = rest.split_once(' ').unwrap_or((rest, "()"));
         let Some(doc) = self.doc(name) else {
+            if !self.protected.functions.contains(name) {
+                let names: Vec<&str> = self
+                    .protected
+                    .functions
+                    .iter()
+                    .map(String::as_str)
+                    .collect();
+                let hint = super::suggest::did_you_mean(name, &names);
+                if !hint.is_empty() {
+                    e.message = format!("no function `{name}`{hint} (see `:functions`)");
+                }
+            }
             return e;
         };
         let params: Vec<String> = doc

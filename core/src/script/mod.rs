@@ -17,12 +17,14 @@ mod api_units;
 pub mod convert;
 pub mod docs;
 mod host;
+mod recipe;
 mod record;
 pub mod spec;
 pub mod suggest;
 
 pub use docs::{Domain, FunctionDoc, ParamDefault, ParamDoc, ParamKind};
 pub use host::{EngineLimits, OutputText, PrintFn, ProgressFn, ScriptError, ScriptHost};
+pub use recipe::{value_kind, RecipeParam};
 pub use record::ScriptRecord;
 pub use spec::Spec;
 
@@ -95,11 +97,12 @@ pub(crate) fn register_all(
     limits: &EngineLimits,
 ) {
     let mut api = Api { engine, docs };
-    api_units::register(&mut api);
+    api_units::register(&mut api, state);
     api_family::register(&mut api, state, limits);
-    api_rules::register(&mut api, state);
+    recipe::register(&mut api, state);
+    api_rules::register(&mut api);
     api_passives::register(&mut api);
-    api_magnetics::register(&mut api, state);
+    api_magnetics::register(&mut api);
     api_safety::register(&mut api, state);
     api_emi::register(&mut api, state);
     api_mains::register(&mut api);

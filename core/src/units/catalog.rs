@@ -168,7 +168,9 @@ pub const NAMED_UNITS: &[NamedUnit] = &[
     unit("h", D::TIME, 3600.0, false),
     unit("%", D::NONE, 0.01, false),
     unit("ppm", D::NONE, 1e-6, false),
-    unit("rad", D::NONE, 1.0, false),
+    unit("rad", D::ANGLE, 1.0, false),
+    unit("deg", D::ANGLE, std::f64::consts::PI / 180.0, false),
+    unit("°", D::ANGLE, std::f64::consts::PI / 180.0, false),
 ];
 
 /// How a dimension is written: candidate (symbol, scale) pairs, largest first. The formatter
@@ -255,6 +257,8 @@ pub const DISPLAY_UNITS: &[DisplayUnit] = &[
         &[("m⁴", 1.0, 1.0), ("cm⁴", 1e-8, 1e-8), ("mm⁴", 1e-12, 1e-12)],
     ),
     fixed(D::CURRENT_DENSITY, &[("A/mm²", 1e6, 1e6)]),
+    fixed(D::ANGLE, &[("rad", 1.0, 0.0)]),
+    prefixed(D::ANGULAR_FREQUENCY, "rad/s"),
     fixed(
         D::POWER_PER_AREA,
         &[("W/cm²", 1e4, 1e4), ("mW/cm²", 10.0, 10.0)],
@@ -311,6 +315,8 @@ pub const SCRIPT_CONSTANTS: &[(&str, &str)] = &[
     ("mJ", "mJ"),
     ("uJ", "uJ"),
     ("nJ", "nJ"),
+    ("rad", "rad"),
+    ("deg", "deg"),
     ("C", "C"),
     ("mC", "mC"),
     ("uC", "uC"),

@@ -4,14 +4,17 @@ use serde::{Deserialize, Serialize};
 use std::fmt;
 
 /// Names of the base dimensions, in the order of [`Dimension::exponents`].
-pub const BASE_SYMBOLS: [&str; 7] = ["m", "kg", "s", "A", "K", "mol", "cd"];
+pub const BASE_SYMBOLS: [&str; 8] = ["m", "kg", "s", "A", "K", "mol", "cd", "rad"];
 
 /// The dimension of a quantity: exponents of length, mass, time, electric current,
-/// thermodynamic temperature, amount of substance and luminous intensity (SI order).
+/// thermodynamic temperature, amount of substance and luminous intensity (SI order), and of
+/// plane angle. SI counts the radian as dimensionless; gapwise keeps it as a dimension of its
+/// own so that an angular frequency (rad/s) is never read as a frequency (Hz): ω = 2π·f is
+/// written `angular_frequency(f)`, and `quantity("1 rad/s")` is not 1 Hz.
 #[derive(Clone, Copy, PartialEq, Eq, Hash, Debug, Default, Serialize, Deserialize)]
 pub struct Dimension {
-    /// Exponents of m, kg, s, A, K, mol, cd.
-    pub exponents: [i8; 7],
+    /// Exponents of m, kg, s, A, K, mol, cd, rad.
+    pub exponents: [i8; 8],
 }
 
 macro_rules! dims {
@@ -23,78 +26,82 @@ macro_rules! dims {
 impl Dimension {
     dims! {
         /// Dimensionless (a plain number).
-        NONE = [0, 0, 0, 0, 0, 0, 0];
+        NONE = [0, 0, 0, 0, 0, 0, 0, 0];
         /// Length (m).
-        LENGTH = [1, 0, 0, 0, 0, 0, 0];
+        LENGTH = [1, 0, 0, 0, 0, 0, 0, 0];
         /// Area (m²).
-        AREA = [2, 0, 0, 0, 0, 0, 0];
+        AREA = [2, 0, 0, 0, 0, 0, 0, 0];
         /// Volume (m³).
-        VOLUME = [3, 0, 0, 0, 0, 0, 0];
+        VOLUME = [3, 0, 0, 0, 0, 0, 0, 0];
         /// Area product, window area times core area (m⁴).
-        AREA_PRODUCT = [4, 0, 0, 0, 0, 0, 0];
+        AREA_PRODUCT = [4, 0, 0, 0, 0, 0, 0, 0];
         /// Mass (kg).
-        MASS = [0, 1, 0, 0, 0, 0, 0];
+        MASS = [0, 1, 0, 0, 0, 0, 0, 0];
         /// Time (s).
-        TIME = [0, 0, 1, 0, 0, 0, 0];
+        TIME = [0, 0, 1, 0, 0, 0, 0, 0];
         /// Frequency (Hz).
-        FREQUENCY = [0, 0, -1, 0, 0, 0, 0];
+        FREQUENCY = [0, 0, -1, 0, 0, 0, 0, 0];
         /// Electric current (A).
-        CURRENT = [0, 0, 0, 1, 0, 0, 0];
+        CURRENT = [0, 0, 0, 1, 0, 0, 0, 0];
         /// Temperature (K).
-        TEMPERATURE = [0, 0, 0, 0, 1, 0, 0];
+        TEMPERATURE = [0, 0, 0, 0, 1, 0, 0, 0];
         /// Electric potential (V).
-        VOLTAGE = [2, 1, -3, -1, 0, 0, 0];
+        VOLTAGE = [2, 1, -3, -1, 0, 0, 0, 0];
         /// Power (W).
-        POWER = [2, 1, -3, 0, 0, 0, 0];
+        POWER = [2, 1, -3, 0, 0, 0, 0, 0];
         /// Energy (J).
-        ENERGY = [2, 1, -2, 0, 0, 0, 0];
+        ENERGY = [2, 1, -2, 0, 0, 0, 0, 0];
         /// Electric charge (C).
-        CHARGE = [0, 0, 1, 1, 0, 0, 0];
+        CHARGE = [0, 0, 1, 1, 0, 0, 0, 0];
         /// Resistance (Ω).
-        RESISTANCE = [2, 1, -3, -2, 0, 0, 0];
+        RESISTANCE = [2, 1, -3, -2, 0, 0, 0, 0];
         /// Conductance (S).
-        CONDUCTANCE = [-2, -1, 3, 2, 0, 0, 0];
+        CONDUCTANCE = [-2, -1, 3, 2, 0, 0, 0, 0];
         /// Capacitance (F).
-        CAPACITANCE = [-2, -1, 4, 2, 0, 0, 0];
+        CAPACITANCE = [-2, -1, 4, 2, 0, 0, 0, 0];
         /// Inductance (H).
-        INDUCTANCE = [2, 1, -2, -2, 0, 0, 0];
+        INDUCTANCE = [2, 1, -2, -2, 0, 0, 0, 0];
         /// Magnetic flux (Wb).
-        FLUX = [2, 1, -2, -1, 0, 0, 0];
+        FLUX = [2, 1, -2, -1, 0, 0, 0, 0];
         /// Magnetic flux density (T).
-        FLUX_DENSITY = [0, 1, -2, -1, 0, 0, 0];
+        FLUX_DENSITY = [0, 1, -2, -1, 0, 0, 0, 0];
         /// Magnetic field strength (A/m).
-        FIELD_STRENGTH = [-1, 0, 0, 1, 0, 0, 0];
+        FIELD_STRENGTH = [-1, 0, 0, 1, 0, 0, 0, 0];
         /// Permeability (H/m).
-        PERMEABILITY = [1, 1, -2, -2, 0, 0, 0];
+        PERMEABILITY = [1, 1, -2, -2, 0, 0, 0, 0];
         /// Resistivity (Ω·m).
-        RESISTIVITY = [3, 1, -3, -2, 0, 0, 0];
+        RESISTIVITY = [3, 1, -3, -2, 0, 0, 0, 0];
         /// Current density (A/m²).
-        CURRENT_DENSITY = [-2, 0, 0, 1, 0, 0, 0];
+        CURRENT_DENSITY = [-2, 0, 0, 1, 0, 0, 0, 0];
         /// Power density by volume (W/m³).
-        POWER_DENSITY = [-1, 1, -3, 0, 0, 0, 0];
+        POWER_DENSITY = [-1, 1, -3, 0, 0, 0, 0, 0];
         /// Power density by area (W/m²).
-        POWER_PER_AREA = [0, 1, -3, 0, 0, 0, 0];
+        POWER_PER_AREA = [0, 1, -3, 0, 0, 0, 0, 0];
         /// Thermal resistance (K/W).
-        THERMAL_RESISTANCE = [-2, -1, 3, 0, 1, 0, 0];
+        THERMAL_RESISTANCE = [-2, -1, 3, 0, 1, 0, 0, 0];
         /// Slew rate (V/s).
-        SLEW_RATE = [2, 1, -4, -1, 0, 0, 0];
+        SLEW_RATE = [2, 1, -4, -1, 0, 0, 0, 0];
         /// Current slew rate (A/s).
-        CURRENT_SLEW_RATE = [0, 0, -1, 1, 0, 0, 0];
+        CURRENT_SLEW_RATE = [0, 0, -1, 1, 0, 0, 0, 0];
         /// Force (N).
-        FORCE = [1, 1, -2, 0, 0, 0, 0];
+        FORCE = [1, 1, -2, 0, 0, 0, 0, 0];
         /// Pressure (Pa).
-        PRESSURE = [-1, 1, -2, 0, 0, 0, 0];
+        PRESSURE = [-1, 1, -2, 0, 0, 0, 0, 0];
         /// Velocity (m/s).
-        VELOCITY = [1, 0, -1, 0, 0, 0, 0];
+        VELOCITY = [1, 0, -1, 0, 0, 0, 0, 0];
         /// Amount of substance (mol).
-        AMOUNT = [0, 0, 0, 0, 0, 1, 0];
+        AMOUNT = [0, 0, 0, 0, 0, 1, 0, 0];
         /// Luminous intensity (cd).
-        LUMINOUS_INTENSITY = [0, 0, 0, 0, 0, 0, 1];
+        LUMINOUS_INTENSITY = [0, 0, 0, 0, 0, 0, 1, 0];
+        /// Plane angle (rad).
+        ANGLE = [0, 0, 0, 0, 0, 0, 0, 1];
+        /// Angular frequency (rad/s).
+        ANGULAR_FREQUENCY = [0, 0, -1, 0, 0, 0, 0, 1];
     }
 
     /// True for a plain number.
     pub fn is_dimensionless(self) -> bool {
-        self.exponents == [0; 7]
+        self.exponents == [0; 8]
     }
 
     /// The dimension raised to an integer power.
@@ -193,6 +200,8 @@ const NAMES: &[(Dimension, &str)] = &[
     (Dimension::VELOCITY, "velocity"),
     (Dimension::AMOUNT, "amount of substance"),
     (Dimension::LUMINOUS_INTENSITY, "luminous intensity"),
+    (Dimension::ANGLE, "angle"),
+    (Dimension::ANGULAR_FREQUENCY, "angular frequency"),
 ];
 
 /// Writes an integer exponent in superscript digits (`-3` → `⁻³`).

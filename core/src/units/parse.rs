@@ -265,6 +265,18 @@ pub fn parse_quantity(text: &str, expected: Option<Dimension>) -> Result<Quantit
             _ => Ok(Quantity::number(value)),
         };
     }
+    // `25 C` is 25 coulombs to the parser, and almost always meant as 25 °C: refuse it with
+    // a hint unless a charge is what the caller expects
+    if rest == "C" && expected != Some(Dimension::CHARGE) {
+        return Err(Error::parse(format!(
+            "'{t}' reads as {} coulombs (C is the unit of charge); for a temperature write '{} °C' or '{} degC', for a difference '{} K'; for a charge where it is not expected write '{} A*s'",
+            super::format::format_number(value),
+            super::format::format_number(value),
+            super::format::format_number(value),
+            super::format::format_number(value),
+            super::format::format_number(value)
+        )));
+    }
     let parsed = parse_unit(rest);
     let unit = match (parsed, expected) {
         (Ok(u), Some(d)) if u.dimension == d => u,
@@ -305,7 +317,9 @@ pub fn parse_quantity(text: &str, expected: Option<Dimension>) -> Result<Quantit
         }
     };
     if unit.celsius {
-        return Ok(Quantity::celsius(value));
+        return Quantity::celsius_checked(value).map_err(|_| {
+            Error::out_of_range(format!("'{t}' is below absolute zero (−273.15 °C)"))
+        });
     }
     let si = value * unit.scale;
     if !si.is_finite() {

@@ -9,6 +9,12 @@ use std::fmt;
 /// Offset between the Kelvin and Celsius scales, exactly (SI brochure, 9th ed.).
 pub const CELSIUS_OFFSET: f64 = 273.15;
 
+/// Relative tolerance of `==` between quantities in scripts: two values are equal when
+/// |a − b| ≤ 1e-9 · max(|a|, |b|). One part in a billion is far below any tolerance of a
+/// component or a measurement, and far above the rounding of a few unit conversions
+/// (`22 µF` and `22000 nF` differ in the last bit). `exactly_equal` compares exactly.
+pub const COMPARISON_TOLERANCE: f64 = 1e-9;
+
 /// A value in coherent SI units together with its dimension.
 ///
 /// This is the type scripts compute with; native code uses `uom` quantities and converts
@@ -46,6 +52,17 @@ impl Quantity {
     /// An absolute temperature from degrees Celsius: T = t + 273.15 K.
     pub fn celsius(degrees: f64) -> Self {
         Self::kelvin_absolute(degrees + CELSIUS_OFFSET)
+    }
+    /// An absolute temperature from degrees Celsius, refusing values below absolute zero
+    /// (−273.15 °C) and non-finite input.
+    pub fn celsius_checked(degrees: f64) -> Result<Self> {
+        if !degrees.is_finite() || degrees < -CELSIUS_OFFSET {
+            return Err(Error::out_of_range(format!(
+                "`degrees` must be a finite temperature at or above absolute zero (−273.15 °C), got {} °C",
+                super::format::format_number(degrees)
+            )));
+        }
+        Ok(Self::celsius(degrees))
     }
     /// The value in coherent SI units (kelvin for temperatures).
     pub const fn value(&self) -> f64 {
@@ -184,6 +201,62 @@ impl Quantity {
         })
     }
 
+    /// Equality within [`COMPARISON_TOLERANCE`] (relative); the dimensions must agree.
+    /// Formula: |a − b| ≤ 1e-9 · max(|a|, |b|); NaN is never equal.
+    pub fn approx_eq(&self, other: &Quantity) -> Result<bool> {
+        self.compare_tolerant(other).map(Ordering::is_eq)
+    }
+
+    /// Ordering that treats values within [`COMPARISON_TOLERANCE`] as equal, so that `<=`
+    /// and `>=` agree with `==`; the dimensions must agree.
+    pub fn compare_tolerant(&self, other: &Quantity) -> Result<Ordering> {
+        let exact = self.compare(other)?;
+        let scale = self.value.abs().max(other.value.abs());
+        if (self.value - other.value).abs() <= COMPARISON_TOLERANCE * scale {
+            Ok(Ordering::Equal)
+        } else {
+            Ok(exact)
+        }
+    }
+
+    /// Exact equality of value, dimension and temperature kind (bit for bit on the value).
+    pub fn exactly_equal(&self, other: &Quantity) -> bool {
+        self.value == other.value
+            && self.dimension == other.dimension
+            && self.absolute_temperature == other.absolute_temperature
+    }
+
+    /// Product for scripts: an absolute temperature cannot be scaled or multiplied (its zero
+    /// is at −273.15 °C; `celsius(25) * 2` is meaningless), so that is an error.
+    pub fn checked_mul(&self, other: &Quantity) -> Result<Quantity> {
+        self.refuse_absolute_in("multiply", other)?;
+        Ok(self.mul(other))
+    }
+
+    /// Quotient for scripts: an absolute temperature cannot be divided (see
+    /// [`Quantity::checked_mul`]); division by zero is an error.
+    pub fn checked_div(&self, other: &Quantity) -> Result<Quantity> {
+        self.refuse_absolute_in("divide", other)?;
+        if other.value == 0.0 {
+            return Err(Error::invalid(format!(
+                "division by zero: {self} / {other}"
+            )));
+        }
+        Ok(self.div(other))
+    }
+
+    fn refuse_absolute_in(&self, verb: &str, other: &Quantity) -> Result<()> {
+        for t in [self, other] {
+            if t.absolute_temperature {
+                return Err(Error::dimension(format!(
+                    "cannot {verb} the absolute temperature {t}: scale a temperature difference \
+                     instead (e.g. `(celsius(100) - celsius(25)) * 2`, or write `40 * K` for a rise)"
+                )));
+            }
+        }
+        Ok(())
+    }
+
     /// The smaller of two quantities of the same dimension.
     pub fn min(&self, other: &Quantity) -> Result<Quantity> {
         Ok(match self.compare(other)? {
@@ -243,6 +316,23 @@ impl Quantity {
                 super::format::unit_symbol(Q::dimension()),
                 self.describe()
             )));
+        }
+        if self.dimension == Dimension::TEMPERATURE
+            && Q::is_absolute_temperature() != self.absolute_temperature
+        {
+            return Err(Error::dimension(if Q::is_absolute_temperature() {
+                format!(
+                    "`{parameter}` must be an absolute temperature (°C), got the temperature difference {self}; write `celsius({})` or \"{} °C\" for a temperature on the Celsius scale",
+                    super::format::format_number(self.value),
+                    super::format::format_number(self.value)
+                )
+            } else {
+                format!(
+                    "`{parameter}` must be a temperature difference (K), got the absolute temperature {self}; write `{} * K` for a rise of {} K",
+                    super::format::format_number(self.value - CELSIUS_OFFSET),
+                    super::format::format_number(self.value - CELSIUS_OFFSET)
+                )
+            }));
         }
         Ok(Q::from_si(self.value))
     }

@@ -34,6 +34,8 @@ where
                 D::Th::to_i32() as i8,
                 D::N::to_i32() as i8,
                 D::J::to_i32() as i8,
+                // uom keeps angles dimensionless with a kind of their own
+                i8::from(TypeId::of::<D::Kind>() == TypeId::of::<dyn uom::si::marker::AngleKind>()),
             ],
         }
     }

@@ -4,7 +4,6 @@
 use super::super::api_rules::checks_to_array;
 use super::super::convert::{dynamic_to_number, dynamic_to_typed, lift, ScriptResult};
 use super::super::docs::{Domain, FunctionDoc, ParamDoc, ParamKind};
-use super::super::host::HostState;
 use super::super::record::ScriptRecord;
 use super::super::spec::Spec;
 use super::super::{def, overload, Api};
@@ -16,7 +15,6 @@ use crate::magnetics::{
 use crate::report::{Field, Table, Value};
 use crate::units::{si, Quantity};
 use rhai::{Dynamic, ImmutableString, Map};
-use std::sync::Arc;
 
 const CORE: ParamDoc = ParamDoc::required(
     "core",
@@ -742,7 +740,7 @@ fn selection(s: &Spec) -> Result<Table> {
         stock,
     })?;
     let m4 = crate::units::Dimension {
-        exponents: [4, 0, 0, 0, 0, 0, 0],
+        exponents: [4, 0, 0, 0, 0, 0, 0, 0],
     };
     let mut t = Table::new();
     for c in list {
@@ -758,7 +756,7 @@ fn selection(s: &Spec) -> Result<Table> {
     Ok(t)
 }
 
-pub(crate) fn register(api: &mut Api, state: &Arc<HostState>) {
+pub(crate) fn register(api: &mut Api) {
     def!(api, &SHAPES, || -> ScriptResult<Table> {
         let mut t = Table::new();
         for c in lift(magnetics::core_shapes())? {
@@ -988,7 +986,6 @@ pub(crate) fn register(api: &mut Api, state: &Arc<HostState>) {
         let s = lift(Spec::new(&SELECT, &m))?;
         lift(selection(&s))
     });
-    let st = state.clone();
     def!(api, &DESIGN, move |m: Map| -> ScriptResult<Map> {
         let s = lift(Spec::new(&DESIGN, &m))?;
         let spec = lift(transformer_spec(&s))?;
@@ -1003,7 +1000,7 @@ pub(crate) fn register(api: &mut Api, state: &Arc<HostState>) {
         out.insert("build_sheet".into(), Dynamic::from(sheet));
         out.insert(
             "checks".into(),
-            Dynamic::from_array(checks_to_array(&st, checks)),
+            Dynamic::from_array(checks_to_array(checks)),
         );
         Ok(out)
     });
