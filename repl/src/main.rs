@@ -98,7 +98,11 @@ fn limits(args: &LimitArgs) -> anyhow::Result<EngineLimits> {
         l.max_operations = n;
     }
     if let Some(n) = args.max_call_depth {
-        anyhow::ensure!(n > 0, "--max-call-depth must be at least 1, got {n}");
+        anyhow::ensure!(
+            (1..=gapwise_core::script::MAX_CALL_DEPTH).contains(&n),
+            "--max-call-depth must be from 1 to {} (what the script thread's stack holds), got {n}",
+            gapwise_core::script::MAX_CALL_DEPTH
+        );
         l.max_call_levels = n;
     }
     if let Some(s) = args.time_budget {

@@ -454,6 +454,10 @@ fn command(session: &Rc<RefCell<Session>>, line: &str) -> Flow {
         ":load" if arg.is_empty() => {
             eprintln!("error: `:load` needs a file, e.g. `:load scripts/fernbank_family.rhai`")
         }
+        ":load" if !arg.ends_with(".rhai") => {
+            // a file that is not a recipe is not read: its lines would show in the error
+            eprintln!("error: `:load` takes a recipe file ending in .rhai, got `{arg}`")
+        }
         ":load" => match std::fs::read_to_string(arg) {
             Ok(source) => run_entry(session, &source, arg),
             Err(e) => eprintln!("error: cannot read {arg}: {e}"),

@@ -112,3 +112,107 @@ fn an_interrupt_stops_a_running_script() {
     // the next run starts clean
     assert!(h.eval("1 + 1", "<test>").is_ok());
 }
+
+/// A family long enough that only the interrupt or the clock can end it soon: 10,000 variants
+/// of about 20,000 operations each.
+const LONG_FAMILY: &str = "let v = []; for i in 0..10000 { v.push(i); }\n\
+     family(|n| { let x = 0; for k in 0..5000 { x += k; } #{x: x} }, v)";
+
+#[test]
+fn an_interrupt_stops_a_running_family_as_a_whole() {
+    // issue 10: Ctrl-C at the prompt did not stop a running family()
+    let h = ScriptHost::new(EngineLimits {
+        max_operations: 0,
+        time_budget: Duration::from_secs(600),
+        ..EngineLimits::default()
+    });
+    let flag = h.interrupt_flag();
+    let t = std::thread::spawn(move || {
+        std::thread::sleep(Duration::from_millis(300));
+        flag.store(true, std::sync::atomic::Ordering::Relaxed);
+    });
+    let e = h.eval(LONG_FAMILY, "<test>").unwrap_err();
+    t.join().unwrap();
+    assert!(e.message.contains("interrupted"), "{}", e.message);
+    assert!(h.eval("1 + 1", "<test>").is_ok());
+}
+
+#[test]
+fn the_time_budget_ends_a_family_as_a_whole() {
+    // issue 16: every variant started its budget from zero, so a 1 s budget ran 15 s; now the
+    // family ends with the budget error instead of filling error rows
+    let h = ScriptHost::new(EngineLimits {
+        max_operations: 0,
+        time_budget: Duration::from_millis(300),
+        ..EngineLimits::default()
+    });
+    let e = h.eval(LONG_FAMILY, "<test>").unwrap_err();
+    assert!(e.message.contains("time budget"), "{}", e.message);
+}
+
+#[test]
+fn recursion_through_family_meets_the_call_depth_limit() {
+    // issue 16: family escaped the call-depth limit (each variant started at depth zero)
+    let e = small_host()
+        .eval("fn r(v) { family(|x| r(x), [v]) } r(1)", "<test>")
+        .unwrap_err();
+    assert!(e.message.contains("nested deeper than"), "{}", e.message);
+}
+
+#[test]
+fn deeply_nested_values_compare_and_print_without_aborting() {
+    // issue 16: `a == a` and printing a 5,000-deep array aborted the process (SIGABRT)
+    let h = small_host();
+    let v = h
+        .eval(
+            "let a = []; for i in 0..5000 { a = [a]; } let same = a == a; let text = `${a}`; [same, text.len()]",
+            "<test>",
+        )
+        .unwrap_or_else(|e| panic!("{e}"));
+    assert_eq!(h.display(&v), "[true, 10002]");
+}
+
+#[test]
+fn sleep_is_bounded_by_the_budget_and_refuses_nonsense() {
+    // issue 16: sleep() ignored the budget and sleep(1e300) panicked
+    let h = ScriptHost::new(EngineLimits {
+        time_budget: Duration::from_millis(200),
+        ..EngineLimits::default()
+    });
+    let e = h.eval("sleep(1e300)", "<test>").unwrap_err();
+    assert!(e.message.contains("time budget"), "{}", e.message);
+    let e = h.eval("sleep(-1.0)", "<test>").unwrap_err();
+    assert!(e.message.contains("`seconds`"), "{}", e.message);
+    assert!(h.eval("sleep(0.01)", "<test>").is_ok());
+}
+
+#[test]
+fn call_depth_is_capped_at_what_the_script_stack_holds() {
+    // issue 16: --max-call-depth 100000 let a recursion overflow the stack and abort
+    let h = ScriptHost::new(EngineLimits {
+        max_call_levels: 1_000_000,
+        ..EngineLimits::default()
+    });
+    let e = h.eval("fn f(n) { f(n + 1) } f(0)", "<test>").unwrap_err();
+    assert!(
+        e.message.contains(&format!(
+            "nested deeper than {}",
+            gapwise::script::MAX_CALL_DEPTH
+        )),
+        "{}",
+        e.message
+    );
+}
+
+#[test]
+fn errors_show_a_window_of_a_long_line() {
+    // issue 16: errors repeated inputs of 100 kB in full
+    let src = format!("quantity(\"{}\")", "x".repeat(100_000));
+    let e = small_host().eval(&src, "<test>").unwrap_err();
+    let shown = e.to_string();
+    assert!(shown.len() < 2000, "{} bytes shown", shown.len());
+    assert!(
+        shown.contains("characters left out") || shown.contains('…'),
+        "{shown}"
+    );
+}

@@ -170,6 +170,20 @@ fn result_row(out: &Dynamic) -> Result<Vec<Field>, String> {
     Ok(fields)
 }
 
+/// True for errors that end a family rather than one variant: the call-depth limit, and a
+/// nested family that stopped as a whole (interrupt, time budget).
+fn stops_the_family(e: &rhai::EvalAltResult) -> bool {
+    use rhai::EvalAltResult as E;
+    let mut cur = e;
+    loop {
+        match cur {
+            E::ErrorInFunctionCall(_, _, inner, _) | E::ErrorInModule(_, inner, _) => cur = inner,
+            E::ErrorStackOverflow(_) | E::ErrorTerminated(..) => return true,
+            _ => return false,
+        }
+    }
+}
+
 /// Why a family stopped as a whole (Ctrl-C, the time budget): not one variant's error row.
 struct Stopped(String);
 
@@ -191,32 +205,42 @@ fn run_family(
     let total = variants.len();
     let done = AtomicUsize::new(0);
     let progress = state.progress();
-    let results: Vec<Result<Result<Dynamic, String>, Stopped>> = variants
-        .par_iter()
-        .map(|v| {
-            if let Some(why) = state.should_stop() {
-                return Err(Stopped(why));
-            }
-            let vctx = NativeCallContext::new_with_all_fields(engine, fn_name, source, global, pos);
-            let r = f.call_raw(&vctx, None, [v.clone()]);
-            if let Some(p) = &progress {
-                p(done.fetch_add(1, Ordering::Relaxed) + 1, total);
-            }
-            match r {
-                Ok(x) => Ok(Ok(x)),
-                Err(e) => {
-                    if let Some(why) = state.should_stop() {
-                        return Err(Stopped(why));
-                    }
-                    if matches!(*e, rhai::EvalAltResult::ErrorStackOverflow(_)) {
-                        // the same in every variant: the family as a whole is too deep
-                        return Err(Stopped(ScriptError::from_eval(&e, "", "", limits).message));
-                    }
-                    Ok(Err(ScriptError::from_eval(&e, "", "", limits).message))
+    let run_all = || -> Vec<Result<Result<Dynamic, String>, Stopped>> {
+        variants
+            .par_iter()
+            .map(|v| {
+                if let Some(why) = state.should_stop() {
+                    return Err(Stopped(why));
                 }
-            }
-        })
-        .collect();
+                let vctx =
+                    NativeCallContext::new_with_all_fields(engine, fn_name, source, global, pos);
+                let r = f.call_raw(&vctx, None, [v.clone()]);
+                if let Some(p) = &progress {
+                    p(done.fetch_add(1, Ordering::Relaxed) + 1, total);
+                }
+                match r {
+                    Ok(x) => Ok(Ok(x)),
+                    Err(e) => {
+                        if let Some(why) = state.should_stop() {
+                            return Err(Stopped(why));
+                        }
+                        if stops_the_family(&e) {
+                            // too deep, or stopped inside a nested family: the same in every
+                            // variant, so the family as a whole stops
+                            return Err(Stopped(
+                                ScriptError::from_eval(&e, "", "", limits).message,
+                            ));
+                        }
+                        Ok(Err(ScriptError::from_eval(&e, "", "", limits).message))
+                    }
+                }
+            })
+            .collect()
+    };
+    let results = match state.family_pool() {
+        Some(pool) => pool.install(run_all),
+        None => run_all(),
+    };
     let mut table = Table::new();
     for (v, r) in variants.iter().zip(results) {
         let mut fields = variant_fields(v);

@@ -12,9 +12,10 @@ use std::time::{Duration, Instant};
 /// builds, tests and users see the same behaviour; the command line can raise them.
 #[derive(Clone, Debug, PartialEq)]
 pub struct EngineLimits {
-    /// Operations one evaluation may perform (each family variant counts on its own).
+    /// Operations one evaluation may perform (a family variant counts from its caller's count).
     pub max_operations: u64,
-    /// Depth of nested function calls.
+    /// Depth of nested function calls (family variants count from their caller's depth);
+    /// at most [`MAX_CALL_DEPTH`].
     pub max_call_levels: usize,
     /// Depth of nested expressions at the top level.
     pub max_expr_depth: usize,
@@ -71,6 +72,8 @@ pub(crate) struct HostState {
     /// Constants of the scope a run starts with (earlier prompt lines, `eval --set`), which
     /// functions and closures see like the recipe's own top-level constants.
     session_constants: RwLock<std::collections::HashMap<String, Dynamic>>,
+    /// Workers for family variants (see [`HostState::family_pool`]).
+    pool: std::sync::OnceLock<Option<rayon::ThreadPool>>,
     /// Report texts made by gapwise functions and the failed checks each shows.
     verdict_texts: Mutex<std::collections::HashMap<u64, usize>>,
     /// Parameters the running recipe declared with `param`, in order.
@@ -93,6 +96,7 @@ impl HostState {
             print: RwLock::new(None),
             progress: RwLock::new(None),
             session_constants: RwLock::new(std::collections::HashMap::new()),
+            pool: std::sync::OnceLock::new(),
             verdict_texts: Mutex::new(std::collections::HashMap::new()),
             params: Mutex::new(Vec::new()),
             overrides: RwLock::new(std::collections::HashMap::new()),
@@ -188,6 +192,19 @@ impl HostState {
     fn note_failed_checks(&self, n: usize) {
         self.failed_checks.fetch_add(n, Ordering::Relaxed);
     }
+    /// The thread pool family variants run on: one worker per core, each with a stack of
+    /// [`SCRIPT_STACK_BYTES`] (built on first use; the global pool if that fails).
+    pub(crate) fn family_pool(&self) -> Option<&rayon::ThreadPool> {
+        self.pool
+            .get_or_init(|| {
+                rayon::ThreadPoolBuilder::new()
+                    .thread_name(|i| format!("gapwise-family-{i}"))
+                    .stack_size(SCRIPT_STACK_BYTES)
+                    .build()
+                    .ok()
+            })
+            .as_ref()
+    }
     pub(crate) fn progress(&self) -> Option<ProgressFn> {
         self.progress.read().ok().and_then(|p| p.clone())
     }
@@ -201,6 +218,43 @@ impl HostState {
                 }
             }
         }
+    }
+}
+
+/// Stack of the thread every script is parsed and run on, and of each family worker. Deep
+/// nesting (calls, expressions, values) ends with a clear error long before it fills this; the
+/// memory is reserved, not used, until a script goes deep.
+pub const SCRIPT_STACK_BYTES: usize = 256 << 20;
+
+/// The deepest call nesting the limits may allow: what [`SCRIPT_STACK_BYTES`] holds with a wide
+/// margin in a debug build (measured here: 20,000 levels of a one-line recursive function run,
+/// 60,000 overflow). A larger `max_call_levels` is lowered to this.
+pub const MAX_CALL_DEPTH: usize = 5000;
+
+/// Runs `f` on a thread with a stack of [`SCRIPT_STACK_BYTES`], so that no script can overflow
+/// the caller's (smaller, unknown) stack and abort the process. Falls back to the current
+/// thread if no thread can be started.
+pub(crate) fn on_script_stack<R: Send>(f: impl FnOnce() -> R + Send) -> R {
+    let job = Mutex::new(Some(f));
+    let take = || job.lock().ok().and_then(|mut j| j.take());
+    let spawned = std::thread::scope(|scope| {
+        let handle = std::thread::Builder::new()
+            .name("gapwise-script".into())
+            .stack_size(SCRIPT_STACK_BYTES)
+            .spawn_scoped(scope, || take().map(|f| f()))
+            .ok()?;
+        match handle.join() {
+            Ok(r) => r,
+            Err(panic) => std::panic::resume_unwind(panic),
+        }
+    });
+    match spawned {
+        Some(r) => r,
+        // no thread could be started: run here, on the caller's stack
+        None => match take() {
+            Some(f) => f(),
+            None => unreachable!("the job runs once"),
+        },
     }
 }
 
@@ -262,11 +316,16 @@ impl ScriptError {
 
     fn locate(message: String, pos: Position, source: &str, source_name: &str) -> Self {
         let line = pos.line();
-        let column = pos.position();
-        let source_line =
+        let mut column = pos.position();
+        let mut source_line =
             line.and_then(|l| source.lines().nth(l.saturating_sub(1)).map(str::to_string));
+        if let Some(text) = &source_line {
+            let (shown, col) = elide_line(text, column.unwrap_or(1));
+            source_line = Some(shown);
+            column = column.map(|_| col);
+        }
         Self {
-            message,
+            message: elide_message(&message),
             source_name: source_name.to_string(),
             line,
             column,
@@ -342,6 +401,48 @@ impl ScriptError {
     }
 }
 
+/// Longest source line an error shows whole; a longer one shows a window around the column.
+const SHOWN_LINE_CHARS: usize = 120;
+/// Longest message shown whole; a longer one (a huge input repeated) is cut in the middle.
+const SHOWN_MESSAGE_CHARS: usize = 600;
+
+/// A window of a long source line around the error's column, with `…` where it was cut, and
+/// the column within the window.
+fn elide_line(line: &str, column: usize) -> (String, usize) {
+    let chars: Vec<char> = line.chars().collect();
+    if chars.len() <= SHOWN_LINE_CHARS {
+        return (line.to_string(), column);
+    }
+    let col = column.saturating_sub(1).min(chars.len());
+    let start = col.saturating_sub(SHOWN_LINE_CHARS / 2);
+    let end = (start + SHOWN_LINE_CHARS).min(chars.len());
+    let mut shown = String::new();
+    let mut new_col = col - start + 1;
+    if start > 0 {
+        shown.push('…');
+        new_col += 1;
+    }
+    shown.extend(&chars[start..end]);
+    if end < chars.len() {
+        shown.push('…');
+    }
+    (shown, new_col)
+}
+
+/// A message of at most about [`SHOWN_MESSAGE_CHARS`] characters, cut in the middle.
+fn elide_message(message: &str) -> String {
+    let n = message.chars().count();
+    if n <= SHOWN_MESSAGE_CHARS {
+        return message.to_string();
+    }
+    let head: String = message.chars().take(SHOWN_MESSAGE_CHARS / 2).collect();
+    let tail: String = message.chars().skip(n - SHOWN_MESSAGE_CHARS / 2).collect();
+    format!(
+        "{head} … ({} characters left out) … {tail}",
+        n - SHOWN_MESSAGE_CHARS
+    )
+}
+
 fn is_incomplete(e: &ParseError, source: &str) -> bool {
     match e.err_type() {
         ParseErrorType::UnexpectedEOF => true,
@@ -403,7 +504,8 @@ impl ScriptHost {
     /// Builds the engine like [`ScriptHost::new`], then lets the embedding program register
     /// its own functions and types (a company's house calculations) before the engine is
     /// frozen. Functions added here have no help entry unless the program documents them.
-    pub fn with_extensions(limits: EngineLimits, extend: impl FnOnce(&mut Engine)) -> Self {
+    pub fn with_extensions(mut limits: EngineLimits, extend: impl FnOnce(&mut Engine)) -> Self {
+        limits.max_call_levels = limits.max_call_levels.min(MAX_CALL_DEPTH);
         let state = Arc::new(HostState::new(limits.time_budget));
         let mut engine = Engine::new_raw();
         {
@@ -521,9 +623,7 @@ impl ScriptHost {
     /// Compiles a script; `source_name` appears in error messages. A script that redefines
     /// a built-in function or names a variable like a unit constant is refused here.
     pub fn compile(&self, source: &str, source_name: &str) -> Result<AST, ScriptError> {
-        let ast = self
-            .engine
-            .compile(source)
+        let ast = on_script_stack(|| self.engine.compile(source))
             .map_err(|e| ScriptError::from_parse(&e, source, source_name))?;
         self.protected.check(&ast, source, source_name)?;
         Ok(ast)
@@ -576,9 +676,7 @@ impl ScriptHost {
         source: &str,
         source_name: &str,
     ) -> Result<AST, ScriptError> {
-        let ast = self
-            .engine
-            .compile_with_scope(scope, source)
+        let ast = on_script_stack(|| self.engine.compile_with_scope(scope, source))
             .map_err(|e| ScriptError::from_parse(&e, source, source_name))?;
         self.protected.check(&ast, source, source_name)?;
         Ok(ast)
@@ -605,7 +703,7 @@ impl ScriptHost {
             p.clear();
         }
         self.state.start_clock();
-        let r = self.engine.eval_ast_with_scope::<Dynamic>(scope, ast);
+        let r = on_script_stack(|| self.engine.eval_ast_with_scope::<Dynamic>(scope, ast));
         self.state.stop_clock();
         r.map_err(|e| {
             self.with_signature(ScriptError::from_eval(
@@ -711,12 +809,13 @@ impl ScriptHost {
         &self,
         ast: &AST,
         name: &str,
-        args: impl rhai::FuncArgs,
+        args: impl rhai::FuncArgs + Send,
     ) -> Result<Dynamic, ScriptError> {
         self.state.start_clock();
-        let r = self
-            .engine
-            .call_fn::<Dynamic>(&mut Scope::new(), ast, name, args);
+        let r = on_script_stack(|| {
+            self.engine
+                .call_fn::<Dynamic>(&mut Scope::new(), ast, name, args)
+        });
         self.state.stop_clock();
         r.map_err(|e| self.with_signature(ScriptError::from_eval(&e, "", name, &self.limits)))
     }

@@ -23,7 +23,10 @@ pub mod spec;
 pub mod suggest;
 
 pub use docs::{Domain, FunctionDoc, ParamDefault, ParamDoc, ParamKind};
-pub use host::{EngineLimits, OutputText, PrintFn, ProgressFn, ScriptError, ScriptHost};
+pub use host::{
+    EngineLimits, OutputText, PrintFn, ProgressFn, ScriptError, ScriptHost, MAX_CALL_DEPTH,
+    SCRIPT_STACK_BYTES,
+};
 pub use recipe::{value_kind, RecipeParam};
 pub use record::ScriptRecord;
 pub use spec::Spec;
@@ -100,6 +103,7 @@ pub(crate) fn register_all(
     api_units::register(&mut api, state);
     api_family::register(&mut api, state, limits);
     recipe::register(&mut api, state);
+    recipe::register_sleep(&mut api, state);
     api_rules::register(&mut api);
     api_passives::register(&mut api);
     api_magnetics::register(&mut api);

@@ -377,3 +377,54 @@ pub(crate) fn register(api: &mut super::Api, state: &std::sync::Arc<super::host:
         Ok(st.param_override(&name).unwrap_or(default))
     });
 }
+
+static SLEEP: super::docs::FunctionDoc = super::docs::FunctionDoc {
+    name: "sleep",
+    domain: super::docs::Domain::Families,
+    summary: "Pauses the script for a number of seconds, within the run's time budget (Ctrl-C and the budget end it).",
+    params: &[super::docs::ParamDoc::required(
+        "seconds",
+        super::docs::ParamKind::Number,
+        "finite, not negative",
+    )],
+    keys: &[],
+    returns: "nothing",
+    example: "sleep(0.01)",
+};
+
+/// Registers a `sleep` that the time budget and the interrupt bound (the standard library's
+/// ignores both and panics on 1e300).
+pub(crate) fn register_sleep(api: &mut super::Api, state: &std::sync::Arc<super::host::HostState>) {
+    use super::convert::script_error;
+    use crate::error::Error;
+    let sleep = {
+        let st = state.clone();
+        move |seconds: f64| -> super::convert::ScriptResult<()> {
+            if !seconds.is_finite() || seconds < 0.0 {
+                return Err(script_error(Error::invalid(format!(
+                    "`seconds` of sleep must be a finite number, not negative, got {seconds}"
+                ))));
+            }
+            let end = std::time::Instant::now()
+                .checked_add(std::time::Duration::from_secs_f64(seconds.min(1.0e9)));
+            loop {
+                if let Some(why) = st.should_stop() {
+                    return Err(Box::new(rhai::EvalAltResult::ErrorTerminated(
+                        Dynamic::from(why),
+                        Position::NONE,
+                    )));
+                }
+                let now = std::time::Instant::now();
+                let left = match end {
+                    Some(e) if e > now => e - now,
+                    Some(_) => return Ok(()),
+                    None => std::time::Duration::from_millis(10),
+                };
+                std::thread::sleep(left.min(std::time::Duration::from_millis(10)));
+            }
+        }
+    };
+    let s2 = sleep.clone();
+    super::def!(api, &SLEEP, move |seconds: rhai::FLOAT| sleep(seconds));
+    super::overload!(api, "sleep", move |seconds: rhai::INT| s2(seconds as f64));
+}
