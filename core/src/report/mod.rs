@@ -4,8 +4,8 @@
 mod table;
 mod value;
 
-pub use table::{Column, Table};
-pub use value::{Field, Record, Value};
+pub use table::{Column, ColumnKind, Table, WriteOptions};
+pub use value::{serialize_record, Field, Record, Value};
 
 /// The caution every design report carries.
 pub const SAFETY_CAUTION: &str =

@@ -114,7 +114,7 @@ static ROW: FunctionDoc = FunctionDoc {
 static TO_CSV: FunctionDoc = FunctionDoc {
     name: "to_csv",
     domain: Domain::Families,
-    summary: "A table as CSV text, units in the column headers.",
+    summary: "A table as CSV text, each column in its dimension's fixed unit (in the header), numbers to 4 significant digits.",
     params: &[ParamDoc::required("table", ParamKind::Any, "the Table")],
     keys: &[],
     returns: "text",
@@ -123,7 +123,7 @@ static TO_CSV: FunctionDoc = FunctionDoc {
 static TO_JSON: FunctionDoc = FunctionDoc {
     name: "to_json",
     domain: Domain::Families,
-    summary: "A table as JSON text: columns with units, rows of numbers in those units.",
+    summary: "A table as JSON text (layout gapwise-table version 1): columns with units, rows in column order.",
     params: &[ParamDoc::required("table", ParamKind::Any, "the Table")],
     keys: &[],
     returns: "text",
@@ -349,11 +349,12 @@ pub(crate) fn register(api: &mut Api, state: &Arc<HostState>, limits: &EngineLim
         }
         Ok(m)
     });
-    def!(api, &TO_CSV, |t: &mut Table| t.to_csv());
-    def!(api, &TO_JSON, |t: &mut Table| serde_json::to_string_pretty(
-        &t.to_json()
-    )
-    .unwrap_or_default());
+    def!(api, &TO_CSV, |t: &mut Table| -> ScriptResult<String> {
+        lift(t.to_csv(&crate::report::WriteOptions::default()))
+    });
+    def!(api, &TO_JSON, |t: &mut Table| -> ScriptResult<String> {
+        lift(t.to_json(&crate::report::WriteOptions::default()))
+    });
 }
 
 #[cfg(test)]
