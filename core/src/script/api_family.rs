@@ -130,16 +130,19 @@ static TO_JSON: FunctionDoc = FunctionDoc {
     example: "table([#{a: 1 * V}]).to_json()",
 };
 
-fn variant_fields(v: &Dynamic) -> Vec<Field> {
+fn variant_fields(v: &Dynamic) -> (Vec<Field>, Vec<String>) {
     let mut f = Vec::new();
-    flatten("variant", v, &mut f);
+    let mut problems = flatten("variant", v, &mut f);
     // maps flatten as variant.key; show the keys themselves
     for x in &mut f {
         if let Some(rest) = x.name.strip_prefix("variant.") {
             x.name = rest.to_string();
         }
     }
-    f
+    for p in &mut problems {
+        *p = p.replacen("field `variant.", "variant field `", 1);
+    }
+    (f, problems)
 }
 
 fn lib_ast(ctx: &NativeCallContext) -> AST {
@@ -176,11 +179,17 @@ fn run_family(
         .collect();
     let mut table = Table::new();
     for (v, r) in variants.iter().zip(results) {
-        let mut fields = variant_fields(v);
+        let (mut fields, mut problems) = variant_fields(v);
         match r {
             Ok(out) => {
-                flatten("", &out, &mut fields);
-                table.push_row(fields);
+                let mut result = Vec::new();
+                problems.extend(flatten("", &out, &mut result));
+                if problems.is_empty() {
+                    fields.extend(result);
+                    table.push_row(fields);
+                } else {
+                    table.push_error_row(fields, problems.join("; "));
+                }
             }
             Err(message) => table.push_error_row(fields, message),
         }
@@ -257,22 +266,27 @@ pub(crate) fn register(api: &mut Api, state: &Arc<HostState>, limits: &EngineLim
     def!(api, &GRID, move |axes: Map| -> ScriptResult<Array> {
         lift(grid(&axes, max_rows))
     });
-    def!(api, &TABLE, |rows: Array| -> Table {
+    def!(api, &TABLE, |rows: Array| -> ScriptResult<Table> {
         let mut t = Table::new();
-        for r in &rows {
+        for (i, r) in rows.iter().enumerate() {
             let mut f = Vec::new();
-            flatten("", r, &mut f);
+            let problems = flatten("", r, &mut f);
+            if !problems.is_empty() {
+                return Err(script_error(Error::invalid(format!(
+                    "table row {i}: {}",
+                    problems.join("; ")
+                ))));
+            }
             t.push_row(f);
         }
-        t
+        Ok(t)
     });
     let st = state.clone();
     def!(api, &OUTPUT_TABLE, move |name: ImmutableString,
                                    t: Table|
           -> ScriptResult<()> {
         lift(valid_output_name(&name))?;
-        st.push_output(name.to_string(), t);
-        Ok(())
+        lift(st.push_output(name.to_string(), t))
     });
     let st = state.clone();
     def!(api, &OUTPUT_TEXT, move |name: ImmutableString,

@@ -100,11 +100,24 @@ impl HostState {
         let d = self.deadline_nanos.load(Ordering::Relaxed);
         d != 0 && self.epoch.elapsed().as_nanos() > u128::from(d)
     }
-    pub(crate) fn push_output(&self, name: String, table: Table) {
-        if let Ok(mut o) = self.outputs.lock() {
-            o.retain(|(n, _)| *n != name);
-            o.push((name, table));
+    /// Keeps a table for the runner; a second table under the same name is an error (it
+    /// would replace the first without a word), and so is a table CSV/JSON cannot write
+    /// (a column that mixes dimensions), so the recipe fails where the table is handed over.
+    pub(crate) fn push_output(&self, name: String, table: Table) -> crate::error::Result<()> {
+        table
+            .columns(&crate::report::WriteOptions::default())
+            .map_err(|e| e.context(&format!("output_table `{name}`")))?;
+        let mut o = self
+            .outputs
+            .lock()
+            .map_err(|_| crate::error::Error::invalid("the output list is unavailable"))?;
+        if o.iter().any(|(n, _)| *n == name) {
+            return Err(crate::error::Error::invalid(format!(
+                "output_table: a table named `{name}` was already handed over; give each output table its own name"
+            )));
         }
+        o.push((name, table));
+        Ok(())
     }
     pub(crate) fn push_text(&self, text: OutputText) {
         if let Ok(mut o) = self.texts.lock() {
