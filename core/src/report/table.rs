@@ -849,4 +849,51 @@ mod tests {
             .unwrap();
         assert_eq!(b, "\u{FEFF}a\n1\n");
     }
+
+    proptest::proptest! {
+        /// A column's header depends on its dimension only, never on the values in it
+        /// (issue 10: `[µH]` in one run, `[mH]` in the next).
+        #[test]
+        fn csv_headers_do_not_depend_on_the_values(
+            dim in 0usize..8,
+            a in proptest::collection::vec(-1e6f64..1e6, 1..6),
+            b in proptest::collection::vec(-1e6f64..1e6, 1..6),
+            exponent_a in -12i32..4,
+            exponent_b in -12i32..4,
+        ) {
+            let dims = [
+                Dimension::INDUCTANCE, Dimension::CAPACITANCE, Dimension::FREQUENCY,
+                Dimension::LENGTH, Dimension::VOLTAGE, Dimension::TIME,
+                Dimension::FLUX_DENSITY, Dimension::VOLTAGE / Dimension::LENGTH,
+            ];
+            let header = |values: &[f64], e: i32| {
+                let mut t = Table::new();
+                for v in values {
+                    t.push_row(vec![Field::new("x", Quantity::new(v * 10f64.powi(e), dims[dim]))]);
+                }
+                csv(&t).lines().next().unwrap().to_string()
+            };
+            proptest::prop_assert_eq!(header(&a, exponent_a), header(&b, exponent_b));
+        }
+    }
+
+    #[test]
+    fn design_records_serialise_with_units_in_review_order() {
+        struct Demo;
+        impl super::super::Record for Demo {
+            fn fields(&self) -> Vec<Field> {
+                vec![
+                    Field::new("output_voltage", Quantity::new(12.0, Dimension::VOLTAGE)),
+                    Field::new("turns", 7i64),
+                    Field::new("mode", "dcm"),
+                ]
+            }
+        }
+        crate::serialize_as_record!(Demo);
+        let j = serde_json::to_string(&Demo).unwrap();
+        assert_eq!(
+            j,
+            r#"{"output_voltage":{"value":12.0,"unit":"V","dimension":"voltage"},"turns":7,"mode":"dcm"}"#
+        );
+    }
 }
