@@ -216,13 +216,13 @@ fn a_failing_variant_becomes_an_error_row_in_the_csv() {
     let csv = std::fs::read_to_string(out.join("members.csv")).unwrap();
     let lines: Vec<&str> = csv.lines().collect();
     assert_eq!(
-        lines[0],
-        "output_current [A],output_voltage [V],power [W],error"
+        lines[0], "output_voltage [V],output_current [A],power [W],error",
+        "the recipe's order"
     );
     assert_eq!(lines.len(), 4, "{csv}");
-    assert!(lines[1].starts_with("2,5,10,"), "{csv}");
+    assert!(lines[1].starts_with("5,2,10,"), "{csv}");
     assert!(lines[2].contains("too high"), "{csv}");
-    assert!(lines[3].starts_with("1.25,12,15,"), "{csv}");
+    assert!(lines[3].starts_with("12,1.25,15,"), "{csv}");
     std::fs::remove_dir_all(&d).unwrap();
 }
 
@@ -648,19 +648,20 @@ fn csv_and_json_go_to_stdout_with_format_and_no_out_issue_10() {
     let r = gapwise(&["run", path.to_str().unwrap(), "--format", "csv"]);
     assert_eq!(r.code, 0, "{}", r.stderr);
     let (header, rows) = read_csv(&r.stdout);
+    // the recipe's order, one unit per dimension whatever the values: 9.6 µH and 1.5 mH
+    // share µH
     assert_eq!(
         header,
         [
-            "ambient [°C]",
             "inductance [µH]",
-            "margin [dB]",
             "rise [K]",
+            "ambient [°C]",
+            "margin [dB]",
             "turns"
         ]
     );
-    // one unit per dimension whatever the values: 9.6 µH and 1.5 mH share µH
-    assert_eq!(rows[0], ["40", "9.6", "6.021", "30", "12"]);
-    assert_eq!(rows[1], ["55", "1500", "3.01", "45", "7"]);
+    assert_eq!(rows[0], ["9.6", "30", "40", "6.021", "12"]);
+    assert_eq!(rows[1], ["1500", "45", "55", "3.01", "7"]);
     let r = gapwise(&["run", path.to_str().unwrap(), "--format", "json"]);
     assert_eq!(r.code, 0, "{}", r.stderr);
     let doc: serde_json::Value = serde_json::from_str(&r.stdout).expect("one JSON document");
@@ -668,14 +669,15 @@ fn csv_and_json_go_to_stdout_with_format_and_no_out_issue_10() {
     assert_eq!(doc["provenance"]["format"], "gapwise-provenance");
     let t = &doc["tables"][0]["table"];
     assert_eq!(doc["tables"][0]["name"], "units");
-    assert_eq!(t["columns"][1]["unit"], "µH");
-    assert_eq!(t["columns"][1]["si_factor"], 1e-6);
+    assert_eq!(t["columns"][0]["unit"], "µH");
+    assert_eq!(t["columns"][0]["si_factor"], 1e-6);
+    assert_eq!(t["columns"][2]["si_offset"], 273.15);
     assert!(
         t["rows"][0][4].is_i64(),
         "integers stay integers: {}",
         t["rows"][0]
     );
-    assert_eq!(t["rows"][1][1].as_f64(), Some(1500.0));
+    assert_eq!(t["rows"][1][0].as_f64(), Some(1500.0));
     std::fs::remove_dir_all(&d).unwrap();
 }
 
@@ -702,11 +704,11 @@ fn si_exact_and_bom_flags_issue_10() {
     );
     let text = String::from_utf8(bytes).unwrap();
     let (header, rows) = read_csv(text.trim_start_matches('\u{FEFF}'));
-    assert_eq!(header[0], "ambient [K]");
-    assert_eq!(header[1], "inductance [H]");
+    assert_eq!(header[0], "inductance [H]");
+    assert_eq!(header[2], "ambient [K]");
     // exact: the number reads back as the computed f64
-    assert_eq!(rows[0][1].parse::<f64>().unwrap(), 9.6 * 1e-6);
-    assert_eq!(rows[0][0].parse::<f64>().unwrap(), 40.0 + 273.15);
+    assert_eq!(rows[0][0].parse::<f64>().unwrap(), 9.6 * 1e-6);
+    assert_eq!(rows[0][2].parse::<f64>().unwrap(), 40.0 + 273.15);
     std::fs::remove_dir_all(&d).unwrap();
 }
 

@@ -4,6 +4,7 @@
 use super::convert::{flatten, lift, script_error, ScriptResult};
 use super::docs::{Domain, FunctionDoc, ParamDoc, ParamKind};
 use super::host::{EngineLimits, HostState, ScriptError};
+use super::key_order::KeyOrders;
 use super::{def, Api};
 use crate::error::Error;
 use crate::report::{Field, Table};
@@ -27,7 +28,7 @@ static FAMILY: FunctionDoc = FunctionDoc {
 static GRID: FunctionDoc = FunctionDoc {
     name: "grid",
     domain: Domain::Families,
-    summary: "Every combination of the given axes, as an array of maps (first key varies slowest).",
+    summary: "Every combination of the given axes, as an array of maps (the first key as written varies slowest).",
     params: &[ParamDoc::required(
         "axes",
         ParamKind::Map,
@@ -130,9 +131,9 @@ static TO_JSON: FunctionDoc = FunctionDoc {
     example: "table([#{a: 1 * V}]).to_json()",
 };
 
-fn variant_fields(v: &Dynamic) -> (Vec<Field>, Vec<String>) {
+fn variant_fields(v: &Dynamic, orders: &KeyOrders) -> (Vec<Field>, Vec<String>) {
     let mut f = Vec::new();
-    let mut problems = flatten("variant", v, &mut f);
+    let mut problems = flatten("variant", v, &mut f, orders);
     // maps flatten as variant.key; show the keys themselves
     for x in &mut f {
         if let Some(rest) = x.name.strip_prefix("variant.") {
@@ -178,12 +179,13 @@ fn run_family(
         })
         .collect();
     let mut table = Table::new();
+    let orders = state.key_orders();
     for (v, r) in variants.iter().zip(results) {
-        let (mut fields, mut problems) = variant_fields(v);
+        let (mut fields, mut problems) = variant_fields(v, &orders);
         match r {
             Ok(out) => {
                 let mut result = Vec::new();
-                problems.extend(flatten("", &out, &mut result));
+                problems.extend(flatten("", &out, &mut result, &orders));
                 if problems.is_empty() {
                     fields.extend(result);
                     table.push_row(fields);
@@ -197,9 +199,12 @@ fn run_family(
     table
 }
 
-fn grid(axes: &Map, max_rows: usize) -> crate::error::Result<Array> {
+fn grid(axes: &Map, max_rows: usize, orders: &KeyOrders) -> crate::error::Result<Array> {
     let mut rows: Vec<Map> = vec![Map::new()];
-    for (name, values) in axes.iter() {
+    for name in orders.keys_of(axes) {
+        let Some(values) = axes.get(name) else {
+            continue;
+        };
         let list: Array = match values.read_lock::<Array>() {
             Some(a) => a.clone(),
             None => vec![values.clone()],
@@ -216,7 +221,7 @@ fn grid(axes: &Map, max_rows: usize) -> crate::error::Result<Array> {
         for r in &rows {
             for v in &list {
                 let mut m = r.clone();
-                m.insert(name.clone(), v.clone());
+                m.insert(name.into(), v.clone());
                 next.push(m);
             }
         }
@@ -263,14 +268,17 @@ pub(crate) fn register(api: &mut Api, state: &Arc<HostState>, limits: &EngineLim
         run_family(&ctx, &st, &lim, &f, &variants)
     });
     let max_rows = limits.max_array_size;
+    let st = state.clone();
     def!(api, &GRID, move |axes: Map| -> ScriptResult<Array> {
-        lift(grid(&axes, max_rows))
+        lift(grid(&axes, max_rows, &st.key_orders()))
     });
-    def!(api, &TABLE, |rows: Array| -> ScriptResult<Table> {
+    let st = state.clone();
+    def!(api, &TABLE, move |rows: Array| -> ScriptResult<Table> {
         let mut t = Table::new();
+        let orders = st.key_orders();
         for (i, r) in rows.iter().enumerate() {
             let mut f = Vec::new();
-            let problems = flatten("", r, &mut f);
+            let problems = flatten("", r, &mut f, &orders);
             if !problems.is_empty() {
                 return Err(script_error(Error::invalid(format!(
                     "table row {i}: {}",
@@ -390,9 +398,10 @@ mod tests {
                 Dynamic::from_int(5),
             ]),
         );
-        let g = grid(&axes, 100).unwrap();
+        let orders = KeyOrders::default();
+        let g = grid(&axes, 100, &orders).unwrap();
         assert_eq!(g.len(), 6);
-        assert!(grid(&axes, 5).is_err());
+        assert!(grid(&axes, 5, &orders).is_err());
         assert!(valid_output_name("../x").is_err());
         assert!(valid_output_name("family_12v").is_ok());
     }

@@ -143,14 +143,27 @@ pub fn dynamic_to_value(d: &Dynamic) -> Option<Value> {
 /// A value a table cannot hold (an array, a range, a function, a design object) is not
 /// dropped: it is reported in the returned list, one message per field, and the caller
 /// turns the list into an error (`table`) or an error row (`family`).
+/// Map keys come in the order the recipe's literal wrote them (see
+/// [`super::key_order::KeyOrders`]), sorted when no literal matches.
 #[must_use]
-pub fn flatten(name: &str, d: &Dynamic, out: &mut Vec<Field>) -> Vec<String> {
+pub fn flatten(
+    name: &str,
+    d: &Dynamic,
+    out: &mut Vec<Field>,
+    orders: &super::key_order::KeyOrders,
+) -> Vec<String> {
     let mut problems = Vec::new();
-    flatten_into(name, d, out, &mut problems);
+    flatten_into(name, d, out, &mut problems, orders);
     problems
 }
 
-fn flatten_into(name: &str, d: &Dynamic, out: &mut Vec<Field>, problems: &mut Vec<String>) {
+fn flatten_into(
+    name: &str,
+    d: &Dynamic,
+    out: &mut Vec<Field>,
+    problems: &mut Vec<String>,
+    orders: &super::key_order::KeyOrders,
+) {
     let join = |k: &str| {
         if name.is_empty() {
             k.to_string()
@@ -159,8 +172,10 @@ fn flatten_into(name: &str, d: &Dynamic, out: &mut Vec<Field>, problems: &mut Ve
         }
     };
     if let Some(m) = d.read_lock::<Map>() {
-        for (k, v) in m.iter() {
-            flatten_into(&join(k), v, out, problems);
+        for k in orders.keys_of(&m) {
+            if let Some(v) = m.get(k) {
+                flatten_into(&join(k), v, out, problems, orders);
+            }
         }
         return;
     }

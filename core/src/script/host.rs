@@ -63,6 +63,7 @@ pub(crate) struct HostState {
     budget: Duration,
     interrupt: Arc<AtomicBool>,
     outputs: Mutex<Vec<(String, Table)>>,
+    key_orders: RwLock<Arc<super::key_order::KeyOrders>>,
     texts: Mutex<Vec<OutputText>>,
     failed_checks: std::sync::atomic::AtomicUsize,
     printed: Mutex<Vec<String>>,
@@ -78,6 +79,7 @@ impl HostState {
             budget,
             interrupt: Arc::new(AtomicBool::new(false)),
             outputs: Mutex::new(Vec::new()),
+            key_orders: RwLock::new(Arc::default()),
             texts: Mutex::new(Vec::new()),
             failed_checks: std::sync::atomic::AtomicUsize::new(0),
             printed: Mutex::new(Vec::new()),
@@ -127,6 +129,13 @@ impl HostState {
     }
     pub(crate) fn note_failed_checks(&self, n: usize) {
         self.failed_checks.fetch_add(n, Ordering::Relaxed);
+    }
+    /// The key orders of the map literals of the scripts run so far (for table columns).
+    pub(crate) fn key_orders(&self) -> Arc<super::key_order::KeyOrders> {
+        self.key_orders
+            .read()
+            .map(|k| Arc::clone(&k))
+            .unwrap_or_default()
     }
     pub(crate) fn progress(&self) -> Option<ProgressFn> {
         self.progress.read().ok().and_then(|p| p.clone())
@@ -461,6 +470,9 @@ impl ScriptHost {
         source: &str,
         source_name: &str,
     ) -> Result<Dynamic, ScriptError> {
+        if let Ok(mut k) = self.state.key_orders.write() {
+            Arc::make_mut(&mut k).learn(source, ast, self.limits.max_expr_depth);
+        }
         self.state.start_clock();
         let r = self.engine.eval_ast_with_scope::<Dynamic>(scope, ast);
         self.state.stop_clock();

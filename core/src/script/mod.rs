@@ -17,6 +17,7 @@ mod api_units;
 pub mod convert;
 pub mod docs;
 mod host;
+pub mod key_order;
 mod record;
 pub mod spec;
 pub mod suggest;
