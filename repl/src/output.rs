@@ -269,9 +269,9 @@ fn dumb_terminal(term: Option<&str>) -> bool {
 /// not empty, as no-color.org asks).
 fn bar_template(no_color: bool) -> &'static str {
     if no_color {
-        "family [{bar:30}] {pos}/{len} variants ({percent} %), {per_sec}, {elapsed} elapsed, ETA {eta}"
+        "family [{bar:24}] {pos}/{len} ({percent} %), {rate}, ETA {time_left}"
     } else {
-        "family [{bar:30.cyan/blue}] {pos}/{len} variants ({percent} %), {per_sec}, {elapsed} elapsed, ETA {eta}"
+        "family [{bar:24.cyan/blue}] {pos}/{len} ({percent} %), {rate}, ETA {time_left}"
     }
 }
 
@@ -308,7 +308,9 @@ impl Progress {
         if now - start >= SHOW_AFTER && due {
             s.shown = true;
             s.last_draw = Some(now);
-            let bar = s.bar.get_or_insert_with(|| new_bar(count, now - start));
+            let bar = s
+                .bar
+                .get_or_insert_with(|| new_bar(count, most, now - start));
             bar.set_position(most as u64);
         }
     }
@@ -341,15 +343,47 @@ fn clear(s: &mut ProgressState) {
     s.last_draw = None;
 }
 
-fn new_bar(total: usize, elapsed: Duration) -> indicatif::ProgressBar {
+/// A bar created when it first shows, at the variants already done, so that its rate
+/// counts only what it saw.
+/// Variants per second since the family started (the mean over the whole run, steadier
+/// than a recent-window estimate when variants finish in bursts).
+fn mean_rate(state: &indicatif::ProgressState) -> f64 {
+    let secs = state.elapsed().as_secs_f64();
+    if secs > 0.0 {
+        state.pos() as f64 / secs
+    } else {
+        0.0
+    }
+}
+
+fn new_bar(total: usize, done: usize, elapsed: Duration) -> indicatif::ProgressBar {
     let style = indicatif::ProgressStyle::with_template(bar_template(no_color()))
         .unwrap_or_else(|_| indicatif::ProgressStyle::default_bar())
+        .with_key(
+            "rate",
+            |state: &indicatif::ProgressState, w: &mut dyn std::fmt::Write| {
+                let _ = write!(w, "{:.0} variants/s", mean_rate(state));
+            },
+        )
+        .with_key(
+            "time_left",
+            |state: &indicatif::ProgressState, w: &mut dyn std::fmt::Write| {
+                let rate = mean_rate(state);
+                let left = state.len().unwrap_or(0).saturating_sub(state.pos()) as f64;
+                let _ = if rate > 0.0 {
+                    write!(w, "{:.0} s", (left / rate).ceil())
+                } else {
+                    write!(w, "?")
+                };
+            },
+        )
         .progress_chars("#>-");
     indicatif::ProgressBar::with_draw_target(
         Some(total as u64),
         indicatif::ProgressDrawTarget::stderr(),
     )
     .with_style(style)
+    .with_position(done as u64)
     .with_elapsed(elapsed)
 }
 
@@ -438,7 +472,9 @@ mod tests {
     fn the_bar_honours_no_color_and_dumb_terminals() {
         assert!(!bar_template(true).contains(".cyan"));
         assert!(bar_template(false).contains(".cyan"));
-        assert!(bar_template(true).contains("{eta}") && bar_template(true).contains("{per_sec}"));
+        assert!(
+            bar_template(true).contains("{time_left}") && bar_template(true).contains("{rate}")
+        );
         assert!(dumb_terminal(Some("dumb")));
         assert!(!dumb_terminal(Some("xterm-256color")));
         assert!(!dumb_terminal(None));
