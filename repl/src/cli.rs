@@ -36,6 +36,7 @@ qualified person decide; verify by measurement and hipot test."
     after_help = AFTER_HELP,
     disable_help_subcommand = true
 )]
+// `--version` also names the data-table editions: see `command()`
 pub struct Cli {
     /// What to do; without one, the prompt opens.
     #[command(subcommand)]
@@ -54,10 +55,16 @@ pub enum Command {
     /// Evaluate one expression and print the result with units.
     #[command(after_help = exit_codes!())]
     Eval(EvalArgs),
-    /// Show the help of one script function.
+    /// Show the help of a subcommand (`gapwise help run`) or of one script function.
     Help {
-        /// The function (or unit constant) name.
-        name: String,
+        /// A subcommand name (run, eval, help, functions, reference, completions), or a
+        /// script function or unit constant; subcommand names are looked up first.
+        name: Option<String>,
+    },
+    /// Print a shell completion script: `gapwise completions bash > /etc/bash_completion.d/gapwise`.
+    Completions {
+        /// The shell: bash, zsh or fish (also elvish, powershell).
+        shell: clap_complete::Shell,
     },
     /// List every script function, grouped by domain.
     Functions,
@@ -87,13 +94,16 @@ pub struct RunArgs {
     /// dimension is a usage error. Repeatable.
     #[arg(long = "set", value_name = "NAME=VALUE")]
     pub set: Vec<String>,
-    /// Folder for the output tables (NAME.csv or NAME.json) and texts (NAME.md, NAME.svg, …);
-    /// created if missing. Without it, tables print on stdout.
+    /// Folder for the output tables (NAME.csv or NAME.json), texts (NAME.md, NAME.svg, …)
+    /// and provenance.json; created if missing. Without it, tables print on stdout.
     #[arg(long, value_name = "DIR")]
     pub out: Option<PathBuf>,
-    /// How output tables are written: csv or json files into --out, or an aligned table on stdout.
-    #[arg(long, value_enum, default_value_t = Format::Csv)]
-    pub format: Format,
+    /// How output tables are written: csv or json (files into --out, else on stdout), or
+    /// an aligned table on stdout. Default: csv files with --out, an aligned table without.
+    #[arg(long, value_enum)]
+    pub format: Option<Format>,
+    #[command(flatten)]
+    pub write: WriteArgs,
     /// Exit with code 3 when any design-rule check failed.
     #[arg(long)]
     pub strict: bool,
@@ -109,6 +119,33 @@ pub struct EvalArgs {
     /// (`output_voltage="12 V"`), else true/false, else a number, else text. Repeatable.
     #[arg(long = "set", value_name = "NAME=VALUE")]
     pub set: Vec<String>,
+}
+
+/// How numbers and units are written in CSV and JSON.
+#[derive(Debug, Args)]
+pub struct WriteArgs {
+    /// Write every quantity column in coherent SI (V, A, H, F, Hz, m, K, …) instead of the
+    /// preferred unit of its dimension (µH, µF, kHz, mm, °C; see the README).
+    #[arg(long)]
+    pub si: bool,
+    /// Write numbers exactly (the shortest text that reads back as the same number) instead
+    /// of rounded to 4 significant digits; with --si, the computed values bit for bit.
+    #[arg(long)]
+    pub exact: bool,
+    /// Start CSV files with a UTF-8 byte-order mark (for spreadsheets that need one).
+    #[arg(long)]
+    pub bom: bool,
+}
+
+impl WriteArgs {
+    /// The table writer's options.
+    pub fn options(&self) -> gapwise_core::report::WriteOptions {
+        gapwise_core::report::WriteOptions {
+            si: self.si,
+            exact: self.exact,
+            bom: self.bom,
+        }
+    }
 }
 
 /// Limits for the engine; the defaults suit untrusted recipes.
@@ -136,11 +173,36 @@ pub enum Format {
     Table,
 }
 
+/// `--version` text: the version, then the editions of the standards whose tables gapwise
+/// carries as data.
+pub fn long_version() -> String {
+    let mut s = format!("{}\ndata tables:", env!("CARGO_PKG_VERSION"));
+    for e in gapwise_core::report::DATA_TABLE_EDITIONS {
+        s.push_str("\n  ");
+        s.push_str(e);
+    }
+    s
+}
+
+/// The command-line definition, with the long version text; help, completions and parsing
+/// all come from it.
+pub fn command() -> clap::Command {
+    use clap::CommandFactory;
+    let version: &'static str = Box::leak(long_version().into_boxed_str());
+    Cli::command().long_version(version)
+}
+
+/// Parses the process's arguments (exits with usage help on errors, as clap does).
+pub fn parse() -> Cli {
+    use clap::FromArgMatches;
+    let matches = command().get_matches();
+    Cli::from_arg_matches(&matches).unwrap_or_else(|e| e.exit())
+}
+
 #[cfg(test)]
 mod tests {
     #[test]
     fn the_command_line_definition_is_consistent() {
-        use clap::CommandFactory;
-        super::Cli::command().debug_assert();
+        super::command().debug_assert();
     }
 }

@@ -10,8 +10,7 @@ mod output;
 mod prompt;
 mod runner;
 
-use clap::Parser;
-use cli::{Cli, Command, LimitArgs};
+use cli::{Command, LimitArgs};
 use gapwise_core::script::{EngineLimits, ScriptError};
 use std::process::ExitCode;
 use std::time::Duration;
@@ -46,14 +45,19 @@ impl From<ScriptError> for Failure {
 }
 
 fn main() -> ExitCode {
-    let cli = Cli::parse();
+    let cli = cli::parse();
     let result = limits(&cli.limits)
         .map_err(Failure::Usage)
         .and_then(|limits| match cli.command {
             None => prompt::run(limits).map_err(Failure::Usage),
             Some(Command::Run(args)) => runner::run(&args, limits),
             Some(Command::Eval(args)) => runner::eval(&args, limits),
-            Some(Command::Help { name }) => docs_cmd::help(&name, limits),
+            Some(Command::Help { name }) => help(name.as_deref(), limits),
+            Some(Command::Completions { shell }) => {
+                let mut cmd = cli::command();
+                clap_complete::generate(shell, &mut cmd, "gapwise", &mut std::io::stdout());
+                Ok(())
+            }
             Some(Command::Functions) => docs_cmd::functions(limits),
             Some(Command::Reference { write }) => docs_cmd::reference(write.as_deref(), limits),
         });
@@ -88,6 +92,26 @@ fn main() -> ExitCode {
             ExitCode::from(3)
         }
     }
+}
+
+/// `gapwise help [NAME]`: a subcommand's help when NAME is one (`help run`), else the help
+/// of a script function or unit constant; without NAME, the program's help.
+fn help(name: Option<&str>, limits: EngineLimits) -> Result<(), Failure> {
+    let mut cmd = cli::command();
+    let sub = match name {
+        None => None,
+        Some(n) => match cmd.find_subcommand_mut(n) {
+            Some(s) => Some(s.clone().bin_name(format!("gapwise {n}"))),
+            None => return docs_cmd::help(n, limits),
+        },
+    };
+    let text = match sub {
+        Some(mut s) => s.render_long_help(),
+        None => cmd.render_long_help(),
+    };
+    use std::io::Write;
+    let _ = write!(std::io::stdout().lock(), "{text}");
+    Ok(())
 }
 
 /// The engine limits: the core's defaults, raised or lowered by the limit flags.

@@ -1,10 +1,10 @@
 //! `gapwise run` and `gapwise eval`: one script, non-interactively, then its outputs.
 
 use crate::cli::{EvalArgs, Format, RunArgs};
-use crate::output::{write_files_atomically, Progress};
+use crate::output::{write_files_atomically, Progress, Provenance};
 use crate::Failure;
 use anyhow::{bail, Context};
-use gapwise_core::report::Table;
+use gapwise_core::report::{Table, WriteOptions};
 use gapwise_core::script::{EngineLimits, OutputText, RecipeParam, ScriptHost};
 use gapwise_core::units::parse_quantity;
 use rhai::{Dynamic, Scope};
@@ -116,7 +116,7 @@ pub fn params_help(recipe: &str, params: &[RecipeParam]) -> String {
 /// Script `print` goes to stdout as it happens; a progress bar on stderr (only when it is
 /// a terminal) is cleared before each printed line. Returns the bar, if any.
 pub fn attach_print_and_progress(host: &ScriptHost) -> Option<Progress> {
-    let progress = std::io::stderr().is_terminal().then(|| {
+    let progress = crate::output::progress_wanted().then(|| {
         let p = Progress::default();
         host.set_progress(Some(p.callback()));
         p
@@ -173,6 +173,7 @@ pub fn run(args: &RunArgs, limits: EngineLimits) -> Result<(), Failure> {
     }
     let outputs = host.take_outputs();
     let texts = host.take_texts();
+    let provenance = Provenance::new(&source_name, &source, &args.set);
     if let Err(e) = result {
         if args.out.is_some() && (!outputs.is_empty() || !texts.is_empty()) {
             let note = format!(
@@ -183,6 +184,8 @@ pub fn run(args: &RunArgs, limits: EngineLimits) -> Result<(), Failure> {
                 &texts,
                 args.out.as_deref(),
                 args.format,
+                &args.write.options(),
+                &provenance,
                 Some(&note),
             ) {
                 eprintln!("error: {w:#}");
@@ -190,7 +193,15 @@ pub fn run(args: &RunArgs, limits: EngineLimits) -> Result<(), Failure> {
         }
         return Err(e.into());
     }
-    write_outputs(&outputs, &texts, args.out.as_deref(), args.format, None)?;
+    write_outputs(
+        &outputs,
+        &texts,
+        args.out.as_deref(),
+        args.format,
+        &args.write.options(),
+        &provenance,
+        None,
+    )?;
     let failed = host.take_failed_checks();
     let error_rows: usize = outputs.iter().map(|(_, t)| t.error_count()).sum();
     if args.strict && (failed > 0 || error_rows > 0) {
@@ -210,28 +221,73 @@ fn print_run_help() {
     }
 }
 
-/// Writes tables and texts into `out` (whole or not at all), or prints tables on stdout.
-fn write_outputs(
+/// Writes tables and texts into `out` (whole or not at all) with a `provenance.json`
+/// beside them, or prints tables on stdout: aligned text by default, CSV or JSON with
+/// `--format`. On stdout, JSON is one document holding every table and the provenance;
+/// CSV is the bare table (tables after the first are preceded by a blank line and a
+/// `# table: NAME` line). With `incomplete`, the folder also gets `INCOMPLETE.txt` saying
+/// why; a finished run removes a marker an earlier one left.
+#[allow(clippy::too_many_arguments)]
+pub fn write_outputs(
     tables: &[(String, Table)],
     texts: &[OutputText],
     out: Option<&Path>,
-    format: Format,
+    format: Option<Format>,
+    options: &WriteOptions,
+    provenance: &Provenance,
     incomplete: Option<&str>,
 ) -> anyhow::Result<()> {
+    let table_error = |name: &str, e: gapwise_core::Error| anyhow::anyhow!("table {name}: {e}");
     let mut files: Vec<(String, Vec<u8>)> = Vec::new();
     if let Some(note) = incomplete {
         files.push((INCOMPLETE_MARKER.to_string(), note.as_bytes().to_vec()));
     }
-    let print_tables = out.is_none() || format == Format::Table;
-    for (name, table) in tables {
-        match format {
-            _ if print_tables => print_table(name, table),
-            Format::Json => {
-                let json = serde_json::to_string_pretty(&table.to_json())
-                    .with_context(|| format!("cannot write table {name} as JSON"))?;
-                files.push((format!("{name}.json"), (json + "\n").into_bytes()));
+    match (out, format) {
+        (None, None | Some(Format::Table)) | (Some(_), Some(Format::Table)) => {
+            for (name, table) in tables {
+                print_table(name, table);
             }
-            _ => files.push((format!("{name}.csv"), table.to_csv().into_bytes())),
+        }
+        (None, Some(Format::Csv)) => {
+            let mut stdout = std::io::stdout().lock();
+            for (i, (name, table)) in tables.iter().enumerate() {
+                let csv = table.to_csv(options).map_err(|e| table_error(name, e))?;
+                if i > 0 {
+                    let _ = writeln!(stdout, "\n# table: {name}");
+                }
+                let _ = stdout.write_all(csv.as_bytes());
+            }
+        }
+        (None, Some(Format::Json)) => {
+            // one document: {"format": "gapwise-tables", "version": 1, "provenance": {…},
+            // "tables": [{"name": …, "table": <gapwise-table document>}]}
+            let mut doc = String::from("{\n\"format\": \"gapwise-tables\",\n\"version\": 1,\n");
+            doc.push_str("\"provenance\": ");
+            doc.push_str(&provenance.to_json(options, &[]));
+            doc.push_str(",\n\"tables\": [");
+            for (i, (name, table)) in tables.iter().enumerate() {
+                let json = table.to_json(options).map_err(|e| table_error(name, e))?;
+                doc.push_str(if i == 0 { "\n" } else { ",\n" });
+                doc.push_str(&format!(
+                    "{{\"name\": {}, \"table\": {}}}",
+                    serde_json::to_string(name)?,
+                    json.trim_end()
+                ));
+            }
+            doc.push_str("\n]\n}\n");
+            let _ = std::io::stdout().lock().write_all(doc.as_bytes());
+        }
+        (Some(_), Some(Format::Json)) => {
+            for (name, table) in tables {
+                let json = table.to_json(options).map_err(|e| table_error(name, e))?;
+                files.push((format!("{name}.json"), json.into_bytes()));
+            }
+        }
+        (Some(_), None | Some(Format::Csv)) => {
+            for (name, table) in tables {
+                let csv = table.to_csv(options).map_err(|e| table_error(name, e))?;
+                files.push((format!("{name}.csv"), csv.into_bytes()));
+            }
         }
     }
     match out {
@@ -247,6 +303,11 @@ fn write_outputs(
                 let _ = std::fs::remove_file(dir.join(INCOMPLETE_MARKER));
             }
             if !files.is_empty() {
+                let sidecar = provenance.to_json(options, &files);
+                files.push((
+                    Provenance::FILE_NAME.to_string(),
+                    (sidecar + "\n").into_bytes(),
+                ));
                 let written = write_files_atomically(dir, &files)?;
                 // silent on success unless someone is watching
                 if std::io::stderr().is_terminal() {

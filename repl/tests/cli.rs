@@ -241,7 +241,7 @@ fn a_failing_variant_becomes_an_error_row_in_the_csv() {
     assert_eq!(r.code, 0, "{}", r.stderr);
     assert_eq!(
         file_names(&out),
-        ["members.csv"],
+        ["members.csv", "provenance.json"],
         "no temporary files remain"
     );
     assert!(
@@ -252,13 +252,13 @@ fn a_failing_variant_becomes_an_error_row_in_the_csv() {
     let csv = std::fs::read_to_string(out.join("members.csv")).unwrap();
     let lines: Vec<&str> = csv.lines().collect();
     assert_eq!(
-        lines[0],
-        "output_current [A],output_voltage [V],power [W],error"
+        lines[0], "output_voltage [V],output_current [A],power [W],error",
+        "the recipe's order"
     );
     assert_eq!(lines.len(), 4, "{csv}");
-    assert!(lines[1].starts_with("2,5,10,"), "{csv}");
+    assert!(lines[1].starts_with("5,2,10,"), "{csv}");
     assert!(lines[2].contains("too high"), "{csv}");
-    assert!(lines[3].starts_with("1.25,12,15,"), "{csv}");
+    assert!(lines[3].starts_with("12,1.25,15,"), "{csv}");
     std::fs::remove_dir_all(&d).unwrap();
 }
 
@@ -276,21 +276,20 @@ fn json_output_carries_units_and_the_error() {
         "json",
     ]);
     assert_eq!(r.code, 0, "{}", r.stderr);
-    assert_eq!(file_names(&out), ["members.json"]);
+    assert_eq!(file_names(&out), ["members.json", "provenance.json"]);
     let json: serde_json::Value =
         serde_json::from_str(&std::fs::read_to_string(out.join("members.json")).unwrap())
             .expect("valid JSON");
+    assert_eq!(json["format"], "gapwise-table");
+    assert_eq!(json["version"], 1);
+    let columns = json["columns"].as_array().unwrap();
+    let at = |name: &str| columns.iter().position(|c| c["name"] == name).expect(name);
     let rows = json["rows"].as_array().expect("rows");
     assert_eq!(rows.len(), 3);
-    assert!(rows[1]["error"].as_str().unwrap().contains("too high"));
-    assert_eq!(rows[2]["power"].as_f64(), Some(15.0));
-    let power = json["columns"]
-        .as_array()
-        .unwrap()
-        .iter()
-        .find(|c| c["name"] == "power")
-        .expect("power column");
-    assert_eq!(power["unit"], "W");
+    assert!(rows[1][at("error")].as_str().unwrap().contains("too high"));
+    assert_eq!(rows[2][at("power")].as_f64(), Some(15.0));
+    assert_eq!(columns[at("power")]["unit"], "W");
+    assert_eq!(columns[at("power")]["dimension"], "power");
     std::fs::remove_dir_all(&d).unwrap();
 }
 
@@ -610,7 +609,7 @@ fn the_fernbank_family_recipe_writes_its_csv() {
         d.to_str().unwrap(),
     ]);
     assert_eq!(r.code, 0, "{}", r.stderr);
-    assert_eq!(file_names(&d), ["fernbank_family.csv"]);
+    assert_eq!(file_names(&d), ["fernbank_family.csv", "provenance.json"]);
     let csv = std::fs::read_to_string(d.join("fernbank_family.csv")).unwrap();
     let header = csv.lines().next().unwrap_or_default();
     assert!(header.contains("output_voltage [V]"), "{header}");
@@ -635,7 +634,10 @@ fn texts_go_into_out_and_format_table_prints_the_tables() {
         out.to_str().unwrap(),
     ]);
     assert_eq!(r.code, 0, "{}", r.stderr);
-    assert_eq!(file_names(&out), ["members.csv", "notes.md"]);
+    assert_eq!(
+        file_names(&out),
+        ["members.csv", "notes.md", "provenance.json"]
+    );
     assert_eq!(
         std::fs::read_to_string(out.join("notes.md")).unwrap(),
         "# Notes\n"
@@ -650,7 +652,7 @@ fn texts_go_into_out_and_format_table_prints_the_tables() {
         "table",
     ]);
     assert_eq!(r.code, 0, "{}", r.stderr);
-    assert_eq!(file_names(&shown), ["notes.md"]);
+    assert_eq!(file_names(&shown), ["notes.md", "provenance.json"]);
     assert!(r.stdout.contains("output_voltage [V]"), "{}", r.stdout);
     let r = gapwise(&["run", path.to_str().unwrap()]);
     assert!(
@@ -699,4 +701,375 @@ fn an_unwritable_history_warns_once_and_the_prompt_goes_on() {
         r.stderr
     );
     std::fs::remove_dir_all(&d).unwrap();
+}
+
+// ---- issue 10 (outputs, CLI conventions) and issue 16 (output hygiene) ----
+
+/// Reads CSV text with a real CSV reader: the header and the records.
+fn read_csv(text: &str) -> (Vec<String>, Vec<Vec<String>>) {
+    let mut r = csv::ReaderBuilder::new()
+        .has_headers(true)
+        .from_reader(text.as_bytes());
+    let header = r
+        .headers()
+        .expect("a CSV header")
+        .iter()
+        .map(str::to_string)
+        .collect();
+    let rows = r
+        .records()
+        .map(|rec| {
+            rec.expect("a CSV record")
+                .iter()
+                .map(str::to_string)
+                .collect()
+        })
+        .collect();
+    (header, rows)
+}
+
+const UNITS_RECIPE: &str = r#"
+let t = table([
+    #{ inductance: 9.6 * uH, rise: 30 * K, ambient: celsius(40), margin: db_from_power_ratio(4.0), turns: 12 },
+    #{ inductance: 1.5 * mH, rise: 45 * K, ambient: celsius(55), margin: db_from_power_ratio(2.0), turns: 7 },
+]);
+output_table("units", t);
+"#;
+
+#[test]
+fn csv_and_json_go_to_stdout_with_format_and_no_out_issue_10() {
+    let d = temp_dir("stdout-formats");
+    let path = write_recipe(&d, "u.rhai", UNITS_RECIPE);
+    let r = gapwise(&["run", path.to_str().unwrap(), "--format", "csv"]);
+    assert_eq!(r.code, 0, "{}", r.stderr);
+    let (header, rows) = read_csv(&r.stdout);
+    // the recipe's order, one unit per dimension whatever the values: 9.6 µH and 1.5 mH
+    // share µH
+    assert_eq!(
+        header,
+        [
+            "inductance [µH]",
+            "rise [K]",
+            "ambient [°C]",
+            "margin [dB]",
+            "turns"
+        ]
+    );
+    assert_eq!(rows[0], ["9.6", "30", "40", "6.021", "12"]);
+    assert_eq!(rows[1], ["1500", "45", "55", "3.01", "7"]);
+    let r = gapwise(&["run", path.to_str().unwrap(), "--format", "json"]);
+    assert_eq!(r.code, 0, "{}", r.stderr);
+    let doc: serde_json::Value = serde_json::from_str(&r.stdout).expect("one JSON document");
+    assert_eq!(doc["format"], "gapwise-tables");
+    assert_eq!(doc["provenance"]["format"], "gapwise-provenance");
+    let t = &doc["tables"][0]["table"];
+    assert_eq!(doc["tables"][0]["name"], "units");
+    assert_eq!(t["columns"][0]["unit"], "µH");
+    assert_eq!(t["columns"][0]["si_factor"], 1e-6);
+    assert_eq!(t["columns"][2]["si_offset"], 273.15);
+    assert!(
+        t["rows"][0][4].is_i64(),
+        "integers stay integers: {}",
+        t["rows"][0]
+    );
+    assert_eq!(t["rows"][1][0].as_f64(), Some(1500.0));
+    std::fs::remove_dir_all(&d).unwrap();
+}
+
+#[test]
+fn si_exact_and_bom_flags_issue_10() {
+    let d = temp_dir("si-exact");
+    let path = write_recipe(&d, "u.rhai", UNITS_RECIPE);
+    let out = d.join("out");
+    let p = path.to_str().unwrap();
+    let r = gapwise(&[
+        "run",
+        p,
+        "--out",
+        out.to_str().unwrap(),
+        "--si",
+        "--exact",
+        "--bom",
+    ]);
+    assert_eq!(r.code, 0, "{}", r.stderr);
+    let bytes = std::fs::read(out.join("units.csv")).unwrap();
+    assert!(
+        bytes.starts_with("\u{FEFF}".as_bytes()),
+        "a byte-order mark first"
+    );
+    let text = String::from_utf8(bytes).unwrap();
+    let (header, rows) = read_csv(text.trim_start_matches('\u{FEFF}'));
+    assert_eq!(header[0], "inductance [H]");
+    assert_eq!(header[2], "ambient [K]");
+    // exact: the number reads back as the computed f64
+    assert_eq!(rows[0][0].parse::<f64>().unwrap(), 9.6 * 1e-6);
+    assert_eq!(rows[0][2].parse::<f64>().unwrap(), 40.0 + 273.15);
+    std::fs::remove_dir_all(&d).unwrap();
+}
+
+#[test]
+fn provenance_names_the_recipe_hash_sets_and_files_issue_10() {
+    let d = temp_dir("provenance");
+    let recipe = format!("const count = param(\"count\", 1, \"a whole number\");\n{UNITS_RECIPE}");
+    let path = write_recipe(&d, "u.rhai", &recipe);
+    let out = d.join("out");
+    let mut c = command(&[
+        "run",
+        path.to_str().unwrap(),
+        "--out",
+        out.to_str().unwrap(),
+        "--set",
+        "count=3",
+    ]);
+    c.env("SOURCE_DATE_EPOCH", "951868800");
+    let r = finish(c.output().unwrap());
+    assert_eq!(r.code, 0, "{}", r.stderr);
+    let p: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(out.join("provenance.json")).unwrap())
+            .unwrap();
+    assert_eq!(p["format"], "gapwise-provenance");
+    assert_eq!(p["version"], 1);
+    assert_eq!(p["gapwise_version"], env!("CARGO_PKG_VERSION"));
+    assert_eq!(p["date"], "2000-03-01T00:00:00Z");
+    assert_eq!(p["set"][0], "count=3");
+    assert_eq!(p["recipe"]["path"], path.to_str().unwrap());
+    let hash = p["recipe"]["sha256"].as_str().unwrap();
+    assert_eq!(hash.len(), 64);
+    assert!(p["data_tables"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .any(|e| e == "IEC 60664-1:2020"));
+    assert_eq!(p["files"][0]["name"], "units.csv");
+    // a changed recipe has another hash
+    write_recipe(&d, "u.rhai", &format!("{UNITS_RECIPE}\n// changed\n"));
+    let r = gapwise(&[
+        "run",
+        path.to_str().unwrap(),
+        "--out",
+        out.to_str().unwrap(),
+    ]);
+    assert_eq!(r.code, 0, "{}", r.stderr);
+    let q: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(out.join("provenance.json")).unwrap())
+            .unwrap();
+    assert_ne!(q["recipe"]["sha256"].as_str().unwrap(), hash);
+    std::fs::remove_dir_all(&d).unwrap();
+}
+
+#[test]
+fn every_output_reads_back_through_a_csv_and_a_json_reader_issue_10() {
+    let d = temp_dir("round-trip");
+    for recipe in [
+        "scripts/fernbank_family.rhai",
+        "scripts/fernbank_isolation.rhai",
+    ] {
+        for format in ["csv", "json"] {
+            let out = d.join(format!("{}-{format}", recipe.replace('/', "_")));
+            let r = gapwise(&[
+                "run",
+                recipe,
+                "--out",
+                out.to_str().unwrap(),
+                "--format",
+                format,
+            ]);
+            assert_eq!(r.code, 0, "{recipe}: {}", r.stderr);
+            for name in file_names(&out) {
+                let text = std::fs::read_to_string(out.join(&name)).unwrap();
+                if name.ends_with(".csv") {
+                    let (header, rows) = read_csv(&text);
+                    assert!(!header.is_empty(), "{name}");
+                    for row in rows {
+                        assert_eq!(row.len(), header.len(), "{name}: {row:?}");
+                    }
+                } else if name.ends_with(".json") {
+                    let j: serde_json::Value = serde_json::from_str(&text).expect(&name);
+                    if name != "provenance.json" {
+                        let n = j["columns"].as_array().unwrap().len();
+                        for row in j["rows"].as_array().unwrap() {
+                            assert_eq!(row.as_array().unwrap().len(), n, "{name}");
+                        }
+                    }
+                }
+            }
+        }
+    }
+    std::fs::remove_dir_all(&d).unwrap();
+}
+
+#[test]
+fn one_or_two_threads_write_byte_identical_files_issue_10() {
+    let d = temp_dir("threads");
+    let mut outputs = Vec::new();
+    for threads in ["1", "2"] {
+        let out = d.join(format!("t{threads}"));
+        let mut c = command(&[
+            "run",
+            "scripts/fernbank_family.rhai",
+            "--out",
+            out.to_str().unwrap(),
+        ]);
+        c.env("RAYON_NUM_THREADS", threads);
+        let r = finish(c.output().unwrap());
+        assert_eq!(r.code, 0, "{}", r.stderr);
+        // the table files; provenance.json differs only by its date
+        outputs.push(std::fs::read(out.join("fernbank_family.csv")).unwrap());
+    }
+    assert_eq!(outputs[0], outputs[1]);
+    std::fs::remove_dir_all(&d).unwrap();
+}
+
+#[test]
+fn a_column_with_mixed_dimensions_fails_naming_column_and_rows_issue_16() {
+    let d = temp_dir("mixed");
+    let path = write_recipe(
+        &d,
+        "m.rhai",
+        r#"output_table("mixed", table([#{x: 12 * V}, #{x: 3 * A}]));"#,
+    );
+    let r = gapwise(&[
+        "run",
+        path.to_str().unwrap(),
+        "--out",
+        d.join("out").to_str().unwrap(),
+    ]);
+    assert_eq!(r.code, 1, "{}", r.stderr);
+    assert!(
+        r.stderr
+            .contains("column `x` mixes voltage (V) in row 0 and current (A) in row 1"),
+        "{}",
+        r.stderr
+    );
+    assert!(!d.join("out").exists(), "nothing written");
+    std::fs::remove_dir_all(&d).unwrap();
+}
+
+#[test]
+fn a_field_a_table_cannot_hold_is_an_error_not_dropped_issue_16() {
+    let r = gapwise(&["eval", "table([#{a: 1 * V, b: [1, 2]}])"]);
+    assert_eq!(r.code, 1, "{}", r.stderr);
+    assert!(
+        r.stderr.contains("table row 0: field `b` is an array"),
+        "{}",
+        r.stderr
+    );
+    // in a family it is an error row, the other rows go on
+    let r = gapwise(&[
+        "eval",
+        "let t = family(|v| if v > 1 { #{a: v, b: [v]} } else { #{a: v} }, [1, 2]); t.row(1).error",
+    ]);
+    assert_eq!(r.code, 0, "{}", r.stderr);
+    assert!(r.stdout.contains("field `b` is an array"), "{}", r.stdout);
+    let r = gapwise(&[
+        "eval",
+        "family(|v| if v > 1 { #{a: v, b: [v]} } else { #{a: v} }, [1, 2]).error_count",
+    ]);
+    assert_eq!(r.stdout.trim(), "1", "{}", r.stderr);
+}
+
+#[test]
+fn a_second_output_table_with_the_same_name_is_an_error_issue_16() {
+    let d = temp_dir("duplicate");
+    let path = write_recipe(
+        &d,
+        "dup.rhai",
+        "output_table(\"a\", table([#{x: 1}]));\noutput_table(\"a\", table([#{x: 2}]));\n",
+    );
+    let r = gapwise(&["run", path.to_str().unwrap()]);
+    assert_eq!(r.code, 1, "{}", r.stderr);
+    assert!(
+        r.stderr
+            .contains("a table named `a` was already handed over"),
+        "{}",
+        r.stderr
+    );
+    assert!(
+        r.stderr.contains(":2"),
+        "names the second call's line: {}",
+        r.stderr
+    );
+    std::fs::remove_dir_all(&d).unwrap();
+}
+
+#[test]
+fn stale_temporaries_are_removed_on_the_next_run_issue_16() {
+    let d = temp_dir("stale-cli");
+    let path = write_recipe(&d, "u.rhai", UNITS_RECIPE);
+    let out = d.join("out");
+    std::fs::create_dir_all(&out).unwrap();
+    // what a run killed while writing leaves behind (pid 0 is never a live user process)
+    std::fs::write(out.join(".units.csv.0.gapwise-tmp"), b"half a file").unwrap();
+    let r = gapwise(&[
+        "run",
+        path.to_str().unwrap(),
+        "--out",
+        out.to_str().unwrap(),
+    ]);
+    assert_eq!(r.code, 0, "{}", r.stderr);
+    assert_eq!(file_names(&out), ["provenance.json", "units.csv"]);
+    assert!(
+        r.stderr.contains("removed 1 temporary file"),
+        "{}",
+        r.stderr
+    );
+    std::fs::remove_dir_all(&d).unwrap();
+}
+
+#[test]
+fn csv_text_cells_are_safe_in_a_spreadsheet_numbers_stay_numbers_issue_16() {
+    let d = temp_dir("formula");
+    let path = write_recipe(
+        &d,
+        "f.rhai",
+        r#"output_table("t", table([#{note: "=HYPERLINK(1)", v: -5 * V}, #{note: "+1", v: 2 * V}]));"#,
+    );
+    let r = gapwise(&["run", path.to_str().unwrap(), "--format", "csv"]);
+    assert_eq!(r.code, 0, "{}", r.stderr);
+    let (_, rows) = read_csv(&r.stdout);
+    assert_eq!(rows[0], ["'=HYPERLINK(1)", "-5"]);
+    assert_eq!(rows[1], ["'+1", "2"]);
+    std::fs::remove_dir_all(&d).unwrap();
+}
+
+#[test]
+fn help_run_shows_the_subcommand_and_help_name_still_shows_a_function_issue_10() {
+    let r = gapwise(&["help", "run"]);
+    assert_eq!(r.code, 0, "{}", r.stderr);
+    assert!(r.stdout.contains("Usage: gapwise run"), "{}", r.stdout);
+    assert!(r.stdout.contains("--format"), "{}", r.stdout);
+    let r = gapwise(&["help", "resistor_divider"]);
+    assert_eq!(r.code, 0, "{}", r.stderr);
+    assert!(r.stdout.contains("resistor_divider("), "{}", r.stdout);
+    let r = gapwise(&["help"]);
+    assert!(r.stdout.contains("Usage: gapwise"), "{}", r.stdout);
+}
+
+#[test]
+fn completions_for_bash_zsh_and_fish_issue_10() {
+    for (shell, marker) in [
+        ("bash", "complete -F"),
+        ("zsh", "#compdef gapwise"),
+        ("fish", "complete -c gapwise"),
+    ] {
+        let r = gapwise(&["completions", shell]);
+        assert_eq!(r.code, 0, "{shell}: {}", r.stderr);
+        assert!(r.stdout.contains(marker), "{shell}: {}", r.stdout);
+        assert!(r.stdout.contains("format"), "{shell}");
+    }
+    assert_eq!(gapwise(&["completions", "tcsh-like"]).code, 2);
+}
+
+#[test]
+fn version_names_the_data_table_editions_issue_10() {
+    let r = gapwise(&["--version"]);
+    assert_eq!(r.code, 0, "{}", r.stderr);
+    for edition in [
+        "IEC 60664-1:2020",
+        "IEC 62368-1:2018",
+        "CISPR 32",
+        "IEC 60063:2015",
+    ] {
+        assert!(r.stdout.contains(edition), "{edition}: {}", r.stdout);
+    }
 }

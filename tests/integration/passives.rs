@@ -80,3 +80,30 @@ fn reactance_and_resonance() {
         1e-4,
     );
 }
+
+#[test]
+fn a_design_record_serialises_to_json_with_units_issue_10() {
+    use gapwise::passives::{resistor_divider, DividerSpec};
+    use gapwise::units::uom_si as si;
+    use gapwise::units::{ElectricCurrent, ElectricPotential};
+    let d = resistor_divider(&DividerSpec {
+        output_voltage: ElectricPotential::new::<si::electric_potential::volt>(12.0),
+        reference_voltage: ElectricPotential::new::<si::electric_potential::volt>(2.5),
+        divider_current: ElectricCurrent::new::<si::electric_current::milliampere>(1.0),
+        reference_input_current: ElectricCurrent::new::<si::electric_current::microampere>(2.0),
+        series: ESeries::E96,
+    })
+    .unwrap();
+    // serde gives the record's fields in review order, each quantity in coherent SI with
+    // its unit; the numbers are the record's own (no reference value is checked here)
+    let j = serde_json::to_string(&d).unwrap();
+    assert!(j.starts_with(r#"{"upper_resistor":{"value":"#), "{j}");
+    let v: serde_json::Value = serde_json::from_str(&j).unwrap();
+    assert_eq!(v["actual_output_voltage"]["unit"], "V");
+    assert_eq!(v["divider_current"]["dimension"], "current");
+    let volts = d
+        .actual_output_voltage
+        .get::<si::electric_potential::volt>();
+    assert_eq!(v["actual_output_voltage"]["value"].as_f64(), Some(volts));
+    assert!(v["output_error"].is_f64());
+}

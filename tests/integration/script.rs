@@ -134,9 +134,10 @@ fn family_keeps_going_after_a_failing_variant() {
     assert_eq!(t.len(), 3);
     assert_eq!(t.error_count(), 1);
     assert!(t.error(2).unwrap().contains("too high"));
-    let csv = t.to_csv();
+    let csv = t.to_csv(&gapwise::report::WriteOptions::default()).unwrap();
     assert!(
-        csv.starts_with("output_current [A],output_voltage [V],power [W],error"),
+        // columns in the order the recipe's map literals wrote them (issue 10)
+        csv.starts_with("output_voltage [V],output_current [A],power [W],error"),
         "{csv}"
     );
     let outs = h.take_outputs();

@@ -121,6 +121,8 @@ pub struct HarmonicRow {
     pub margin_filtered: Decibel,
 }
 
+crate::serialize_as_record!(HarmonicRow);
+
 impl Record for HarmonicRow {
     fn fields(&self) -> Vec<Field> {
         vec![
@@ -539,6 +541,8 @@ pub fn input_filter_design(spec: &InputFilterSpec) -> Result<InputFilterDesign> 
         y_touch_current,
     })
 }
+
+crate::serialize_as_record!(InputFilterDesign);
 
 impl Record for InputFilterDesign {
     fn fields(&self) -> Vec<Field> {

@@ -96,6 +96,8 @@ pub struct LcFilterResponse {
     pub attenuation: Decibel,
 }
 
+crate::serialize_as_record!(LcFilterResponse);
+
 impl Record for LcFilterResponse {
     fn fields(&self) -> Vec<Field> {
         vec![
@@ -168,6 +170,8 @@ pub struct DampingNetwork {
     /// Peak output impedance with the optimum damping, R0·√(2(2+n))/n.
     pub peak_output_impedance: ElectricalResistance,
 }
+
+crate::serialize_as_record!(DampingNetwork);
 
 impl Record for DampingNetwork {
     fn fields(&self) -> Vec<Field> {
@@ -325,6 +329,8 @@ pub struct MiddlebrookCheck {
     /// True when the margin is at least the required margin.
     pub satisfied: bool,
 }
+
+crate::serialize_as_record!(MiddlebrookCheck);
 
 impl Record for MiddlebrookCheck {
     fn fields(&self) -> Vec<Field> {

@@ -167,6 +167,8 @@ impl FlybackEmiSource {
     }
 }
 
+crate::serialize_as_record!(FlybackEmiSource);
+
 impl Record for FlybackEmiSource {
     fn fields(&self) -> Vec<Field> {
         vec![

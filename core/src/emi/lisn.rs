@@ -38,6 +38,8 @@ pub struct LisnImpedance {
     pub receiver_fraction: f64,
 }
 
+crate::serialize_as_record!(LisnImpedance);
+
 impl Record for LisnImpedance {
     fn fields(&self) -> Vec<Field> {
         vec![

@@ -112,6 +112,8 @@ pub(crate) fn clamp_at(c: &ClampDesign, vr: f64, llk: f64, ipk: f64, f: f64) -> 
     }
 }
 
+crate::serialize_as_record!(ClampDesign);
+
 impl Record for ClampDesign {
     fn fields(&self) -> Vec<Field> {
         let mut v = vec![

@@ -793,6 +793,8 @@ impl FlybackDesign {
     }
 }
 
+crate::serialize_as_record!(FlybackDesign);
+
 impl Record for FlybackDesign {
     fn fields(&self) -> Vec<Field> {
         // a design from flyback_design always has six corners; a hand-built one may not

@@ -327,6 +327,8 @@ impl Context<'_> {
     }
 }
 
+crate::serialize_as_record!(OperatingPoint);
+
 impl Record for OperatingPoint {
     fn fields(&self) -> Vec<Field> {
         let mut v = vec![

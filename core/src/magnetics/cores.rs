@@ -344,6 +344,8 @@ impl Core {
     }
 }
 
+crate::serialize_as_record!(Core);
+
 impl Record for Core {
     fn fields(&self) -> Vec<Field> {
         vec![

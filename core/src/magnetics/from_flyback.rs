@@ -134,6 +134,8 @@ impl TransformerOperatingPoint {
     }
 }
 
+crate::serialize_as_record!(TransformerOperatingPoint);
+
 impl Record for TransformerOperatingPoint {
     /// Field names match the keys of the script function `transformer_design`, so the record
     /// converts into a spec map that only needs the core and construction added (the script

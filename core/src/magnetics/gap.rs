@@ -161,6 +161,8 @@ pub struct GapResult {
     pub inductance: Inductance,
 }
 
+crate::serialize_as_record!(GapResult);
+
 impl Record for GapResult {
     fn fields(&self) -> Vec<Field> {
         vec![

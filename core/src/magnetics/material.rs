@@ -185,6 +185,8 @@ impl FerriteMaterial {
     }
 }
 
+crate::serialize_as_record!(FerriteMaterial);
+
 impl Record for FerriteMaterial {
     fn fields(&self) -> Vec<Field> {
         let mut v = vec![

@@ -751,6 +751,8 @@ pub fn transformer_design(spec: &TransformerSpec) -> Result<TransformerDesign> {
     })
 }
 
+crate::serialize_as_record!(TransformerDesign);
+
 impl Record for TransformerDesign {
     fn fields(&self) -> Vec<Field> {
         let mut v = vec![

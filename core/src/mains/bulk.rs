@@ -198,6 +198,8 @@ pub fn hold_up_time(
     Ok(si(c * (v0 * v0 - v1 * v1) / (2.0 * p)))
 }
 
+crate::serialize_as_record!(BulkCapacitor);
+
 impl Record for BulkCapacitor {
     fn fields(&self) -> Vec<Field> {
         vec![

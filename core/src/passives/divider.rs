@@ -94,6 +94,8 @@ pub fn resistor_divider(spec: &DividerSpec) -> Result<Divider> {
     })
 }
 
+crate::serialize_as_record!(Divider);
+
 impl Record for Divider {
     fn fields(&self) -> Vec<Field> {
         vec![

@@ -507,6 +507,8 @@ pub fn barrier_requirements(spec: &BarrierSpec) -> Result<BarrierRequirement> {
     })
 }
 
+crate::serialize_as_record!(BarrierRequirement);
+
 impl Record for BarrierRequirement {
     fn fields(&self) -> Vec<Field> {
         vec![

@@ -68,6 +68,8 @@ pub fn safety_capacitor_class(name: &str) -> Result<SafetyCapacitorClass> {
     })
 }
 
+crate::serialize_as_record!(SafetyCapacitorClass);
+
 impl Record for SafetyCapacitorClass {
     fn fields(&self) -> Vec<Field> {
         vec![
@@ -153,6 +155,8 @@ pub fn largest_y_capacitance(
     })
 }
 
+crate::serialize_as_record!(YCapacitanceLimit);
+
 impl Record for YCapacitanceLimit {
     fn fields(&self) -> Vec<Field> {
         vec![
@@ -230,6 +234,8 @@ pub fn x_discharge_resistor(spec: &DischargeSpec) -> Result<DischargeResistor> {
         ),
     })
 }
+
+crate::serialize_as_record!(DischargeResistor);
 
 impl Record for DischargeResistor {
     fn fields(&self) -> Vec<Field> {

@@ -297,6 +297,8 @@ pub fn clearance_for_working_voltage(spec: &WorkingClearanceSpec) -> Result<Clea
     ))
 }
 
+crate::serialize_as_record!(Clearance);
+
 impl Record for Clearance {
     fn fields(&self) -> Vec<Field> {
         vec![

@@ -248,6 +248,8 @@ pub fn creepage_distance(spec: &CreepageSpec) -> Result<Creepage> {
     })
 }
 
+crate::serialize_as_record!(Creepage);
+
 impl Record for Creepage {
     fn fields(&self) -> Vec<Field> {
         vec![
@@ -307,6 +309,8 @@ pub fn minimum_groove_width(
         source: GROOVE_SOURCE.cite(),
     })
 }
+
+crate::serialize_as_record!(GrooveWidth);
 
 impl Record for GrooveWidth {
     fn fields(&self) -> Vec<Field> {

@@ -52,6 +52,8 @@ pub fn rated_impulse_voltage(
     })
 }
 
+crate::serialize_as_record!(RatedImpulse);
+
 impl Record for RatedImpulse {
     fn fields(&self) -> Vec<Field> {
         vec![
@@ -122,6 +124,8 @@ pub fn altitude_correction(altitude: Length) -> Result<AltitudeCorrection> {
         source: ALTITUDE_SOURCE.cite(),
     })
 }
+
+crate::serialize_as_record!(AltitudeCorrection);
 
 impl Record for AltitudeCorrection {
     fn fields(&self) -> Vec<Field> {

@@ -104,6 +104,8 @@ pub fn transformer_insulation(
     })
 }
 
+crate::serialize_as_record!(TransformerInsulation);
+
 impl Record for TransformerInsulation {
     fn fields(&self) -> Vec<Field> {
         vec![

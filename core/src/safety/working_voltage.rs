@@ -82,6 +82,8 @@ pub fn flyback_working_voltage(spec: &FlybackBarrierSpec) -> Result<BarrierWorki
     })
 }
 
+crate::serialize_as_record!(BarrierWorkingVoltage);
+
 impl Record for BarrierWorkingVoltage {
     fn fields(&self) -> Vec<Field> {
         vec![

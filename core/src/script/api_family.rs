@@ -4,6 +4,7 @@
 use super::convert::{flatten, lift, script_error, ScriptResult};
 use super::docs::{Domain, FunctionDoc, ParamDoc, ParamKind};
 use super::host::{EngineLimits, HostState, ScriptError};
+use super::key_order::KeyOrders;
 use super::{def, Api};
 use crate::error::Error;
 use crate::report::{Field, Table};
@@ -27,7 +28,7 @@ static FAMILY: FunctionDoc = FunctionDoc {
 static GRID: FunctionDoc = FunctionDoc {
     name: "grid",
     domain: Domain::Families,
-    summary: "Every combination of the given axes, as an array of maps (first key varies slowest).",
+    summary: "Every combination of the given axes, as an array of maps (the first key as written varies slowest).",
     params: &[ParamDoc::required(
         "axes",
         ParamKind::Map,
@@ -114,7 +115,7 @@ static ROW: FunctionDoc = FunctionDoc {
 static TO_CSV: FunctionDoc = FunctionDoc {
     name: "to_csv",
     domain: Domain::Families,
-    summary: "A table as CSV text, units in the column headers.",
+    summary: "A table as CSV text, each column in its dimension's fixed unit (in the header), numbers to 4 significant digits.",
     params: &[ParamDoc::required("table", ParamKind::Any, "the Table")],
     keys: &[],
     returns: "text",
@@ -123,29 +124,32 @@ static TO_CSV: FunctionDoc = FunctionDoc {
 static TO_JSON: FunctionDoc = FunctionDoc {
     name: "to_json",
     domain: Domain::Families,
-    summary: "A table as JSON text: columns with units, rows of numbers in those units.",
+    summary: "A table as JSON text (layout gapwise-table version 1): columns with units, rows in column order.",
     params: &[ParamDoc::required("table", ParamKind::Any, "the Table")],
     keys: &[],
     returns: "text",
     example: "table([#{a: 1 * V}]).to_json()",
 };
 
-fn variant_fields(v: &Dynamic) -> Vec<Field> {
+fn variant_fields(v: &Dynamic, orders: &KeyOrders) -> (Vec<Field>, Vec<String>) {
     let mut f = Vec::new();
-    flatten("variant", v, &mut f);
+    let mut problems = flatten("variant", v, &mut f, orders);
     // maps flatten as variant.key; show the keys themselves
     for x in &mut f {
         if let Some(rest) = x.name.strip_prefix("variant.") {
             x.name = rest.to_string();
         }
     }
-    f
+    for p in &mut problems {
+        *p = p.replacen("field `variant.", "variant field `", 1);
+    }
+    (f, problems)
 }
 
 /// The row fields of one variant's result: a map or a record by field, a design by its
 /// summary, a single value as `value`. Nothing, an array, a table or a function is not a row:
 /// that variant becomes an error row saying so (never an empty row).
-fn result_row(out: &Dynamic) -> Result<Vec<Field>, String> {
+fn result_row(out: &Dynamic, orders: &KeyOrders) -> Result<(Vec<Field>, Vec<String>), String> {
     if out.is_unit() {
         return Err("the variant returned nothing `()`; end the design function with a map or a record of results".into());
     }
@@ -160,14 +164,14 @@ fn result_row(out: &Dynamic) -> Result<Vec<Field>, String> {
         ));
     }
     let mut fields = Vec::new();
-    flatten("", out, &mut fields);
-    if fields.is_empty() && !out.is_map() {
+    let problems = flatten("", out, &mut fields, orders);
+    if fields.is_empty() && problems.is_empty() && !out.is_map() {
         return Err(format!(
             "the variant returned a {}, which a row cannot hold; return a map or a record",
             out.type_name()
         ));
     }
-    Ok(fields)
+    Ok((fields, problems))
 }
 
 /// True for errors that end a family rather than one variant: the call-depth limit, and a
@@ -242,13 +246,19 @@ fn run_family(
         None => run_all(),
     };
     let mut table = Table::new();
+    let orders = state.key_orders();
     for (v, r) in variants.iter().zip(results) {
-        let mut fields = variant_fields(v);
+        let (mut fields, mut problems) = variant_fields(v, &orders);
         match r {
-            Ok(Ok(out)) => match result_row(&out) {
-                Ok(mut f) => {
-                    fields.append(&mut f);
-                    table.push_row(fields);
+            Ok(Ok(out)) => match result_row(&out, &orders) {
+                Ok((result, more)) => {
+                    problems.extend(more);
+                    if problems.is_empty() {
+                        fields.extend(result);
+                        table.push_row(fields);
+                    } else {
+                        table.push_error_row(fields, problems.join("; "));
+                    }
                 }
                 Err(message) => table.push_error_row(fields, message),
             },
@@ -264,9 +274,12 @@ fn run_family(
     Ok(table)
 }
 
-fn grid(axes: &Map, max_rows: usize) -> crate::error::Result<Array> {
+fn grid(axes: &Map, max_rows: usize, orders: &KeyOrders) -> crate::error::Result<Array> {
     let mut rows: Vec<Map> = vec![Map::new()];
-    for (name, values) in axes.iter() {
+    for name in orders.keys_of(axes) {
+        let Some(values) = axes.get(name) else {
+            continue;
+        };
         let list: Array = match values.read_lock::<Array>() {
             Some(a) => a.clone(),
             None => vec![values.clone()],
@@ -283,7 +296,7 @@ fn grid(axes: &Map, max_rows: usize) -> crate::error::Result<Array> {
         for r in &rows {
             for v in &list {
                 let mut m = r.clone();
-                m.insert(name.clone(), v.clone());
+                m.insert(name.into(), v.clone());
                 next.push(m);
             }
         }
@@ -330,25 +343,33 @@ pub(crate) fn register(api: &mut Api, state: &Arc<HostState>, limits: &EngineLim
         run_family(&ctx, &st, &lim, &f, &variants)
     });
     let max_rows = limits.max_array_size;
+    let st = state.clone();
     def!(api, &GRID, move |axes: Map| -> ScriptResult<Array> {
-        lift(grid(&axes, max_rows))
+        lift(grid(&axes, max_rows, &st.key_orders()))
     });
-    def!(api, &TABLE, |rows: Array| -> Table {
+    let st = state.clone();
+    def!(api, &TABLE, move |rows: Array| -> ScriptResult<Table> {
         let mut t = Table::new();
-        for r in &rows {
+        let orders = st.key_orders();
+        for (i, r) in rows.iter().enumerate() {
             let mut f = Vec::new();
-            flatten("", r, &mut f);
+            let problems = flatten("", r, &mut f, &orders);
+            if !problems.is_empty() {
+                return Err(script_error(Error::invalid(format!(
+                    "table row {i}: {}",
+                    problems.join("; ")
+                ))));
+            }
             t.push_row(f);
         }
-        t
+        Ok(t)
     });
     let st = state.clone();
     def!(api, &OUTPUT_TABLE, move |name: ImmutableString,
                                    t: Table|
           -> ScriptResult<()> {
         lift(valid_output_name(&name))?;
-        st.push_output(name.to_string(), t);
-        Ok(())
+        lift(st.push_output(name.to_string(), t))
     });
     let st = state.clone();
     def!(api, &OUTPUT_TEXT, move |name: ImmutableString,
@@ -425,11 +446,12 @@ pub(crate) fn register(api: &mut Api, state: &Arc<HostState>, limits: &EngineLim
         }
         Ok(m)
     });
-    def!(api, &TO_CSV, |t: &mut Table| t.to_csv());
-    def!(api, &TO_JSON, |t: &mut Table| serde_json::to_string_pretty(
-        &t.to_json()
-    )
-    .unwrap_or_default());
+    def!(api, &TO_CSV, |t: &mut Table| -> ScriptResult<String> {
+        lift(t.to_csv(&crate::report::WriteOptions::default()))
+    });
+    def!(api, &TO_JSON, |t: &mut Table| -> ScriptResult<String> {
+        lift(t.to_json(&crate::report::WriteOptions::default()))
+    });
 }
 
 #[cfg(test)]
@@ -451,9 +473,10 @@ mod tests {
                 Dynamic::from_int(5),
             ]),
         );
-        let g = grid(&axes, 100).unwrap();
+        let orders = KeyOrders::default();
+        let g = grid(&axes, 100, &orders).unwrap();
         assert_eq!(g.len(), 6);
-        assert!(grid(&axes, 5).is_err());
+        assert!(grid(&axes, 5, &orders).is_err());
         assert!(valid_output_name("../x").is_err());
         assert!(valid_output_name("family_12v").is_ok());
     }

@@ -139,8 +139,31 @@ pub fn dynamic_to_value(d: &Dynamic) -> Option<Value> {
 }
 
 /// Flattens a script value into named fields for a table row: maps by key (nested maps as
-/// `outer.inner`), records by field, other values under `name`. Arrays are skipped.
-pub fn flatten(name: &str, d: &Dynamic, out: &mut Vec<Field>) {
+/// `outer.inner`), records by field, other values under `name`; `()` is an empty cell.
+/// A value a table cannot hold (an array, a range, a function, a design object) is not
+/// dropped: it is reported in the returned list, one message per field, and the caller
+/// turns the list into an error (`table`) or an error row (`family`).
+/// Map keys come in the order the recipe's literal wrote them (see
+/// [`super::key_order::KeyOrders`]), sorted when no literal matches.
+#[must_use]
+pub fn flatten(
+    name: &str,
+    d: &Dynamic,
+    out: &mut Vec<Field>,
+    orders: &super::key_order::KeyOrders,
+) -> Vec<String> {
+    let mut problems = Vec::new();
+    flatten_into(name, d, out, &mut problems, orders);
+    problems
+}
+
+fn flatten_into(
+    name: &str,
+    d: &Dynamic,
+    out: &mut Vec<Field>,
+    problems: &mut Vec<String>,
+    orders: &super::key_order::KeyOrders,
+) {
     let join = |k: &str| {
         if name.is_empty() {
             k.to_string()
@@ -149,8 +172,10 @@ pub fn flatten(name: &str, d: &Dynamic, out: &mut Vec<Field>) {
         }
     };
     if let Some(m) = d.read_lock::<Map>() {
-        for (k, v) in m.iter() {
-            flatten(&join(k), v, out);
+        for k in orders.keys_of(&m) {
+            if let Some(v) = m.get(k) {
+                flatten_into(&join(k), v, out, problems, orders);
+            }
         }
         return;
     }
@@ -173,14 +198,28 @@ pub fn flatten(name: &str, d: &Dynamic, out: &mut Vec<Field>) {
         }
         return;
     }
+    let field_name = if name.is_empty() { "value" } else { name };
     if let Some(v) = dynamic_to_value(d) {
         out.push(Field {
-            name: if name.is_empty() {
-                "value".into()
-            } else {
-                name.to_string()
-            },
+            name: field_name.to_string(),
             value: v,
         });
+        return;
     }
+    if d.is_unit() {
+        return;
+    }
+    let what = if d.is_array() {
+        "an array; write its items as fields of their own or as text (`a.to_string()`)".to_string()
+    } else if d.is_fnptr() {
+        "a function".to_string()
+    } else {
+        format!(
+            "a value of type {}; turn it into a record first (e.g. `flyback_summary(d)`) or into text",
+            d.type_name()
+        )
+    };
+    problems.push(format!(
+        "field `{field_name}` is {what}: a table cannot hold it"
+    ));
 }

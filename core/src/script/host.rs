@@ -64,6 +64,7 @@ pub(crate) struct HostState {
     budget: Duration,
     interrupt: Arc<AtomicBool>,
     outputs: Mutex<Vec<(String, Table)>>,
+    key_orders: RwLock<Arc<super::key_order::KeyOrders>>,
     texts: Mutex<Vec<OutputText>>,
     failed_checks: std::sync::atomic::AtomicUsize,
     printed: Mutex<Vec<String>>,
@@ -90,6 +91,7 @@ impl HostState {
             budget,
             interrupt: Arc::new(AtomicBool::new(false)),
             outputs: Mutex::new(Vec::new()),
+            key_orders: RwLock::new(Arc::default()),
             texts: Mutex::new(Vec::new()),
             failed_checks: std::sync::atomic::AtomicUsize::new(0),
             printed: Mutex::new(Vec::new()),
@@ -154,15 +156,27 @@ impl HostState {
         let d = self.deadline_nanos.load(Ordering::Relaxed);
         d != 0 && self.epoch.elapsed().as_nanos() > u128::from(d)
     }
-    /// Hands a table to the runner. Its failed verdicts (cells reading `fail`: a check's
-    /// status, a worst status) count toward `--strict`: what reaches an output counts, and
-    /// only that.
-    pub(crate) fn push_output(&self, name: String, table: Table) {
-        self.note_failed_checks(failed_verdicts(&table));
-        if let Ok(mut o) = self.outputs.lock() {
-            o.retain(|(n, _)| *n != name);
-            o.push((name, table));
+    /// Keeps a table for the runner; a second table under the same name is an error (it
+    /// would replace the first without a word), and so is a table CSV/JSON cannot write
+    /// (a column that mixes dimensions), so the recipe fails where the table is handed over.
+    /// Its failed verdicts (cells reading `fail`: a check's status, a worst status) count
+    /// toward `--strict`: what reaches an output counts, and only that.
+    pub(crate) fn push_output(&self, name: String, table: Table) -> crate::error::Result<()> {
+        table
+            .columns(&crate::report::WriteOptions::default())
+            .map_err(|e| e.context(&format!("output_table `{name}`")))?;
+        let mut o = self
+            .outputs
+            .lock()
+            .map_err(|_| crate::error::Error::invalid("the output list is unavailable"))?;
+        if o.iter().any(|(n, _)| *n == name) {
+            return Err(crate::error::Error::invalid(format!(
+                "output_table: a table named `{name}` was already handed over; give each output table its own name"
+            )));
         }
+        self.note_failed_checks(failed_verdicts(&table));
+        o.push((name, table));
+        Ok(())
     }
     /// Hands a text to the runner; a report made by a gapwise function brings the failed
     /// checks it shows toward `--strict` (see [`HostState::verdict_text`]).
@@ -204,6 +218,13 @@ impl HostState {
                     .ok()
             })
             .as_ref()
+    }
+    /// The key orders of the map literals of the scripts run so far (for table columns).
+    pub(crate) fn key_orders(&self) -> Arc<super::key_order::KeyOrders> {
+        self.key_orders
+            .read()
+            .map(|k| Arc::clone(&k))
+            .unwrap_or_default()
     }
     pub(crate) fn progress(&self) -> Option<ProgressFn> {
         self.progress.read().ok().and_then(|p| p.clone())
@@ -701,6 +722,9 @@ impl ScriptHost {
         }
         if let Ok(mut p) = self.state.params.lock() {
             p.clear();
+        }
+        if let Ok(mut k) = self.state.key_orders.write() {
+            Arc::make_mut(&mut k).learn(source, ast, self.limits.max_expr_depth);
         }
         self.state.start_clock();
         let r = on_script_stack(|| self.engine.eval_ast_with_scope::<Dynamic>(scope, ast));

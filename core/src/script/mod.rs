@@ -17,6 +17,7 @@ mod api_units;
 pub mod convert;
 pub mod docs;
 mod host;
+pub mod key_order;
 mod recipe;
 mod record;
 pub mod spec;

@@ -352,3 +352,43 @@ pub const SCRIPT_CONSTANTS: &[(&str, &str)] = &[
     ("percent", "%"),
     ("ppm", "ppm"),
 ];
+
+/// The unit each dimension is written in as a table column (CSV, JSON, aligned text):
+/// (dimension, symbol, scale), where `value_in_si / scale` is the number written. The unit
+/// depends only on the dimension, never on the values, so a column has the same unit in
+/// every run. The choices are the units a flyback designer reads these values in (common
+/// practice, no published source). Absolute temperatures are written in °C; a dimension not
+/// listed here is written in coherent SI with its derived symbol (`V/m`, `W/K`).
+pub const COLUMN_UNITS: &[(Dimension, &str, f64)] = &[
+    (D::VOLTAGE, "V", 1.0),
+    (D::CURRENT, "A", 1.0),
+    (D::POWER, "W", 1.0),
+    (D::RESISTANCE, "Ω", 1.0),
+    (D::CONDUCTANCE, "S", 1.0),
+    (D::INDUCTANCE, "µH", 1e-6),
+    (D::CAPACITANCE, "µF", 1e-6),
+    (D::FREQUENCY, "kHz", 1e3),
+    (D::FLUX_DENSITY, "mT", 1e-3),
+    (D::FLUX, "µWb", 1e-6),
+    (D::ENERGY, "µJ", 1e-6),
+    (D::CHARGE, "µC", 1e-6),
+    (D::TIME, "µs", 1e-6),
+    (D::LENGTH, "mm", 1e-3),
+    (D::AREA, "mm²", 1e-6),
+    (D::VOLUME, "mm³", 1e-9),
+    (D::AREA_PRODUCT, "mm⁴", 1e-12),
+    (D::MASS, "g", 1e-3),
+    (D::TEMPERATURE, "K", 1.0),
+    (D::FORCE, "N", 1.0),
+    (D::PRESSURE, "kPa", 1e3),
+    (D::SLEW_RATE, "V/µs", 1e6),
+    (D::CURRENT_SLEW_RATE, "A/µs", 1e6),
+    (D::FIELD_STRENGTH, "A/m", 1.0),
+    (D::POWER_DENSITY, "kW/m³", 1e3),
+    (D::THERMAL_RESISTANCE, "K/W", 1.0),
+    (D::PERMEABILITY, "µH/m", 1e-6),
+    (D::RESISTIVITY, "Ω·m", 1.0),
+    (D::CURRENT_DENSITY, "A/mm²", 1e6),
+    (D::POWER_PER_AREA, "mW/cm²", 10.0),
+    (D::VELOCITY, "m/s", 1.0),
+];

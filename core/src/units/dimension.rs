@@ -143,6 +143,113 @@ impl Dimension {
         }
         parts.join("·")
     }
+
+    /// The dimension written in derived SI units where one or two of them fit, e.g. `V/m`,
+    /// `W/K`, `Ω²`, `m/s`; base units (`m²·kg·s⁻³·A⁻¹`) only when no such pair exists.
+    /// Empty when dimensionless.
+    ///
+    /// The search tries one named unit raised to a power of ±1 … ±4, then a product of two
+    /// named units with such powers, and keeps the writing with the fewest units, then the
+    /// smallest sum of powers, then the units earliest in the list (`V` before `W` before
+    /// the base units). Common practice, no published source.
+    pub fn derived_units(self) -> String {
+        if self.is_dimensionless() {
+            return String::new();
+        }
+        derived_writing(self).unwrap_or_else(|| self.base_units())
+    }
+}
+
+/// Named units a derived writing may use, most preferred first; `single_only` units (Hz)
+/// appear only alone (V/s, not V·Hz).
+const DERIVED_ATOMS: &[(&str, Dimension, bool)] = &[
+    ("V", Dimension::VOLTAGE, false),
+    ("W", Dimension::POWER, false),
+    ("Ω", Dimension::RESISTANCE, false),
+    ("F", Dimension::CAPACITANCE, false),
+    ("H", Dimension::INDUCTANCE, false),
+    ("T", Dimension::FLUX_DENSITY, false),
+    ("Wb", Dimension::FLUX, false),
+    ("J", Dimension::ENERGY, false),
+    ("C", Dimension::CHARGE, false),
+    ("S", Dimension::CONDUCTANCE, false),
+    ("N", Dimension::FORCE, false),
+    ("Pa", Dimension::PRESSURE, false),
+    ("Hz", Dimension::FREQUENCY, true),
+    ("A", Dimension::CURRENT, false),
+    ("m", Dimension::LENGTH, false),
+    ("kg", Dimension::MASS, false),
+    ("s", Dimension::TIME, false),
+    ("K", Dimension::TEMPERATURE, false),
+    ("mol", Dimension::AMOUNT, false),
+    ("cd", Dimension::LUMINOUS_INTENSITY, false),
+];
+
+/// Index in [`DERIVED_ATOMS`] from which the entries are SI base units.
+const BASE_ATOMS_FROM: usize = 13;
+
+const DERIVED_POWERS: [i32; 8] = [1, -1, 2, -2, 3, -3, 4, -4];
+
+fn derived_writing(d: Dimension) -> Option<String> {
+    for (sym, atom, _) in DERIVED_ATOMS {
+        for p in DERIVED_POWERS {
+            if atom.powi(p) == d {
+                return Some(write_atoms(&[(sym, p)]));
+            }
+        }
+    }
+    // (named derived units used, sum of |powers|, index sum, writing): base units first,
+    // so that `A/m²` wins over `T/H` and `m/s` over `W/N`
+    let mut best: Option<(usize, i32, usize, String)> = None;
+    let derived = |i: usize| usize::from(i < BASE_ATOMS_FROM);
+    for (i, (sa, a, single_a)) in DERIVED_ATOMS.iter().enumerate() {
+        if *single_a {
+            continue;
+        }
+        for (j, (sb, b, single_b)) in DERIVED_ATOMS.iter().enumerate().skip(i + 1) {
+            if *single_b {
+                continue;
+            }
+            for pa in DERIVED_POWERS {
+                for pb in DERIVED_POWERS {
+                    if a.powi(pa) * b.powi(pb) != d {
+                        continue;
+                    }
+                    let key = (derived(i) + derived(j), pa.abs() + pb.abs(), i + j);
+                    if best.as_ref().is_none_or(|b| key < (b.0, b.1, b.2)) {
+                        best = Some((key.0, key.1, key.2, write_atoms(&[(sa, pa), (sb, pb)])));
+                    }
+                }
+            }
+        }
+    }
+    best.map(|b| b.3)
+}
+
+/// `V/m`, `Ω²`, `A·s`, `m⁻¹`: positive powers joined by `·`, one negative after a `/`.
+fn write_atoms(atoms: &[(&&str, i32)]) -> String {
+    let power = |s: &str, p: i32| {
+        if p == 1 {
+            s.to_string()
+        } else {
+            format!("{s}{}", superscript(p as i8))
+        }
+    };
+    let num: Vec<String> = atoms
+        .iter()
+        .filter(|a| a.1 > 0)
+        .map(|a| power(a.0, a.1))
+        .collect();
+    let den: Vec<(&&str, i32)> = atoms.iter().filter(|a| a.1 < 0).copied().collect();
+    match (num.is_empty(), den.len()) {
+        (false, 0) => num.join("·"),
+        (false, 1) => format!("{}/{}", num.join("·"), power(den[0].0, -den[0].1)),
+        _ => atoms
+            .iter()
+            .map(|a| power(a.0, a.1))
+            .collect::<Vec<_>>()
+            .join("·"),
+    }
 }
 
 impl std::ops::Mul for Dimension {
@@ -221,7 +328,7 @@ impl fmt::Display for Dimension {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         match self.name() {
             Some(n) => f.write_str(n),
-            None => write!(f, "{}", self.base_units()),
+            None => write!(f, "{}", self.derived_units()),
         }
     }
 }
@@ -249,5 +356,25 @@ mod tests {
     fn base_units_text() {
         assert_eq!(Dimension::VOLTAGE.base_units(), "m²·kg·s⁻³·A⁻¹");
         assert_eq!(Dimension::NONE.base_units(), "");
+    }
+
+    #[test]
+    fn derived_units_text_issue_10() {
+        // unnamed dimensions are written in derived units, never in base units (issue 10)
+        let d = |e: [i8; 7]| {
+            let mut x = [0; 8];
+            x[..7].copy_from_slice(&e);
+            Dimension { exponents: x }.derived_units()
+        };
+        assert_eq!(d([1, 1, -3, -1, 0, 0, 0]), "V/m");
+        assert_eq!(d([2, 1, -3, 0, -1, 0, 0]), "W/K");
+        assert_eq!(d([4, 2, -6, -4, 0, 0, 0]), "Ω²");
+        assert_eq!(d([1, 0, -1, 0, 0, 0, 0]), "m/s");
+        assert_eq!(Dimension::VOLTAGE.derived_units(), "V");
+        assert_eq!(Dimension::NONE.derived_units(), "");
+        let field = Dimension::VOLTAGE / Dimension::LENGTH;
+        assert_eq!(field.to_string(), "V/m");
+        // a dimension no pair of units writes keeps the base units
+        assert_eq!(d([1, 1, 1, 1, 1, 0, 0]), "m·kg·s·A·K");
     }
 }

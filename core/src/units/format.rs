@@ -1,6 +1,6 @@
 //! Writing quantities: engineering prefixes, about four significant digits, derived units.
 
-use super::catalog::{display_unit, WRITE_PREFIXES};
+use super::catalog::{display_unit, COLUMN_UNITS, WRITE_PREFIXES};
 use super::dimension::Dimension;
 use super::quantity::CELSIUS_OFFSET;
 
@@ -67,15 +67,45 @@ pub fn unit_symbol(dimension: Dimension) -> String {
             .or(u.choices.first())
             .map(|c| c.0.to_string())
             .unwrap_or_default(),
-        None => dimension.base_units(),
+        None => dimension.derived_units(),
     }
+}
+
+/// The coherent SI unit of a dimension: `V`, `m²`, `kg`, `A/m²`, `V/m`; empty when
+/// dimensionless. Values in coherent SI are written in it with a scale of one.
+pub fn si_unit_symbol(dimension: Dimension) -> String {
+    if dimension == Dimension::MASS {
+        return "kg".into();
+    }
+    match display_unit(dimension) {
+        Some(u) if u.prefixed => u.symbol.to_string(),
+        Some(u) => u
+            .choices
+            .iter()
+            .find(|c| c.1 == 1.0)
+            .map(|c| c.0.to_string())
+            .unwrap_or_else(|| dimension.derived_units()),
+        None => dimension.derived_units(),
+    }
+}
+
+/// The unit a table column of this dimension is written in: (symbol, scale), so that
+/// `value / scale` is written. Fixed per dimension (`units::COLUMN_UNITS`), or coherent SI
+/// (scale one) when `si` is true or the dimension has no entry. Never depends on a value.
+pub fn column_unit(dimension: Dimension, si: bool) -> (String, f64) {
+    if !si {
+        if let Some((_, sym, scale)) = COLUMN_UNITS.iter().find(|c| c.0 == dimension) {
+            return ((*sym).to_string(), *scale);
+        }
+    }
+    (si_unit_symbol(dimension), 1.0)
 }
 
 /// Chooses the unit to write `value` in: returns (symbol, scale) so that `value / scale`
 /// is what is printed. Prefixed units keep the number in 1 … 999.9.
 pub fn choose_unit(value: f64, dimension: Dimension) -> (String, f64) {
     let Some(u) = display_unit(dimension) else {
-        return (dimension.base_units(), 1.0);
+        return (dimension.derived_units(), 1.0);
     };
     let a = round_significant(value, SIGNIFICANT_DIGITS).abs();
     if u.prefixed {
@@ -100,7 +130,7 @@ pub fn choose_unit(value: f64, dimension: Dimension) -> (String, f64) {
                 .or(u.choices.last())
         };
         c.map(|c| (c.0.to_string(), c.1))
-            .unwrap_or_else(|| (dimension.base_units(), 1.0))
+            .unwrap_or_else(|| (dimension.derived_units(), 1.0))
     }
 }
 
@@ -119,6 +149,28 @@ pub fn format_quantity(value: f64, dimension: Dimension, absolute_temperature: b
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn column_units_depend_on_the_dimension_only() {
+        assert_eq!(
+            column_unit(Dimension::INDUCTANCE, false),
+            ("µH".into(), 1e-6)
+        );
+        assert_eq!(column_unit(Dimension::INDUCTANCE, true), ("H".into(), 1.0));
+        assert_eq!(
+            column_unit(Dimension::CURRENT_DENSITY, true),
+            ("A/m²".into(), 1.0)
+        );
+        assert_eq!(column_unit(Dimension::MASS, true), ("kg".into(), 1.0));
+        let field = Dimension::VOLTAGE / Dimension::LENGTH;
+        assert_eq!(column_unit(field, false), ("V/m".into(), 1.0));
+        // every listed unit reads back as its own dimension and scale
+        for (d, sym, scale) in COLUMN_UNITS {
+            let u = super::super::parse::parse_unit(sym).expect(sym);
+            assert_eq!(u.dimension, *d, "{sym}");
+            assert!((u.scale / scale - 1.0).abs() < 1e-12, "{sym}");
+        }
+    }
 
     #[test]
     fn numbers() {

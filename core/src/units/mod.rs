@@ -17,10 +17,13 @@ mod quantity;
 mod typed;
 pub mod validate;
 
-pub use catalog::{NamedUnit, Prefix, NAMED_UNITS, SCRIPT_CONSTANTS};
+pub use catalog::{NamedUnit, Prefix, COLUMN_UNITS, NAMED_UNITS, SCRIPT_CONSTANTS};
 pub use decibel::{DbReference, Decibel};
 pub use dimension::Dimension;
-pub use format::{choose_unit, format_number, format_quantity, round_significant, unit_symbol};
+pub use format::{
+    choose_unit, column_unit, format_number, format_quantity, round_significant, si_unit_symbol,
+    unit_symbol, SIGNIFICANT_DIGITS,
+};
 pub use parse::{parse_quantity, parse_unit, UnitExpr};
 pub use quantity::{Quantity, CELSIUS_OFFSET};
 pub use typed::{si, TypedQuantity};

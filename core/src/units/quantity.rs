@@ -167,9 +167,9 @@ impl Quantity {
     pub fn sqrt(&self) -> Result<Quantity> {
         let dimension = self.dimension.sqrt().ok_or_else(|| {
             Error::dimension(format!(
-                "cannot take the square root of {}: its dimension {} has an odd exponent",
+                "cannot take the square root of {}: {} is not the square of a unit (a base unit has an odd exponent)",
                 self.describe(),
-                self.dimension.base_units()
+                self.dimension.derived_units()
             ))
         })?;
         if self.value < 0.0 {
