@@ -253,8 +253,50 @@ pub fn output_divider(spec: &OutputDividerSpec) -> Result<OutputDivider> {
     }
     let (rt_eff, rb_eff) = effective(rt, rb, trim);
     let v = output_si(vref, iref, rt_eff, rb_eff);
-    // tolerance stack
-    let tref = spec.reference.reference_tolerance;
+    let range = range_si(&spec.reference, rt, rb, trim, tol);
+    let i_low = vref / rb_eff;
+    Ok(OutputDivider {
+        target_voltage: spec.output_voltage,
+        upper_resistor: si(rt),
+        lower_resistor: si(rb),
+        pair_output_voltage: si(v_pair),
+        trim: trim.map(|(position, r)| Trim {
+            position,
+            resistor: si(r),
+        }),
+        output_voltage: si(v),
+        output_error: (v - target) / target,
+        output_voltage_min: range.min,
+        output_voltage_max: range.max,
+        output_voltage_rss_deviation: range.rss_deviation,
+        divider_current: si(i_low),
+        divider_power: si(v * (i_low + iref) - vref * iref),
+    })
+}
+
+/// The output range of a divider from its tolerances.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct DividerRange {
+    /// Output at nominal values.
+    pub nominal: ElectricPotential,
+    /// Lowest output, every tolerance at its worst end (extreme value).
+    pub min: ElectricPotential,
+    /// Highest output.
+    pub max: ElectricPotential,
+    /// Root-sum-square of the deviations from each tolerance alone.
+    pub rss_deviation: ElectricPotential,
+}
+
+fn range_si(
+    reference: &ShuntReference,
+    rt: f64,
+    rb: f64,
+    trim: Option<(TrimPosition, f64)>,
+    tol: f64,
+) -> DividerRange {
+    let vref = reference.reference_voltage.value;
+    let iref = reference.reference_input_current.value;
+    let tref = reference.reference_tolerance;
     let eval = |k: [f64; 4]| -> f64 {
         let t = trim.map(|(p, r)| (p, r * (1.0 + k[3] * tol)));
         let (a, b) = effective(rt * (1.0 + k[1] * tol), rb * (1.0 + k[2] * tol), t);
@@ -280,24 +322,36 @@ pub fn output_divider(spec: &OutputDividerSpec) -> Result<OutputDivider> {
         let d = (eval(hi) - eval(lo)) / 2.0;
         sum += d * d;
     }
-    let i_low = vref / rb_eff;
-    Ok(OutputDivider {
-        target_voltage: spec.output_voltage,
-        upper_resistor: si(rt),
-        lower_resistor: si(rb),
-        pair_output_voltage: si(v_pair),
-        trim: trim.map(|(position, r)| Trim {
-            position,
-            resistor: si(r),
-        }),
-        output_voltage: si(v),
-        output_error: (v - target) / target,
-        output_voltage_min: si(vmin),
-        output_voltage_max: si(vmax),
-        output_voltage_rss_deviation: si(sum.sqrt()),
-        divider_current: si(i_low),
-        divider_power: si(v * (i_low + iref) - vref * iref),
-    })
+    DividerRange {
+        nominal: si(eval([0.0; 4])),
+        min: si(vmin),
+        max: si(vmax),
+        rss_deviation: si(sum.sqrt()),
+    }
+}
+
+/// The output range of a given divider from the reference's and the resistors' tolerances.
+///
+/// Formulas as in [`output_divider`] step (3): extreme values over every combination of
+/// V_ref·(1 ± t_ref) and each resistor·(1 ± t_R); root-sum-square √Σ ΔV_i² with
+/// ΔV_i = |V(p_i·(1 + t_i)) − V(p_i·(1 − t_i))|/2. The reference-input current is not
+/// toleranced. Reference: common practice, no published source.
+pub fn divider_output_range(
+    upper_resistor: ElectricalResistance,
+    lower_resistor: ElectricalResistance,
+    trim: Option<Trim>,
+    reference: &ShuntReference,
+    resistor_tolerance: f64,
+) -> Result<DividerRange> {
+    reference.validate()?;
+    let rt = positive("upper_resistor", upper_resistor)?.value;
+    let rb = positive("lower_resistor", lower_resistor)?.value;
+    let tol = number_within("resistor_tolerance", resistor_tolerance, 0.0, 0.2)?;
+    let trim = match trim {
+        Some(t) => Some((t.position, positive("trim_resistor", t.resistor)?.value)),
+        None => None,
+    };
+    Ok(range_si(reference, rt, rb, trim, tol))
 }
 
 /// The trim resistor (position, value, |error|) that lands closest, if any is meaningful.

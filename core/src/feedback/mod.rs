@@ -13,9 +13,9 @@
 //! ```
 //! use gapwise_core::feedback::{divider_output_voltage, ShuntReference};
 //! use gapwise_core::units::si;
-//! // 2.5 V·(1 + 38.3 kΩ/10 kΩ) + 2 µA·38.3 kΩ = 12.0516 V
+//! // 2.5 V·(1 + 38.3 kΩ/10 kΩ) + 2 µA·38.3 kΩ = 12.075 V + 76.6 mV = 12.1516 V
 //! let v = divider_output_voltage(si(38.3e3), si(10e3), None, &ShuntReference::generic_2v5()).unwrap();
-//! assert!((v.value - 12.0516).abs() < 1e-9);
+//! assert!((v.value - 12.1516).abs() < 1e-9);
 //! ```
 //!
 //! Results are design aids; measure the loop on the bench.
@@ -40,8 +40,8 @@ pub use compensation::{
     MIN_PHASE_BOOST_DEG, MIN_POLE_CAPACITANCE_F,
 };
 pub use divider::{
-    divider_output_voltage, output_divider, OutputDivider, OutputDividerSpec, ShuntReference, Trim,
-    TrimPosition,
+    divider_output_range, divider_output_voltage, output_divider, DividerRange, OutputDivider,
+    OutputDividerSpec, ShuntReference, Trim, TrimPosition,
 };
 pub use line_sense::{
     line_sense_resistors, LineSense, LineSenseInput, LineSenseSpec, LineThreshold,
