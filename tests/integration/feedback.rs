@@ -148,6 +148,7 @@ fn bias_spec() -> BiasSpec {
         feedback: FeedbackInput::generic_pull_up(),
         series: ESeries::E96,
         headroom: 0.2,
+        led_supply_voltage: None,
     }
 }
 
@@ -640,4 +641,35 @@ fn bad_input_names_the_parameter() {
         let msg = e.to_string();
         assert!(msg.contains(name), "{src}: {msg}");
     }
+}
+
+#[test]
+fn a_five_volt_output_needs_the_fast_lane_cut() {
+    // from 5 V: 5 − 1 (LED) − 2.5 (shunt) = 1.5 V of headroom limits the LED resistor to about
+    // 1 kΩ, too much fast-lane gain for the crossover; a separate rail with R_z setting the gain
+    // regulates (Basso 2012, the fast-lane discussion of the optocoupler chapter)
+    let spec = FlybackSpec::universal(OutputWinding::new(si(5.0), si(2.0)));
+    let d = flyback_design(&spec).unwrap();
+    let e = flyback_regulation(&d, &spec, &RegulationSpec::default()).unwrap_err();
+    assert_eq!(e.kind(), ErrorKind::Infeasible);
+    assert!(
+        e.message().contains("led_supply_voltage"),
+        "{}",
+        e.message()
+    );
+    let reg = RegulationSpec {
+        led_supply_voltage: Some(si(12.0)),
+        ..RegulationSpec::default()
+    };
+    let r = flyback_regulation(&d, &spec, &reg).unwrap();
+    let rz = r
+        .compensation
+        .network
+        .zero_resistor
+        .expect("R_z sets the gain");
+    assert!(rz.value > 0.0);
+    // the zero sits at 1/(2π·R_z·C_z)
+    let fz = 1.0 / (2.0 * PI * rz.value * r.compensation.network.zero_capacitor.value);
+    assert!((r.compensation.network.zero_frequency().value / fz - 1.0).abs() < 1e-12);
+    assert!(r.worst_phase_margin().unwrap() >= 45.0);
 }

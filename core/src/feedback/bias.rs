@@ -189,6 +189,8 @@ pub struct BiasSpec {
     pub series: ESeries,
     /// Extra LED current over the least that reaches zero duty at `ctr_min` (0.2 = 20 %).
     pub headroom: f64,
+    /// A separate DC rail feeding the LED resistor (no fast lane); None: the output feeds it.
+    pub led_supply_voltage: Option<ElectricPotential>,
 }
 
 /// One of the four bias cases: CTR extreme × no load / full load.
@@ -230,6 +232,8 @@ pub struct OptocouplerBias {
 
 /// Chooses the bias resistor across the LED and the LED resistor, and checks the four cases.
 ///
+/// V_out below is the LED resistor's supply: the output (the fast lane) or
+/// `led_supply_voltage`.
 /// Formulas: R_bias = the preferred value at or below V_F / I_K,min (the shunt keeps its
 /// minimum current with the LED dark); the most LED current the resistor can give, with the
 /// shunt at its minimum cathode voltage, is (V_out − V_F − V_K,min)/R_LED − V_F/R_bias, which
@@ -253,7 +257,11 @@ pub fn optocoupler_bias(
     spec.optocoupler.validate()?;
     let fb = spec.feedback.resolve()?;
     let headroom = number_within("bias_headroom", spec.headroom, 0.0, 2.0)?;
-    let vout = positive("output_voltage", spec.output_voltage)?.value;
+    positive("output_voltage", spec.output_voltage)?;
+    let vout = match spec.led_supply_voltage {
+        Some(v) => positive("led_supply_voltage", v)?.value,
+        None => spec.output_voltage.value,
+    };
     let o = &spec.optocoupler;
     let vf = o.led_forward_voltage.value;
     let vkmin = spec.reference.minimum_cathode_voltage.value;
@@ -295,10 +303,15 @@ pub fn optocoupler_bias(
     let head = vout - vf - vkmin;
     if head <= 0.0 {
         return Err(Error::infeasible(format!(
-            "`output_voltage` {} is too low to feed the LED ({}) and the shunt reference's \
+            "`{}` {} is too low to feed the LED ({}) and the shunt reference's \
              minimum cathode voltage ({}) from the output; supply the LED resistor from a \
-             higher rail",
-            show(spec.output_voltage),
+             higher rail (`led_supply_voltage`)",
+            if spec.led_supply_voltage.is_some() {
+                "led_supply_voltage"
+            } else {
+                "output_voltage"
+            },
+            show(si::<ElectricPotential>(vout)),
             show(o.led_forward_voltage),
             show(spec.reference.minimum_cathode_voltage)
         )));

@@ -30,6 +30,10 @@ pub const MIN_PHASE_BOOST_DEG: f64 = 10.0;
 /// node (R_pu with the optocoupler's capacitance and C_p) gives the pole
 /// f_p = 1/(2π·R_pu·(C_opto + C_p)), C_opto = 1/(2π·R_pu·f_opto); the peak-current command
 /// moves k_m = I_lim/(I_C,zero − I_C,full) amperes per ampere of collector current.
+///
+/// Without the fast lane (the LED resistor fed from a separate DC rail, `zero_resistor` set):
+/// î_F = v̂_out·R_z/(R_t·R_LED)·(1 + 1/(s·R_z·C_z)), R_z in series with C_z from the cathode
+/// to the reference input; the zero is 1/(2π·R_z·C_z) and the mid-band gain gains R_z/R_t.
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub struct Type2Network {
     /// Upper divider resistor R_t (sets the zero with C_z).
@@ -38,6 +42,9 @@ pub struct Type2Network {
     pub led_resistor: ElectricalResistance,
     /// Zero capacitor C_z from the shunt's cathode to its reference input.
     pub zero_capacitor: Capacitance,
+    /// Resistor R_z in series with C_z when the LED is fed from a separate rail (no fast
+    /// lane); None: the LED resistor is fed from the output (the fast lane).
+    pub zero_resistor: Option<ElectricalResistance>,
     /// Pole capacitor C_p at the feedback pin (zero: none fitted).
     pub pole_capacitor: Capacitance,
     /// Small-signal resistance at the feedback pin R_pu.
@@ -71,6 +78,9 @@ impl Type2Network {
         positive("upper_resistor", self.upper_resistor)?;
         positive("led_resistor", self.led_resistor)?;
         positive("zero_capacitor", self.zero_capacitor)?;
+        if let Some(r) = self.zero_resistor {
+            positive("zero_resistor", r)?;
+        }
         non_negative("pole_capacitor", self.pole_capacitor)?;
         positive("feedback_pin_resistance", self.pin_resistance)?;
         positive("optocoupler_pole", self.optocoupler_pole)?;
@@ -78,9 +88,10 @@ impl Type2Network {
         Ok(())
     }
 
-    /// The zero, 1/(2π·R_t·C_z).
+    /// The zero, 1/(2π·R_t·C_z) with the fast lane, 1/(2π·R_z·C_z) without.
     pub fn zero_frequency(&self) -> Frequency {
-        si(1.0 / (2.0 * PI * self.upper_resistor.value * self.zero_capacitor.value))
+        let r = self.zero_resistor.unwrap_or(self.upper_resistor).value;
+        si(1.0 / (2.0 * PI * r * self.zero_capacitor.value))
     }
 
     /// The pin pole, 1/(2π·R_pu·(C_opto + C_p)).
@@ -90,9 +101,14 @@ impl Type2Network {
         si(1.0 / (2.0 * PI * rpu * (c_opto + self.pole_capacitor.value)))
     }
 
-    /// Mid-band gain from output volts to peak-current command, k_m·CTR/R_LED (A/V).
+    /// Mid-band gain from output volts to peak-current command, k_m·CTR/R_LED (A/V), times
+    /// R_z/R_t without the fast lane.
     pub fn mid_band_gain(&self, ctr: f64) -> f64 {
-        self.modulator_gain * ctr / self.led_resistor.value
+        let k = match self.zero_resistor {
+            Some(rz) => rz.value / self.upper_resistor.value,
+            None => 1.0,
+        };
+        k * self.modulator_gain * ctr / self.led_resistor.value
     }
 
     /// The compensator at a frequency: peak-current command per output volt (A/V, complex),
@@ -125,6 +141,9 @@ pub struct CompensationTarget {
     pub capacitor_series: ESeries,
     /// Series of the LED resistor.
     pub resistor_series: ESeries,
+    /// With the fast lane (LED resistor from the output) the LED resistor sets the gain; false:
+    /// the LED resistor is the bias's and a zero resistor R_z sets the gain.
+    pub fast_lane: bool,
     /// The LED resistor range the bias allows (min, max).
     pub led_resistor_range: (ElectricalResistance, ElectricalResistance),
     /// Highest zero frequency allowed (a lower crossover elsewhere may need the zero below
@@ -149,8 +168,8 @@ pub struct Type2Design {
     pub ideal_zero_capacitor: Capacitance,
     /// Ideal pole capacitor before rounding (zero when the optocoupler's pole is low enough).
     pub ideal_pole_capacitor: Capacitance,
-    /// Ideal LED resistor before rounding.
-    pub ideal_led_resistor: ElectricalResistance,
+    /// Ideal gain-setting resistor before rounding: R_LED with the fast lane, R_z without.
+    pub ideal_gain_resistor: ElectricalResistance,
     /// CTR the design is placed at.
     pub design_ctr: f64,
     /// Margins with the rounded values at the design corner and CTR.
@@ -167,9 +186,11 @@ pub struct Type2Design {
 /// atan(f_c/f_z) = φ + atan(f_c/f_opto); f_z is lowered to `zero_frequency_limit` if that is
 /// below. C_z = 1/(2π·R_t·f_z) and
 /// C_p = (1/f_p − 1/f_opto)/(2π·R_pu) are rounded to `capacitor_series` (C_p below
-/// [`MIN_POLE_CAPACITANCE_F`] is left out); then R_LED = k_m·CTR·|G(f_c)|·|1 + 1/(s·R_t·C_z)|
-/// /|1 + s/ω_p| at f_c (|T(f_c)| = 1), rounded to `resistor_series`, and the margins are found
-/// numerically with the rounded values. Errors: `crossover_frequency` at or above f_s/2 or
+/// [`MIN_POLE_CAPACITANCE_F`] is left out); then with the fast lane
+/// R_LED = k_m·CTR·|G(f_c)|·|1 + 1/(s·R_t·C_z)|/|1 + s/ω_p| at f_c (|T(f_c)| = 1), rounded to
+/// `resistor_series`; without it R_LED is the bias's and R_z = R_t·R_LED/(k_m·CTR·|G|·|…|)
+/// is rounded, then C_z = 1/(2π·R_z·f_z). The margins are found numerically with the rounded
+/// values. Errors: `crossover_frequency` at or above f_s/2 or
 /// needing a boost of 90° or more (`phase_margin`), an R_LED outside the bias range
 /// (`crossover_frequency`, with the fix).
 /// Reference: k-factor placement, Venable's method as presented in Basso, *Designing Control
@@ -236,46 +257,60 @@ pub fn compensation_type2(
         Some(l) => fz.min(positive("zero_frequency_limit", l)?.value),
         None => fz,
     };
-    let cz_ideal = 1.0 / (2.0 * PI * rt * fz);
-    let cz = nearest_value(cz_ideal, target.capacitor_series)?;
     let cp = if cp_ideal >= MIN_POLE_CAPACITANCE_F {
         nearest_value(cp_ideal, target.capacitor_series)?
     } else {
         0.0
     };
     let mut net = Type2Network {
-        zero_capacitor: si(cz),
         pole_capacitor: si(cp),
-        led_resistor: si(1.0),
         ..*network
     };
-    let unit = net.response_w(ctr, wc); // with R_LED = 1 Ω
-    let rled_ideal = (g * unit).norm();
-    let rled = nearest_value(rled_ideal, target.resistor_series)?;
     let (rmin, rmax) = (
         target.led_resistor_range.0.value,
         target.led_resistor_range.1.value,
     );
-    if rled > rmax * (1.0 + 1e-9) {
-        return Err(Error::infeasible(format!(
-            "`crossover_frequency` {} at CTR {ctr} needs an LED resistor of {}, above the {} the \
-             bias allows (the fast lane's gain CTR·k_m/R_LED is too high): raise the crossover, \
-             lower the feedback pin's resistance, or cut the fast lane with a Zener",
-            show(target.crossover_frequency),
-            show(si::<ElectricalResistance>(rled_ideal)),
-            show(target.led_resistor_range.1)
-        )));
-    }
-    if rled < rmin * (1.0 - 1e-9) {
-        return Err(Error::infeasible(format!(
-            "`crossover_frequency` {} at CTR {ctr} needs an LED resistor of {}, below the {} that \
-             keeps the LED within its current rating: lower the crossover",
-            show(target.crossover_frequency),
-            show(si::<ElectricalResistance>(rled_ideal)),
-            show(target.led_resistor_range.0)
-        )));
-    }
-    net.led_resistor = si(rled);
+    let (cz_ideal, gain_ideal) = if target.fast_lane {
+        let cz_ideal = 1.0 / (2.0 * PI * rt * fz);
+        net.zero_capacitor = si(nearest_value(cz_ideal, target.capacitor_series)?);
+        net.zero_resistor = None;
+        net.led_resistor = si(1.0);
+        let rled_ideal = (g * net.response_w(ctr, wc)).norm(); // |T| with R_LED = 1 Ω
+        let rled = nearest_value(rled_ideal, target.resistor_series)?;
+        if rled > rmax * (1.0 + 1e-9) {
+            return Err(Error::infeasible(format!(
+                "`crossover_frequency` {} at CTR {ctr} needs an LED resistor of {}, above the {} \
+                 the bias allows (the fast lane's gain CTR·k_m/R_LED is too high): raise the \
+                 crossover, or feed the LED from a separate rail (`led_supply_voltage`) to cut \
+                 the fast lane",
+                show(target.crossover_frequency),
+                show(si::<ElectricalResistance>(rled_ideal)),
+                show(target.led_resistor_range.1)
+            )));
+        }
+        if rled < rmin * (1.0 - 1e-9) {
+            return Err(Error::infeasible(format!(
+                "`crossover_frequency` {} at CTR {ctr} needs an LED resistor of {}, below the {} \
+                 that keeps the LED within its current rating: lower the crossover, or feed the \
+                 LED from a separate rail (`led_supply_voltage`) to cut the fast lane",
+                show(target.crossover_frequency),
+                show(si::<ElectricalResistance>(rled_ideal)),
+                show(target.led_resistor_range.0)
+            )));
+        }
+        net.led_resistor = si(rled);
+        (cz_ideal, rled_ideal)
+    } else {
+        // R_LED from the bias; R_z sets the gain: |T(f_c)| = 1 with R_z = R_t (unit factor)
+        net.zero_resistor = Some(si(rt));
+        net.zero_capacitor = si(1.0 / (2.0 * PI * rt * fz));
+        let rz_ideal = rt / (g * net.response_w(ctr, wc)).norm();
+        let rz = nearest_value(rz_ideal, target.resistor_series)?;
+        let cz_ideal = 1.0 / (2.0 * PI * rz * fz);
+        net.zero_resistor = Some(si(rz));
+        net.zero_capacitor = si(nearest_value(cz_ideal, target.capacitor_series)?);
+        (cz_ideal, rz_ideal)
+    };
     let achieved = margins_of(plant, &net, ctr, super::regulation::DEFAULT_POINTS)?;
     Ok(Type2Design {
         network: net,
@@ -285,7 +320,7 @@ pub fn compensation_type2(
         phase_boost: boost,
         ideal_zero_capacitor: si(cz_ideal),
         ideal_pole_capacitor: si(cp_ideal.max(0.0)),
-        ideal_led_resistor: si(rled_ideal),
+        ideal_gain_resistor: si(gain_ideal),
         design_ctr: ctr,
         achieved,
     })
@@ -325,6 +360,12 @@ impl Record for Type2Design {
         let mut v = vec![
             Field::quantity("upper_resistor", n.upper_resistor),
             Field::quantity("led_resistor", n.led_resistor),
+            Field::new("fast_lane", n.zero_resistor.is_none()),
+        ];
+        if let Some(r) = n.zero_resistor {
+            v.push(Field::quantity("zero_resistor", r));
+        }
+        v.extend([
             Field::quantity("zero_capacitor", n.zero_capacitor),
             Field::quantity("pole_capacitor", n.pole_capacitor),
             Field::quantity("zero_frequency", n.zero_frequency()),
@@ -337,8 +378,8 @@ impl Record for Type2Design {
             Field::new("phase_boost_degrees", self.phase_boost),
             Field::quantity("ideal_zero_capacitor", self.ideal_zero_capacitor),
             Field::quantity("ideal_pole_capacitor", self.ideal_pole_capacitor),
-            Field::quantity("ideal_led_resistor", self.ideal_led_resistor),
-        ];
+            Field::quantity("ideal_gain_resistor", self.ideal_gain_resistor),
+        ]);
         for f in self.achieved.fields() {
             v.push(Field {
                 name: format!("achieved_{}", f.name),

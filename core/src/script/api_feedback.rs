@@ -149,6 +149,11 @@ const RFB: ParamDoc = ParamDoc::optional(
     Q("Ω"),
     "current: small-signal resistance at the pin",
 );
+const LED_RAIL: ParamDoc = ParamDoc::optional(
+    "led_supply_voltage",
+    Q("V"),
+    "a separate DC rail feeding the LED resistor (cuts the fast lane); else the output",
+);
 const HEADROOM: ParamDoc = ParamDoc::with_default(
     "bias_headroom",
     Number,
@@ -225,6 +230,7 @@ static BIAS: FunctionDoc = FunctionDoc {
         RFB,
         RSERIES,
         HEADROOM,
+        LED_RAIL,
         ParamDoc::optional("led_resistor", Q("Ω"), "a chosen LED resistor to check (else chosen)"),
     ],
     returns: "map: summary (record: led_resistor, led_resistor_max, led_resistor_min, bias_resistor, collector currents, cathode_current_min, cathode_voltage_min, all_cases_within_limits), cases (Table, one row per CTR extreme and load)",
@@ -256,6 +262,7 @@ const REG_KEYS: &[ParamDoc] = &[
     IFB1,
     RFB,
     HEADROOM,
+    LED_RAIL,
     ParamDoc::with_default("capacitor_series", Text, "E12", "IEC 60063 series of the capacitors"),
     ParamDoc::optional("crossover_frequency", Q("Hz"), "crossover target at ctr_max on the design corner (below f_s/2); else 15 % of the lowest RHP zero, at most 5 % of f_s"),
     ParamDoc::with_default("phase_margin", Number, "60", "target phase margin, degrees (20 … 85)"),
@@ -430,6 +437,7 @@ fn regulation_spec(s: &Spec) -> Result<RegulationSpec> {
         capacitor_series: series_of(s, "capacitor_series")?,
         trim: s.flag("trim")?,
         bias_headroom: s.number("bias_headroom")?,
+        led_supply_voltage: s.optional_quantity("led_supply_voltage")?,
         crossover_frequency: s.optional_quantity("crossover_frequency")?,
         phase_margin: s.number("phase_margin")?,
         ramp_fraction: s.number("ramp_fraction")?,
@@ -543,6 +551,7 @@ pub(crate) fn register(api: &mut Api, state: &Arc<HostState>) {
                     feedback: feedback_of(&s)?,
                     series: series_of(&s, "series")?,
                     headroom: s.number("bias_headroom")?,
+                    led_supply_voltage: s.optional_quantity("led_supply_voltage")?,
                 },
                 s.optional_quantity("led_resistor")?,
             )
