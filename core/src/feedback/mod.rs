@@ -29,6 +29,7 @@ mod margins;
 mod overvoltage;
 mod plant;
 mod regulation;
+mod report;
 
 pub use bias::{
     optocoupler_bias, BiasPoint, BiasSpec, ControllerFeedback, FeedbackInput, Optocoupler,
@@ -55,3 +56,4 @@ pub use regulation::{
     Regulation, RegulationSpec, DEFAULT_CROSSOVER_RHP_FRACTION,
     DEFAULT_CROSSOVER_SWITCHING_FRACTION, DEFAULT_POINTS, LOOP_CORNERS,
 };
+pub use report::regulation_report_markdown;

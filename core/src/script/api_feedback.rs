@@ -286,7 +286,7 @@ static REGULATION: FunctionDoc = FunctionDoc {
         ParamDoc::required("options", ParamKind::Map, "see keys (every key has a default)"),
     ],
     keys: REG_KEYS,
-    returns: "map: summary (record), divider (record), bias (record), bias_cases (Table), compensation (record), margins (Table, one row per corner and CTR extreme), checks (array of CheckResult), bode (Table), bode_svg (text)",
+    returns: "map: summary (record), divider (record), bias (record), bias_cases (Table), compensation (record), margins (Table, one row per corner and CTR extreme), checks (array of CheckResult), bode (Table), bode_svg (text), report (Markdown with the safety caution)",
     example: "flyback_regulation(flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A}), #{}).summary.phase_margin_worst_degrees",
 };
 
@@ -457,30 +457,26 @@ fn regulation(st: &HostState, d: &ScriptFlyback, m: &Map) -> Result<Map> {
         None => r.worst_case(),
     };
     let pts = feedback::bode_points(&case.plant, &r.compensation.network, case.ctr, spec.points)?;
+    let volts =
+        crate::units::format_number(d.spec().outputs[d.spec().regulated_output].voltage.value);
     let title = format!(
-        "Loop of the {} V output at {} ({}, CTR {})",
-        crate::units::format_number(d.spec().outputs[d.spec().regulated_output].voltage.value),
+        "Loop of the {volts} V output at {} ({}, CTR {})",
         case.corner,
         case.ctr_case,
         crate::units::format_number(case.ctr)
     );
     let mut out = Map::new();
-    let rec = |k: &'static str, r: &dyn Fn() -> ScriptRecord| (k, Dynamic::from(r()));
-    for (k, v) in [
-        rec("summary", &|| {
-            ScriptRecord::from_record("flyback_regulation", &r)
-        }),
-        rec("divider", &|| {
-            ScriptRecord::from_record("output_divider", &r.divider)
-        }),
-        rec("bias", &|| {
-            ScriptRecord::from_record("optocoupler_bias", &r.bias)
-        }),
-        rec("compensation", &|| {
-            ScriptRecord::from_record("compensation_type2", &r.compensation)
-        }),
-    ] {
-        out.insert(k.into(), v);
+    let records = [
+        ScriptRecord::from_record("flyback_regulation", &r),
+        ScriptRecord::from_record("output_divider", &r.divider),
+        ScriptRecord::from_record("optocoupler_bias", &r.bias),
+        ScriptRecord::from_record("compensation_type2", &r.compensation),
+    ];
+    for (k, v) in ["summary", "divider", "bias", "compensation"]
+        .into_iter()
+        .zip(records)
+    {
+        out.insert(k.into(), Dynamic::from(v));
     }
     out.insert("bias_cases".into(), Dynamic::from(r.bias.table()));
     out.insert("margins".into(), Dynamic::from(r.margins_table()));
@@ -488,6 +484,13 @@ fn regulation(st: &HostState, d: &ScriptFlyback, m: &Map) -> Result<Map> {
     out.insert(
         "bode_svg".into(),
         Dynamic::from(feedback::bode_svg(&pts, &case.margins, &title)),
+    );
+    out.insert(
+        "report".into(),
+        Dynamic::from(feedback::regulation_report_markdown(
+            &r,
+            &format!("Regulation of the {volts} V output"),
+        )),
     );
     out.insert(
         "checks".into(),
