@@ -253,9 +253,9 @@ fn independent_ccm(p: &LoopPlant, f: f64) -> C {
         m.swap(k, piv);
         for i in k + 1..3 {
             let q = m[i][k] / m[k][k];
-            for j in k..4 {
-                let v = m[k][j];
-                m[i][j] -= q * v;
+            let pivot_row = m[k].clone();
+            for (mij, v) in m[i].iter_mut().zip(pivot_row).skip(k) {
+                *mij -= q * v;
             }
         }
     }
@@ -470,11 +470,13 @@ fn regulation_reports_every_corner_at_both_ctr_extremes() {
 #[test]
 fn regulation_rules_are_overridable_by_id() {
     let (spec, d) = demo();
-    let mut reg = RegulationSpec::default();
-    reg.rule_limits = vec![(
-        "phase_margin_minimum".into(),
-        gapwise::units::Quantity::number(89.0),
-    )];
+    let mut reg = RegulationSpec {
+        rule_limits: vec![(
+            "phase_margin_minimum".into(),
+            gapwise::units::Quantity::number(89.0),
+        )],
+        ..RegulationSpec::default()
+    };
     let r = flyback_regulation(&d, &spec, &reg).unwrap();
     let c = r
         .checks
@@ -497,8 +499,10 @@ fn regulation_rules_are_overridable_by_id() {
 #[test]
 fn crossover_above_half_the_switching_frequency_is_refused() {
     let (spec, d) = demo();
-    let mut reg = RegulationSpec::default();
-    reg.crossover_frequency = Some(si(70e3));
+    let reg = RegulationSpec {
+        crossover_frequency: Some(si(70e3)),
+        ..RegulationSpec::default()
+    };
     let e = flyback_regulation(&d, &spec, &reg).unwrap_err();
     assert_eq!(e.kind(), ErrorKind::OutOfRange);
     assert!(

@@ -27,7 +27,8 @@ fn regulation_recipe_writes_a_bode_plot_and_the_margins() {
     let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("scripts/fernbank_regulation.rhai");
     let source = std::fs::read_to_string(&path).expect("readable");
     let h = host();
-    h.eval(&source, &path.display().to_string())
+    let _ = h
+        .eval(&source, &path.display().to_string())
         .unwrap_or_else(|e| panic!("{e}"));
     let texts = h.take_texts();
     let svg = texts
