@@ -677,3 +677,53 @@ fn a_five_volt_output_needs_the_fast_lane_cut() {
     assert!((r.compensation.network.zero_frequency().value / fz - 1.0).abs() < 1e-12);
     assert!(r.worst_phase_margin().unwrap() >= 45.0);
 }
+
+proptest! {
+    #![proptest_config(ProptestConfig { cases: 128, ..ProptestConfig::default() })]
+
+    #[test]
+    fn divider_and_bias_are_finite_or_refuse(
+        vout in -5.0f64..100.0, vref in -1.0f64..10.0, iref in -1e-6f64..1e-4,
+        idiv in -1e-4f64..1e-2, tol in -0.01f64..0.3, ctr_min in -0.1f64..3.0,
+        ctr_max in -0.1f64..3.0, vf in -0.5f64..2.0, fb in prop::bool::ANY,
+    ) {
+        let r = ShuntReference {
+            reference_voltage: si(vref),
+            reference_input_current: si(iref),
+            ..ShuntReference::generic_2v5()
+        };
+        let mut spec = OutputDividerSpec::new(si(vout), r);
+        spec.divider_current = si(idiv);
+        spec.resistor_tolerance = tol;
+        if let Ok(d) = output_divider(&spec) {
+            for v in [d.output_voltage, d.output_voltage_min, d.output_voltage_max,
+                      d.output_voltage_rss_deviation] {
+                prop_assert!(v.value.is_finite());
+            }
+            prop_assert!(d.divider_power.value.is_finite() && d.divider_power.value >= 0.0);
+        }
+        let mut b = bias_spec();
+        b.output_voltage = si(vout);
+        b.reference = r;
+        b.optocoupler.ctr_min = ctr_min;
+        b.optocoupler.ctr_max = ctr_max;
+        b.optocoupler.led_forward_voltage = si(vf);
+        if fb {
+            b.feedback = FeedbackInput::Current {
+                zero_duty: si(idiv.abs() * 0.1),
+                full_duty: si(idiv.abs() * 0.02),
+                pin_resistance: si(10e3),
+            };
+        }
+        match optocoupler_bias(&b, None) {
+            Ok(x) => {
+                prop_assert!(x.led_resistor.value.is_finite() && x.led_resistor.value > 0.0);
+                for p in &x.points {
+                    prop_assert!(p.within_limits, "{:?}", p);
+                    prop_assert!(p.cathode_voltage.value.is_finite());
+                }
+            }
+            Err(e) => prop_assert!(!e.message().is_empty()),
+        }
+    }
+}

@@ -211,9 +211,10 @@ impl LoopPlant {
         g1 * h_filter
     }
 
-    /// Current loop alone (output held, v̂₁ = 0), î_L/î_c = F_m·(V_in + V_r)/(s·L_p + F_m·(V_in +
-    /// V_r)·H_e(s)): Ridley's double pole 1/(1 + s/(ω_n·Q_p) + s²/ω_n²) times a low-frequency
-    /// pole near ω_n/(π·m_c·D'·Q_p)… (CCM only; None in DCM).
+    /// Current loop alone (output held, v̂₁ = 0), î_L/î_c = A/(s·L_p + A·H_e(s)) with
+    /// A = F_m·(V_in + V_r) = L_p/(D'·m_c·T_s): exactly Ridley's double pole
+    /// 1/(1 + s/(ω_n·Q_p) + s²/ω_n²), Q_p = 1/(π·(m_c·D' − 0.5)), ω_n = π/T_s, with H_e in its
+    /// quadratic form. CCM only; None in DCM. Reference: Ridley (1991).
     pub fn current_loop(&self, frequency: Frequency) -> Option<Complex64> {
         if !self.is_ccm() {
             return None;
