@@ -727,3 +727,73 @@ proptest! {
         }
     }
 }
+
+#[test]
+fn line_sense_voltage_input_worked_example() {
+    // brown-in 85 V RMS at a 1.25 V pin threshold, 10 µA in the string; worked by hand
+    // (divider and √2 peak): R_low = 125 kΩ → E96 124 kΩ; string 124 kΩ·(120.208/1.25 − 1)
+    // = 11.8006 MΩ, two resistors of 5.90 MΩ (E96); brown-in 1.25·(1 + 11.8/0.124)/√2 =
+    // 84.996 V; brown-out at 1.0 V: 67.997 V; line over-voltage at 3 V: 203.99 V
+    let r = line_sense_resistors(&LineSenseSpec {
+        input: LineSenseInput::Voltage {
+            brown_in_threshold: si(1.25),
+            brown_out_threshold: si(1.0),
+            overvoltage_threshold: Some(si(3.0)),
+        },
+        brown_in_line_voltage: si(85.0),
+        max_line_voltage: si(264.0),
+        sense_drop: si(0.0),
+        series: ESeries::E96,
+        resistor_tolerance: 0.01,
+        threshold_tolerance: 0.02,
+        max_voltage_per_resistor: si(200.0),
+        string_current: si(10e-6),
+    })
+    .unwrap();
+    assert!((r.lower_resistor.unwrap().value - 124e3).abs() < 1e-6);
+    assert_eq!(r.string_count, 2);
+    assert!((r.string_resistor.value - 5.90e6).abs() < 1e-3);
+    assert!((r.brown_in.nominal.value - 84.996).abs() < 0.01);
+    assert!((r.brown_out.nominal.value - 67.997).abs() < 0.01);
+    assert!((r.overvoltage.unwrap().nominal.value - 203.99).abs() < 0.01);
+    // tolerance widens each threshold around its nominal value
+    let t = r.brown_in;
+    assert!(t.min.value < t.nominal.value && t.max.value > t.nominal.value);
+    // bad input names the parameter
+    let mut bad = LineSenseSpec {
+        brown_in_line_voltage: si(-85.0),
+        ..LineSenseSpec {
+            input: LineSenseInput::Voltage {
+                brown_in_threshold: si(1.25),
+                brown_out_threshold: si(1.0),
+                overvoltage_threshold: None,
+            },
+            brown_in_line_voltage: si(85.0),
+            max_line_voltage: si(264.0),
+            sense_drop: si(0.0),
+            series: ESeries::E96,
+            resistor_tolerance: 0.01,
+            threshold_tolerance: 0.02,
+            max_voltage_per_resistor: si(200.0),
+            string_current: si(10e-6),
+        }
+    };
+    let e = line_sense_resistors(&bad).unwrap_err();
+    assert!(
+        e.message().contains("brown_in_line_voltage"),
+        "{}",
+        e.message()
+    );
+    bad.brown_in_line_voltage = si(85.0);
+    bad.input = LineSenseInput::Voltage {
+        brown_in_threshold: si(1.0),
+        brown_out_threshold: si(1.25),
+        overvoltage_threshold: None,
+    };
+    let e = line_sense_resistors(&bad).unwrap_err();
+    assert!(
+        e.message().contains("brown_out_threshold"),
+        "{}",
+        e.message()
+    );
+}
