@@ -83,7 +83,7 @@ pub struct Trim {
 
 /// Largest trim resistor, as a multiple of the resistor it parallels (common practice, no
 /// published source).
-pub const MAX_TRIM_RATIO: f64 = 100.0;
+pub const MAX_TRIM_RATIO: f64 = 1000.0;
 
 fn parallel(a: f64, b: f64) -> f64 {
     a * b / (a + b)
@@ -377,7 +377,7 @@ fn best_trim(
         let want = vref * rt / head;
         (TrimPosition::Lower, 1.0 / (1.0 / want - 1.0 / rb))
     };
-    // a trim more than a hundred times its partner moves the output by less than 1 %, which
+    // a trim more than a thousand times its partner moves the output by less than 0.1 %, which
     // the resistors' own tolerance swamps; above 10 MΩ board leakage takes over
     let partner = if position == TrimPosition::Upper {
         rt

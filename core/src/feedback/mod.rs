@@ -42,7 +42,7 @@ pub use compensation::{
 };
 pub use divider::{
     divider_output_range, divider_output_voltage, output_divider, DividerRange, OutputDivider,
-    OutputDividerSpec, ShuntReference, Trim, TrimPosition,
+    OutputDividerSpec, ShuntReference, Trim, TrimPosition, MAX_TRIM_RATIO,
 };
 pub use line_sense::{
     line_sense_resistors, LineSense, LineSenseInput, LineSenseSpec, LineThreshold,
