@@ -1,5 +1,5 @@
-//! Benchmarks: native call vs the same call from a compiled script, and families of 10,000
-//! variants on one core and on all cores. Run with `cargo bench`; the numbers go into the
+//! Benchmarks: native call vs the same call from a compiled script, families of 10,000
+//! variants on one core and on all cores, and one loop analysis of a regulated design. Run with `cargo bench`; the numbers go into the
 //! README. A small timing loop of our own keeps the build light: each case is warmed up,
 //! then timed in 7 samples of about 0.3 s, and the median is reported.
 
@@ -212,6 +212,41 @@ fn isolation(host: &ScriptHost) {
     });
 }
 
+fn regulation(host: &ScriptHost) {
+    use gapwise::feedback::{flyback_regulation, RegulationSpec};
+    use gapwise::flyback::{flyback_design, FlybackSpec, OutputWinding};
+    use gapwise::units::si;
+    println!(
+        "-- one loop analysis: compensation, 4 corners × 2 CTR extremes, 200 frequencies each"
+    );
+    let spec = FlybackSpec::universal(OutputWinding::new(si(12.0), si(1.25)));
+    let design = flyback_design(&spec).expect("design");
+    let reg = RegulationSpec::default();
+    time_per_iteration("native flyback_regulation, 12 V / 1.25 A", 1, || {
+        black_box(flyback_regulation(black_box(&design), &spec, &reg).ok());
+    });
+    let d = host
+        .eval(
+            "flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A})",
+            "<bench>",
+        )
+        .expect("design");
+    let mut scope = Scope::new();
+    scope.push("d", d);
+    let source = "flyback_regulation(d, #{})";
+    let ast = compile(host, source);
+    time_per_iteration(
+        "script flyback_regulation (with Bode table and SVG)",
+        1,
+        || {
+            let mut s = scope.clone();
+            drop(black_box(
+                host.run(&ast, &mut s, source, "<bench>").expect("runs"),
+            ));
+        },
+    );
+}
+
 fn main() {
     // `cargo test --benches` passes --bench-less flags; only time under `cargo bench`.
     if std::env::args().any(|a| a == "--list") {
@@ -227,4 +262,5 @@ fn main() {
     flyback(&host);
     transformer(&host);
     isolation(&host);
+    regulation(&host);
 }

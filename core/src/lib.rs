@@ -28,6 +28,7 @@
 
 pub mod emi;
 mod error;
+pub mod feedback;
 pub mod flyback;
 pub mod magnetics;
 pub mod mains;

@@ -4,6 +4,7 @@
 mod common;
 mod design_flow;
 mod emi;
+mod feedback;
 mod flyback;
 mod magnetics;
 mod mains;

@@ -7,6 +7,7 @@
 mod api_design_flow;
 mod api_emi;
 mod api_family;
+mod api_feedback;
 mod api_flyback;
 mod api_magnetics;
 mod api_mains;
@@ -112,5 +113,6 @@ pub(crate) fn register_all(
     api_emi::register(&mut api, state);
     api_mains::register(&mut api);
     api_flyback::register(&mut api, state);
+    api_feedback::register(&mut api, state);
     api_design_flow::register(&mut api);
 }

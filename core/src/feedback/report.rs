@@ -1,0 +1,61 @@
+//! The regulation as a Markdown report: summary, divider, bias cases, compensation, margins at
+//! every corner and CTR extreme, and rules, with the safety caution.
+
+use super::regulation::Regulation;
+use crate::report::{Record, Table, SAFETY_CAUTION};
+use std::fmt::Write;
+
+fn markdown_table(t: &Table) -> String {
+    let cols = t.column_names().to_vec();
+    let mut s = String::new();
+    let _ = writeln!(s, "| {} |", cols.join(" | "));
+    let _ = writeln!(s, "|{}", "---|".repeat(cols.len()));
+    for r in 0..t.len() {
+        let cells: Vec<String> = cols
+            .iter()
+            .map(|c| t.get(r, c).map(|v| v.to_string()).unwrap_or_default())
+            .collect();
+        let _ = writeln!(s, "| {} |", cells.join(" | "));
+    }
+    s
+}
+
+fn record_table(s: &mut String, r: &dyn Record) {
+    let _ = writeln!(s, "| quantity | value |\n|---|---|");
+    for f in r.fields() {
+        let _ = writeln!(s, "| {} | {} |", f.name, f.value);
+    }
+}
+
+/// The regulation as a Markdown report with the safety caution; `title` heads it.
+///
+/// No calculation: the summary, the divider, the bias cases, the compensation, the margins
+/// table and the rule results, each as a Markdown table, and [`crate::SAFETY_CAUTION`] under
+/// the title.
+pub fn regulation_report_markdown(regulation: &Regulation, title: &str) -> String {
+    let mut s = String::new();
+    let _ = writeln!(s, "# {title}\n");
+    let _ = writeln!(s, "> {SAFETY_CAUTION}\n");
+    let _ = writeln!(s, "## Summary\n");
+    record_table(&mut s, regulation);
+    let _ = writeln!(s, "\n## Output divider\n");
+    record_table(&mut s, &regulation.divider);
+    let _ = writeln!(s, "\n## Shunt reference and optocoupler bias\n");
+    record_table(&mut s, &regulation.bias);
+    s.push('\n');
+    s.push_str(&markdown_table(&regulation.bias.table()));
+    let _ = writeln!(s, "\n## Compensation\n");
+    record_table(&mut s, &regulation.compensation);
+    let _ = writeln!(s, "\n## Loop margins at every corner and CTR extreme\n");
+    s.push_str(&markdown_table(&regulation.margins_table()));
+    let _ = writeln!(s, "\n## Regulation rules\n");
+    s.push_str(&markdown_table(&crate::rules::checks_table(
+        &regulation.checks,
+    )));
+    let _ = writeln!(
+        s,
+        "\nSmall-signal model valid to half the switching frequency; measure the loop on the \
+         bench with a loop analyser before release."
+    );
+    s
+}
