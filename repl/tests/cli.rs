@@ -819,8 +819,21 @@ fn one_or_two_threads_write_byte_identical_files_issue_10() {
         assert_eq!(r.code, 0, "{}", r.stderr);
         // the table files; provenance.json differs only by its date
         outputs.push(std::fs::read(out.join("fernbank_family.csv")).unwrap());
+        let json = d.join(format!("j{threads}"));
+        let mut c = command(&[
+            "run",
+            "scripts/fernbank_family.rhai",
+            "--out",
+            json.to_str().unwrap(),
+            "--format",
+            "json",
+        ]);
+        c.env("RAYON_NUM_THREADS", threads);
+        assert_eq!(finish(c.output().unwrap()).code, 0);
+        outputs.push(std::fs::read(json.join("fernbank_family.json")).unwrap());
     }
-    assert_eq!(outputs[0], outputs[1]);
+    assert_eq!(outputs[0], outputs[2], "CSV");
+    assert_eq!(outputs[1], outputs[3], "JSON");
     std::fs::remove_dir_all(&d).unwrap();
 }
 
@@ -976,4 +989,16 @@ fn version_names_the_data_table_editions_issue_10() {
     ] {
         assert!(r.stdout.contains(edition), "{edition}: {}", r.stdout);
     }
+}
+
+#[test]
+fn load_runs_only_recipes_and_never_echoes_another_file_issue_16() {
+    let d = temp_dir("load-other");
+    let secret = d.join("notes.txt");
+    std::fs::write(&secret, "token=do-not-print-me (\n").unwrap();
+    let r = gapwise_with_stdin(&[], &format!(":load {}\n", secret.display()), None);
+    assert!(r.stderr.contains("`:load` runs recipes"), "{}", r.stderr);
+    assert!(!r.stderr.contains("do-not-print-me"), "{}", r.stderr);
+    assert!(!r.stdout.contains("do-not-print-me"), "{}", r.stdout);
+    std::fs::remove_dir_all(&d).unwrap();
 }
