@@ -764,10 +764,15 @@ fn provenance_names_the_recipe_hash_sets_and_files_issue_10() {
 #[test]
 fn every_output_reads_back_through_a_csv_and_a_json_reader_issue_10() {
     let d = temp_dir("round-trip");
-    for recipe in [
-        "scripts/fernbank_family.rhai",
-        "scripts/fernbank_isolation.rhai",
-    ] {
+    let mut recipes: Vec<String> = std::fs::read_dir(workspace_root().join("scripts"))
+        .unwrap()
+        .map(|e| e.unwrap().path())
+        .filter(|p| p.extension().is_some_and(|x| x == "rhai"))
+        .map(|p| format!("scripts/{}", p.file_name().unwrap().to_string_lossy()))
+        .collect();
+    recipes.sort();
+    assert!(recipes.len() >= 6, "{recipes:?}");
+    for recipe in &recipes {
         for format in ["csv", "json"] {
             let out = d.join(format!("{}-{format}", recipe.replace('/', "_")));
             let r = gapwise(&[

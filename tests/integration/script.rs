@@ -197,3 +197,21 @@ fn wrong_arguments_to_a_gapwise_function_say_what_it_takes() {
     let e = eval_err("no_such_function(1)").to_string();
     assert!(e.contains("Function not found"), "{e}");
 }
+
+#[test]
+fn a_script_record_serialises_with_units_issue_10() {
+    let h = host();
+    let v = h
+        .eval(
+            "resistor_divider(#{output_voltage: 12 * V, reference_voltage: 2.5 * V, series: \"E96\"})",
+            "<test>",
+        )
+        .unwrap();
+    let r = v
+        .read_lock::<gapwise::script::ScriptRecord>()
+        .expect("a record")
+        .clone();
+    let j: serde_json::Value = serde_json::from_str(&serde_json::to_string(&r).unwrap()).unwrap();
+    assert_eq!(j["upper_resistor"]["unit"], "Ω");
+    assert_eq!(j["actual_output_voltage"]["dimension"], "voltage");
+}
