@@ -1007,3 +1007,25 @@ fn load_runs_only_recipes_and_never_echoes_another_file_issue_16() {
     assert!(!r.stdout.contains("do-not-print-me"), "{}", r.stdout);
     std::fs::remove_dir_all(&d).unwrap();
 }
+
+#[test]
+fn headers_and_results_use_derived_units_never_base_units_issue_10() {
+    let r = gapwise(&["eval", "3 * V / m"]);
+    assert_eq!(r.stdout.trim(), "3 V/m", "{}", r.stderr);
+    let d = temp_dir("derived");
+    let path = write_recipe(
+        &d,
+        "e.rhai",
+        r#"output_table("t", table([#{field: 3 * V / m, conductance_per_kelvin: 2 * W / K, square: 4 * ohm * ohm}]));"#,
+    );
+    let r = gapwise(&["run", path.to_str().unwrap(), "--format", "csv"]);
+    assert_eq!(r.code, 0, "{}", r.stderr);
+    assert_eq!(
+        r.stdout.lines().next(),
+        Some("field [V/m],conductance_per_kelvin [W/K],square [Ω²]"),
+        "{}",
+        r.stdout
+    );
+    assert!(!r.stdout.contains("kg"), "{}", r.stdout);
+    std::fs::remove_dir_all(&d).unwrap();
+}
