@@ -1029,3 +1029,38 @@ fn headers_and_results_use_derived_units_never_base_units_issue_10() {
     assert!(!r.stdout.contains("kg"), "{}", r.stdout);
     std::fs::remove_dir_all(&d).unwrap();
 }
+
+#[test]
+fn provenance_of_tables_printed_on_stdout_goes_to_a_file_on_request_issue_10() {
+    let d = temp_dir("provenance-file");
+    let path = write_recipe(&d, "u.rhai", UNITS_RECIPE);
+    let file = d.join("run.provenance.json");
+    let r = gapwise(&[
+        "run",
+        path.to_str().unwrap(),
+        "--format",
+        "csv",
+        "--provenance",
+        file.to_str().unwrap(),
+    ]);
+    assert_eq!(r.code, 0, "{}", r.stderr);
+    assert!(r.stdout.starts_with("inductance [µH]"), "{}", r.stdout);
+    let p: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(&file).unwrap()).unwrap();
+    assert_eq!(p["format"], "gapwise-provenance");
+    assert_eq!(p["recipe"]["path"], path.to_str().unwrap());
+    let both = gapwise(&[
+        "run",
+        path.to_str().unwrap(),
+        "--out",
+        "x",
+        "--provenance",
+        "y",
+    ]);
+    assert_eq!(
+        both.code, 2,
+        "--provenance goes without --out: {}",
+        both.stderr
+    );
+    std::fs::remove_dir_all(&d).unwrap();
+}
