@@ -104,6 +104,10 @@ pub struct RunArgs {
     pub format: Option<Format>,
     #[command(flatten)]
     pub write: WriteArgs,
+    /// Without --out: also write the run's provenance (recipe hash, --set values, date,
+    /// data-table editions) to FILE, as --out does into DIR/provenance.json.
+    #[arg(long, value_name = "FILE", conflicts_with = "out")]
+    pub provenance: Option<PathBuf>,
     /// Exit with code 3 when any design-rule check failed.
     #[arg(long)]
     pub strict: bool,

@@ -454,10 +454,12 @@ fn command(session: &Rc<RefCell<Session>>, line: &str) -> Flow {
         ":load" if arg.is_empty() => {
             eprintln!("error: `:load` needs a file, e.g. `:load scripts/fernbank_family.rhai`")
         }
-        ":load" if !arg.ends_with(".rhai") => {
-            // a file that is not a recipe is not read: its lines would show in the error
-            eprintln!("error: `:load` takes a recipe file ending in .rhai, got `{arg}`")
-        }
+        // only recipes: an error in a loaded file shows its line, which must not become a
+        // way to print lines of any file (issue 16)
+        ":load" if !arg.ends_with(".rhai") => eprintln!(
+            "error: `:load` runs recipes (files ending in .rhai); `{}` is not one",
+            elide(arg, 200)
+        ),
         ":load" => match std::fs::read_to_string(arg) {
             Ok(source) => run_entry(session, &source, arg),
             Err(e) => eprintln!("error: cannot read {arg}: {e}"),
@@ -471,6 +473,16 @@ fn command(session: &Rc<RefCell<Session>>, line: &str) -> Flow {
         }
     }
     Flow::Go
+}
+
+/// `text` cut to about `max` characters, with the number of characters left out.
+fn elide(text: &str, max: usize) -> String {
+    let n = text.chars().count();
+    if n <= max {
+        return text.to_string();
+    }
+    let head: String = text.chars().take(max).collect();
+    format!("{head}… ({} more characters)", n - max)
 }
 
 /// `:vars`: every variable with its value (one line each), then the session's functions.

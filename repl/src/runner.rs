@@ -202,6 +202,9 @@ pub fn run(args: &RunArgs, limits: EngineLimits) -> Result<(), Failure> {
         &provenance,
         None,
     )?;
+    if let Some(file) = &args.provenance {
+        write_provenance_file(file, &provenance, &args.write.options())?;
+    }
     let failed = host.take_failed_checks();
     let error_rows: usize = outputs.iter().map(|(_, t)| t.error_count()).sum();
     if args.strict && (failed > 0 || error_rows > 0) {
@@ -326,6 +329,25 @@ pub fn write_outputs(
         }
         None => {}
     }
+    Ok(())
+}
+
+/// Writes the provenance document alone to `file` (for tables printed on stdout).
+fn write_provenance_file(
+    file: &Path,
+    provenance: &Provenance,
+    options: &WriteOptions,
+) -> anyhow::Result<()> {
+    let name = file
+        .file_name()
+        .map(|n| n.to_string_lossy().to_string())
+        .ok_or_else(|| anyhow::anyhow!("--provenance needs a file name, got {}", file.display()))?;
+    let dir = file
+        .parent()
+        .filter(|p| !p.as_os_str().is_empty())
+        .unwrap_or(Path::new("."));
+    let text = provenance.to_json(options, &[]) + "\n";
+    write_files_atomically(dir, &[(name, text.into_bytes())])?;
     Ok(())
 }
 

@@ -860,10 +860,15 @@ fn provenance_names_the_recipe_hash_sets_and_files_issue_10() {
 #[test]
 fn every_output_reads_back_through_a_csv_and_a_json_reader_issue_10() {
     let d = temp_dir("round-trip");
-    for recipe in [
-        "scripts/fernbank_family.rhai",
-        "scripts/fernbank_isolation.rhai",
-    ] {
+    let mut recipes: Vec<String> = std::fs::read_dir(workspace_root().join("scripts"))
+        .unwrap()
+        .map(|e| e.unwrap().path())
+        .filter(|p| p.extension().is_some_and(|x| x == "rhai"))
+        .map(|p| format!("scripts/{}", p.file_name().unwrap().to_string_lossy()))
+        .collect();
+    recipes.sort();
+    assert!(recipes.len() >= 6, "{recipes:?}");
+    for recipe in &recipes {
         for format in ["csv", "json"] {
             let out = d.join(format!("{}-{format}", recipe.replace('/', "_")));
             let r = gapwise(&[
@@ -915,8 +920,21 @@ fn one_or_two_threads_write_byte_identical_files_issue_10() {
         assert_eq!(r.code, 0, "{}", r.stderr);
         // the table files; provenance.json differs only by its date
         outputs.push(std::fs::read(out.join("fernbank_family.csv")).unwrap());
+        let json = d.join(format!("j{threads}"));
+        let mut c = command(&[
+            "run",
+            "scripts/fernbank_family.rhai",
+            "--out",
+            json.to_str().unwrap(),
+            "--format",
+            "json",
+        ]);
+        c.env("RAYON_NUM_THREADS", threads);
+        assert_eq!(finish(c.output().unwrap()).code, 0);
+        outputs.push(std::fs::read(json.join("fernbank_family.json")).unwrap());
     }
-    assert_eq!(outputs[0], outputs[1]);
+    assert_eq!(outputs[0], outputs[2], "CSV");
+    assert_eq!(outputs[1], outputs[3], "JSON");
     std::fs::remove_dir_all(&d).unwrap();
 }
 
@@ -1072,4 +1090,73 @@ fn version_names_the_data_table_editions_issue_10() {
     ] {
         assert!(r.stdout.contains(edition), "{edition}: {}", r.stdout);
     }
+}
+
+#[test]
+fn load_runs_only_recipes_and_never_echoes_another_file_issue_16() {
+    let d = temp_dir("load-other");
+    let secret = d.join("notes.txt");
+    std::fs::write(&secret, "token=do-not-print-me (\n").unwrap();
+    let r = gapwise_with_stdin(&[], &format!(":load {}\n", secret.display()), None);
+    assert!(r.stderr.contains("`:load` runs recipes"), "{}", r.stderr);
+    assert!(!r.stderr.contains("do-not-print-me"), "{}", r.stderr);
+    assert!(!r.stdout.contains("do-not-print-me"), "{}", r.stdout);
+    std::fs::remove_dir_all(&d).unwrap();
+}
+
+#[test]
+fn headers_and_results_use_derived_units_never_base_units_issue_10() {
+    let r = gapwise(&["eval", "3 * V / m"]);
+    assert_eq!(r.stdout.trim(), "3 V/m", "{}", r.stderr);
+    let d = temp_dir("derived");
+    let path = write_recipe(
+        &d,
+        "e.rhai",
+        r#"output_table("t", table([#{field: 3 * V / m, conductance_per_kelvin: 2 * W / K, square: 4 * ohm * ohm}]));"#,
+    );
+    let r = gapwise(&["run", path.to_str().unwrap(), "--format", "csv"]);
+    assert_eq!(r.code, 0, "{}", r.stderr);
+    assert_eq!(
+        r.stdout.lines().next(),
+        Some("field [V/m],conductance_per_kelvin [W/K],square [Ω²]"),
+        "{}",
+        r.stdout
+    );
+    assert!(!r.stdout.contains("kg"), "{}", r.stdout);
+    std::fs::remove_dir_all(&d).unwrap();
+}
+
+#[test]
+fn provenance_of_tables_printed_on_stdout_goes_to_a_file_on_request_issue_10() {
+    let d = temp_dir("provenance-file");
+    let path = write_recipe(&d, "u.rhai", UNITS_RECIPE);
+    let file = d.join("run.provenance.json");
+    let r = gapwise(&[
+        "run",
+        path.to_str().unwrap(),
+        "--format",
+        "csv",
+        "--provenance",
+        file.to_str().unwrap(),
+    ]);
+    assert_eq!(r.code, 0, "{}", r.stderr);
+    assert!(r.stdout.starts_with("inductance [µH]"), "{}", r.stdout);
+    let p: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(&file).unwrap()).unwrap();
+    assert_eq!(p["format"], "gapwise-provenance");
+    assert_eq!(p["recipe"]["path"], path.to_str().unwrap());
+    let both = gapwise(&[
+        "run",
+        path.to_str().unwrap(),
+        "--out",
+        "x",
+        "--provenance",
+        "y",
+    ]);
+    assert_eq!(
+        both.code, 2,
+        "--provenance goes without --out: {}",
+        both.stderr
+    );
+    std::fs::remove_dir_all(&d).unwrap();
 }

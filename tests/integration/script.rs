@@ -341,3 +341,21 @@ fn a_design_prints_its_summary_not_its_type() {
         "{text}"
     );
 }
+
+#[test]
+fn a_script_record_serialises_with_units_issue_10() {
+    let h = host();
+    let v = h
+        .eval(
+            "resistor_divider(#{output_voltage: 12 * V, reference_voltage: 2.5 * V, series: \"E96\"})",
+            "<test>",
+        )
+        .unwrap();
+    let r = v
+        .read_lock::<gapwise::script::ScriptRecord>()
+        .expect("a record")
+        .clone();
+    let j: serde_json::Value = serde_json::from_str(&serde_json::to_string(&r).unwrap()).unwrap();
+    assert_eq!(j["upper_resistor"]["unit"], "Ω");
+    assert_eq!(j["actual_output_voltage"]["dimension"], "voltage");
+}

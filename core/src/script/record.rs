@@ -52,3 +52,16 @@ impl ScriptRecord {
         s
     }
 }
+
+/// Serialises as [`crate::report::serialize_record`] does: the fields in order, quantities
+/// with their unit, so a host embedding the engine gets JSON from a script's result.
+impl serde::Serialize for ScriptRecord {
+    fn serialize<S: serde::Serializer>(&self, s: S) -> Result<S::Ok, S::Error> {
+        use serde::ser::SerializeMap;
+        let mut m = s.serialize_map(Some(self.fields.len()))?;
+        for f in self.fields.iter() {
+            m.serialize_entry(&f.name, &f.value)?;
+        }
+        m.end()
+    }
+}
