@@ -159,8 +159,9 @@ fn choose_inductance(mode: ModeTarget, vin: f64, p: f64, vr: f64, f: f64) -> f64
 /// and high line, or at the load where the duty reaches `max_duty_cycle` if that comes first
 /// (the current-limit corners stay at the current limit, the peak a start-up or a short
 /// reaches, and may show a duty above the limit). (6) Rules from [`flyback_rule_book`] are checked.
-/// Assumptions: fixed frequency, ideal coupling between secondaries (each rectifier's
-/// current is the pulse shape scaled to its load current), constant-power load on the bulk
+/// Assumptions: fixed frequency, ideal coupling between secondaries (at turn-off the
+/// magnetising ampere-turns N_p·I_pk move to the secondaries, each winding taking the share of
+/// its power, and fall at the off-time volt-seconds; see [`super::SecondaryPoint`]), constant-power load on the bulk
 /// capacitor, operating point at the bulk valley, drain peak at the bulk peak, light load
 /// without burst or frequency foldback. Valid for the 5–75 W class; inputs are checked.
 /// Errors: a duty limit no bulk capacitor can meet (`max_duty_cycle`), a bulk capacitor too
@@ -352,7 +353,8 @@ pub fn flyback_design(spec: &FlybackSpec) -> Result<FlybackDesign> {
         }
         let vin = op.bulk_valley_voltage.value;
         let new_l = match (spec.primary_inductance, spec.mode) {
-            (None, Some(m)) => choose_inductance(m, vin, p_dc, vr, f),
+            // the inductance stores the magnetising power (the cycle moves that power)
+            (None, Some(m)) => choose_inductance(m, vin, op.magnetising_power.value, vr, f),
             _ => l,
         };
         let ilim = spec.current_limit.map(|i| i.value).unwrap_or(
@@ -477,7 +479,7 @@ pub fn flyback_design(spec: &FlybackSpec) -> Result<FlybackDesign> {
     let p_dc = design_op.converter_input_power.value;
     let dmax = spec.max_duty_cycle;
     let v_needed_ccm = vr * (1.0 - dmax) / dmax;
-    let v_needed_dcm = (2.0 * p_dc * l * f).sqrt() / dmax;
+    let v_needed_dcm = (2.0 * design_op.magnetising_power.value * l * f).sqrt() / dmax;
     let bulk_valley_needed = v_needed_ccm.min(v_needed_dcm);
     let hold_up_end = spec
         .hold_up_end_voltage
@@ -824,11 +826,11 @@ impl Record for FlybackDesign {
             // 1 or more: DCM at every load (converter input power ratio, an approximation of load)
             Field::new(
                 "dcm_below_load_low_line",
-                c0.boundary_power.value / c0.converter_input_power.value,
+                c0.boundary_power.value / c0.magnetising_power.value,
             ),
             Field::new(
                 "dcm_below_load_high_line",
-                c2.boundary_power.value / c2.converter_input_power.value,
+                c2.boundary_power.value / c2.magnetising_power.value,
             ),
             Field::new("duty_cycle_max", max_of(&|c: &OperatingPoint| c.duty_cycle)),
             Field::quantity("current_limit", self.current_limit),

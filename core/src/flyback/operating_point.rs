@@ -3,7 +3,7 @@
 
 use super::clamp::{clamp_at, ClampDesign};
 use super::losses::LossBudget;
-use super::output::{secondary_point, SecondaryPoint};
+use super::output::{secondary_point, SecondaryPoint, SecondaryWave};
 use super::spec::{EfficiencyModel, FlybackSpec, InputRange};
 use super::waveform::{cycle_for_power, trapezoid_avg, trapezoid_rms, ConductionMode, Cycle};
 use crate::error::{Error, Result};
@@ -29,8 +29,15 @@ pub struct OperatingPoint {
     pub output_power: Power,
     /// Power drawn from the line.
     pub input_power: Power,
-    /// Power drawn from the bulk capacitor by the converter (stored in the primary inductance).
+    /// Power drawn from the bulk capacitor by the converter.
     pub converter_input_power: Power,
+    /// Power stored in and released by the magnetising inductance each second, ½·L·(I_pk² −
+    /// I_v²)·f: the converter input power less the losses drawn from the input outside it
+    /// (switch conduction, capacitive and overlap losses, the leakage inductance's own energy
+    /// ½·L_lk·I_pk²·f, and the controller supply when there is no bias winding). With a fixed
+    /// efficiency estimate the losses are unknown and the whole converter input power is taken.
+    /// The cycle (duty, currents) is the one that moves this power.
+    pub magnetising_power: Power,
     /// Bulk capacitor peak voltage.
     pub bulk_peak_voltage: ElectricPotential,
     /// Bulk capacitor valley voltage; the operating point is computed here (worst duty and current).
@@ -52,7 +59,7 @@ pub struct OperatingPoint {
     pub on_time: Time,
     /// Primary inductance over the boundary inductance at this point: < 1 DCM, > 1 CCM.
     pub inductance_ratio: f64,
-    /// Converter input power at which the mode changes between CCM and DCM at this line.
+    /// Magnetising power at which the mode changes between CCM and DCM at this line.
     pub boundary_power: Power,
     /// Primary (switch) current, peak.
     pub primary_current_peak: ElectricCurrent,
@@ -130,6 +137,9 @@ impl Context<'_> {
         let mut last: Option<OperatingPoint> = None;
         let mut last_step = f64::INFINITY;
         let mut first_p_line = None;
+        // losses drawn from the input outside the magnetising inductance (from the last step)
+        let mut direct = 0.0;
+        let bias_supplies_controller = s.bias.is_some();
         while iterations < MAX_EFFICIENCY_ITERATIONS {
             iterations += 1;
             let p_line = pout / eta;
@@ -169,9 +179,14 @@ impl Context<'_> {
                 }
                 InputRange::Dc { .. } => (line, line, 0.0, 0.0, 0.0),
             };
-            let cyc = cycle_for_power(self.l, vval, p_dc, self.vr, self.f);
+            let p_mag = if fixed {
+                p_dc
+            } else {
+                (p_dc - direct).max(1e-6 * p_dc)
+            };
+            let cyc = cycle_for_power(self.l, vval, p_mag, self.vr, self.f);
             let point = self.assemble(
-                corner, line, load, pout, p_line, p_dc, vpk, vval, tc, i_lf, &cyc,
+                corner, line, load, pout, p_line, p_dc, p_mag, vpk, vval, tc, i_lf, &cyc,
             );
             let (mut op, bridge_avg) = (point, i_bridge_avg);
             let b = &mut op.losses;
@@ -181,6 +196,16 @@ impl Context<'_> {
             b.bridge = si(2.0 * s.bridge_diode_drop.value * bridge_avg);
             b.bulk_capacitor = si(op.bulk_ripple_current_rms.value.powi(2) * lp.bulk_esr.value);
             let front_new = b.bridge.value + b.bulk_capacitor.value;
+            let ipk = op.primary_current_peak.value;
+            let direct_new = b.switch_conduction.value
+                + b.switch_capacitive.value
+                + b.switch_overlap.value
+                + 0.5 * self.llk * ipk * ipk * self.f
+                + if bias_supplies_controller {
+                    0.0
+                } else {
+                    controller
+                };
             let total = b.modelled_losses().value;
             let eta_new = if fixed { eta } else { pout / (pout + total) };
             // a converging iteration shrinks its steps; growing steps mean the losses rise
@@ -190,9 +215,16 @@ impl Context<'_> {
                 return Err(runaway(corner, b, pout));
             }
             last_step = step;
-            residual = (eta_new - eta).abs() + (front_new - front).abs() / p_line;
+            residual = (eta_new - eta).abs()
+                + (front_new - front).abs() / p_line
+                + if fixed {
+                    0.0
+                } else {
+                    (direct_new - direct).abs() / p_line
+                };
             eta = eta_new;
             front = front_new;
+            direct = direct_new;
             last = Some(op);
             if residual < EFFICIENCY_TOLERANCE {
                 break;
@@ -226,6 +258,7 @@ impl Context<'_> {
         pout: f64,
         p_line: f64,
         p_dc: f64,
+        p_mag: f64,
         vpk: f64,
         vval: f64,
         tc: f64,
@@ -238,6 +271,33 @@ impl Context<'_> {
         let i_avg = trapezoid_avg(ipk, iv, d);
         let i_rms = trapezoid_rms(ipk, iv, d).max(i_avg);
         let i_hf = (i_rms * i_rms - i_avg * i_avg).max(0.0).sqrt();
+        // ampere-turn shares by winding power (equal volts per turn with ideal coupling)
+        let winding_power = |o: &super::spec::OutputWinding| {
+            load * ((o.voltage + o.rectifier_drop) * o.current).value
+        };
+        let bias_power = s
+            .bias
+            .as_ref()
+            .map(|b| ((b.voltage + b.rectifier_drop) * b.current).value)
+            .unwrap_or(0.0);
+        let all_power = s.outputs.iter().map(winding_power).sum::<f64>() + bias_power;
+        let (vc, p_clamp) = clamp_at(&self.clamp, self.vr, self.llk, ipk, self.f);
+        // leakage reset: the leakage current falls at (V_c − V_r)/L_lk while the secondaries
+        // take over; meanwhile the magnetising current falls at V_r/L (at most the whole
+        // demagnetising time)
+        let t_dem = cyc.demag_duty / self.f;
+        let t_reset = if self.llk > 0.0 && vc > self.vr {
+            (self.llk * ipk / (vc - self.vr)).min(t_dem)
+        } else {
+            0.0
+        };
+        let wave = SecondaryWave {
+            ipk,
+            iv,
+            t_reset,
+            i_after_reset: (ipk - self.vr * t_reset / self.l).max(0.0),
+            t_dem,
+        };
         let secondaries: Vec<SecondaryPoint> = s
             .outputs
             .iter()
@@ -245,9 +305,12 @@ impl Context<'_> {
             .map(|(k, o)| {
                 secondary_point(
                     load * o.current.value,
-                    ipk,
-                    iv,
-                    cyc.demag_duty,
+                    if all_power > 0.0 {
+                        winding_power(o) / all_power
+                    } else {
+                        0.0
+                    },
+                    &wave,
                     self.f,
                     vpk,
                     self.turns[k],
@@ -258,7 +321,6 @@ impl Context<'_> {
                 )
             })
             .collect();
-        let (vc, p_clamp) = clamp_at(&self.clamp, self.vr, self.llk, ipk, self.f);
         let rds = lp.switch_on_resistance.value * lp.on_resistance_hot_factor;
         let coss = lp.switch_output_capacitance.value;
         // CCM: the switch turns on at V_in + V_r. DCM: after demagnetisation the drain rings
@@ -302,6 +364,7 @@ impl Context<'_> {
             output_power: si(pout),
             input_power: si(p_line),
             converter_input_power: si(p_dc),
+            magnetising_power: si(p_mag),
             bulk_peak_voltage: si(vpk),
             bulk_valley_voltage: si(vval),
             bulk_conduction_time: si(tc),
