@@ -391,7 +391,7 @@ fn script_barrier_voltage_feeds_barrier_requirements() {
 fn flyback_checks_count_once_per_design() {
     let h = host();
     let _ = h.eval(
-        "let d = flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A, rule_limits: #{drain_voltage_derating: 400 * V}}); \
+        "let d = flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A, clamp_voltage_above_reflected: 50 * V, rule_limits: #{drain_voltage_derating: 400 * V}}); \
          let a = flyback_checks(d); let b = flyback_checks(d); let e = d; let c = flyback_checks(e); \
          assert(worst_status(c) == \"fail\", \"tightened rule fails\");",
         "<test>",
@@ -401,8 +401,8 @@ fn flyback_checks_count_once_per_design() {
     // two designs count separately
     let _ = h.eval(
         "let lim = #{drain_voltage_derating: 400 * V}; \
-         let d1 = flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A, rule_limits: lim}); \
-         let d2 = flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A, rule_limits: lim}); \
+         let d1 = flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A, clamp_voltage_above_reflected: 50 * V, rule_limits: lim}); \
+         let d2 = flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A, clamp_voltage_above_reflected: 50 * V, rule_limits: lim}); \
          flyback_checks(d1); flyback_checks(d2); flyback_checks(d1);",
         "<test>",
     )

@@ -25,7 +25,7 @@ fn ideal_dc(vin: f64, vo: f64, io: f64, vr: f64, l: f64, f: f64, c: f64) -> Flyb
     s.leakage = Leakage::Value(si(0.0));
     s.efficiency = EfficiencyModel::Estimate(1.0);
     s.losses.bulk_esr = si(0.0);
-    s.clamp_voltage_above_reflected = si(0.5 * vr);
+    s.clamp_voltage_above_reflected = Some(si(0.5 * vr));
     s
 }
 
@@ -254,7 +254,9 @@ proptest! {
 
     #[test]
     fn drain_stress_grows_with_reflected_voltage(vr in 60.0f64..140.0, step in 1.0f64..20.0) {
+        // at a given clamp overshoot (a derived one shrinks to fit the drain limit instead)
         let mut a = fernbank_12v();
+        a.clamp_voltage_above_reflected = Some(si(50.0));
         a.reflected_voltage = si(vr);
         let mut b = a.clone();
         b.reflected_voltage = si(vr + step);
@@ -362,10 +364,11 @@ fn script_design_reads_with_units() {
     ));
     assert_eq!(q.dimension(), gapwise::units::Dimension::VOLTAGE);
     assert!(eval(&format!("{d} flyback_report(d, \"t\")")).contains(gapwise::SAFETY_CAUTION));
-    // a tightened rule fails and is counted for strict runs
+    // a tightened rule fails and is counted for strict runs (the clamp is given: a derived
+    // clamp voltage would respect the tightened drain limit, or refuse)
     let h = host();
     let _ = h.eval(
-        "let d = flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A, rule_limits: #{drain_voltage_derating: 400 * V}}); \
+        "let d = flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A, clamp_voltage_above_reflected: 50 * V, rule_limits: #{drain_voltage_derating: 400 * V}}); \
          assert(worst_status(flyback_checks(d)) == \"fail\", \"tightened rule fails\");",
         "<test>",
     )
@@ -992,6 +995,127 @@ fn secondary_currents_follow_the_ampere_turns_of_a_time_stepped_period() {
             // of the transformer and output-capacitor losses (a few per cent, never less)
             let ratio = avg / s.current_avg.value;
             assert!((1.0..1.06).contains(&ratio), "output {k}: {ratio}");
+        }
+    }
+}
+
+#[test]
+fn a_narrow_range_design_succeeds_with_defaults_derived_from_its_line() {
+    // Issue 12: with the old fixed 80 V valley target, 180–265 V at 5 V / 3 A failed with the
+    // losses running away in the clamp. The valley target is now 0.64 × the lowest rectified
+    // peak (common practice, no published source): 0.64 × (√2·180 − 2·1) V = 161.64 V.
+    let mut s = FlybackSpec::universal(OutputWinding::new(si(5.0), si(3.0)));
+    s.input = InputRange::Ac {
+        min_rms: si(180.0),
+        max_rms: si(265.0),
+        line_frequency: si(50.0),
+    };
+    let d = flyback_design(&s).unwrap();
+    let peak = 2f64.sqrt() * 180.0 - 2.0;
+    let valley = d
+        .defaults
+        .iter()
+        .find(|x| x.key == "target_valley_voltage")
+        .unwrap();
+    near(valley.value.value_in("V").unwrap(), 0.64 * peak, 1e-12);
+    assert!(valley.derivation.contains("lowest rectified line peak"));
+    assert!(d.corners[0].bulk_valley_voltage.value >= 0.64 * peak * (1.0 - 1e-9));
+    let keys: Vec<&str> = d.defaults.iter().map(|x| x.key).collect();
+    assert_eq!(
+        keys,
+        [
+            "target_valley_voltage",
+            "clamp_voltage_above_reflected",
+            "current_limit"
+        ]
+    );
+    // the same design with the old target names the target as the cause, not the clamp
+    s.bulk = BulkChoice::TargetValley(si(80.0));
+    let e = flyback_design(&s).unwrap_err().to_string();
+    assert!(
+        e.starts_with("`target_valley_voltage` 80 V is only 32 %"),
+        "{e}"
+    );
+    // a target at or above the peak is refused by name
+    s.bulk = BulkChoice::TargetValley(si(260.0));
+    let e = flyback_design(&s).unwrap_err().to_string();
+    assert!(
+        e.contains("`target_valley_voltage`") && e.contains("below the lowest rectified"),
+        "{e}"
+    );
+    // the script lists what it derived
+    let t = eval(
+        "flyback_defaults(flyback_design(#{output_voltage: 5 * V, output_current: 3 * A, \
+         min_line_voltage: 180 * V, max_line_voltage: 265 * V})).column(\"key\")",
+    );
+    assert_eq!(
+        t,
+        "[\"target_valley_voltage\", \"clamp_voltage_above_reflected\", \"current_limit\"]"
+    );
+    let given = eval(
+        "flyback_design(#{output_voltage: 12 * V, output_current: 1 * A, target_valley_voltage: 85 * V, \
+         clamp_voltage_above_reflected: 50 * V, current_limit: 0.6 * A}).derived_defaults",
+    );
+    assert_eq!(given, "");
+}
+
+#[test]
+fn the_derived_clamp_voltage_fits_the_switch_rating_or_names_it() {
+    // drain limit 0.85 × 600 V = 510 V; highest bulk peak √2·264 − 2 = 371.35 V; with
+    // V_r = 100 V the room is 38.65 V, less than 0.5·V_r = 50 V, so the clamp takes the room
+    // (common practice, no published source) and the drain reaches the limit, no more
+    let mut s = fernbank_12v();
+    s.switch_voltage_rating = si(600.0);
+    let d = flyback_design(&s).unwrap();
+    let room = 510.0 - (2f64.sqrt() * 264.0 - 2.0) - 100.0;
+    near(d.clamp.clamp_voltage.value, 100.0 + room, 1e-9);
+    let drain = d
+        .corners
+        .iter()
+        .map(|c| c.drain_voltage_peak.value)
+        .fold(0.0, f64::max);
+    assert!(drain <= 510.0 * (1.0 + 1e-9), "{drain}");
+    // 500 V leaves no room at all: the error names the reflected voltage and the rating
+    s.switch_voltage_rating = si(500.0);
+    let e = flyback_design(&s).unwrap_err().to_string();
+    assert!(
+        e.contains("`reflected_voltage`") && e.contains("`switch_voltage_rating` 500 V"),
+        "{e}"
+    );
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig { cases: 24, ..ProptestConfig::default() })]
+
+    #[test]
+    fn derived_defaults_never_contradict_the_specification(
+        vmin in 85.0f64..240.0, span in 0.0f64..120.0, vr in 50.0f64..180.0,
+        rating in 450.0f64..900.0, vo in 5.0f64..24.0, p in 5.0f64..40.0,
+    ) {
+        let mut s = FlybackSpec::universal(OutputWinding::new(si(vo), si(p / vo)));
+        s.input = InputRange::Ac { min_rms: si(vmin), max_rms: si(vmin + span), line_frequency: si(50.0) };
+        s.reflected_voltage = si(vr);
+        s.switch_voltage_rating = si(rating);
+        let d = match flyback_design(&s) {
+            Ok(d) => d,
+            // a refusal names a specification value, never only a symptom
+            Err(e) => {
+                let m = e.message();
+                prop_assert!(m.contains('`'), "{m}");
+                return Ok(());
+            }
+        };
+        let peak_lo = 2f64.sqrt() * vmin - 2.0;
+        let peak_hi = 2f64.sqrt() * (vmin + span) - 2.0;
+        let valley = d.defaults.iter().find(|x| x.key == "target_valley_voltage").unwrap();
+        let v = valley.value.value_in("V").unwrap();
+        prop_assert!(v > 0.0 && v < peak_lo);
+        // the clamp sits above the reflected voltage and within the drain limit
+        prop_assert!(d.clamp.clamp_voltage.value > vr * 1.2);
+        prop_assert!(peak_hi + d.clamp.clamp_voltage.value <= 0.85 * rating * (1.0 + 1e-9));
+        for c in &d.corners {
+            prop_assert!(c.clamp_voltage.value > vr);
+            prop_assert!(c.drain_voltage_peak.value <= 0.85 * rating * (1.0 + 1e-9));
         }
     }
 }

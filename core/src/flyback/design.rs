@@ -5,7 +5,11 @@ use super::clamp::{design_clamp, ClampDesign};
 use super::operating_point::{show, Context, OperatingPoint};
 use super::output::{post_filter, PostFilter};
 use super::rules::flyback_rule_book;
-use super::spec::{BulkChoice, ClampKind, FlybackSpec, InputRange, Leakage, ModeTarget};
+use super::rules::DRAIN_DERATING;
+use super::spec::{
+    BulkChoice, ClampKind, FlybackSpec, InputRange, Leakage, ModeTarget,
+    DEFAULT_CLAMP_OVERSHOOT_FRACTION, DEFAULT_VALLEY_FRACTION, MIN_CLAMP_OVERSHOOT_FRACTION,
+};
 use super::waveform::{boundary_duty, boundary_inductance_si, ConductionMode};
 use crate::error::{Error, ErrorKind, Result};
 use crate::mains::{bulk_capacitance_for_valley, hold_up_time};
@@ -75,6 +79,17 @@ pub struct BiasEstimate {
     pub voltage_light_load: ElectricPotential,
 }
 
+/// A value the specification left open that the design derived from the rest of it.
+#[derive(Clone, Debug, PartialEq)]
+pub struct DerivedDefault {
+    /// The specification key (script name), e.g. `target_valley_voltage`.
+    pub key: &'static str,
+    /// The value used.
+    pub value: Quantity,
+    /// How it was derived, with the numbers.
+    pub derivation: String,
+}
+
 /// A complete flyback power-stage design.
 #[derive(Clone, Debug, PartialEq)]
 pub struct FlybackDesign {
@@ -127,6 +142,8 @@ pub struct FlybackDesign {
     pub rules: RuleBook,
     /// Rule results.
     pub checks: Vec<CheckResult>,
+    /// The values the specification left open and the design derived, with how.
+    pub defaults: Vec<DerivedDefault>,
 }
 
 fn leakage_of(spec: &FlybackSpec, l: f64) -> f64 {
@@ -171,6 +188,41 @@ fn choose_inductance(mode: ModeTarget, vin: f64, p: f64, vr: f64, f: f64) -> f64
 /// Electronics* (2011), section 7.2 (flyback CCM relations).
 pub fn flyback_design(spec: &FlybackSpec) -> Result<FlybackDesign> {
     spec.validate()?;
+    design(spec).map_err(|e| blame_deep_valley(spec, e))
+}
+
+/// A given bulk valley target below this fraction of the lowest rectified line peak is named
+/// as the cause when the losses run away (common practice, no published source).
+const DEEP_VALLEY_FRACTION: f64 = 0.5;
+
+/// Names a deep valley target as the cause of a runaway: a valley far below the line peak
+/// means a small bulk capacitor, deep ripple and the highest currents at the valley, which is
+/// where the losses (the clamp first) run away.
+#[cold]
+fn blame_deep_valley(spec: &FlybackSpec, e: Error) -> Error {
+    let (InputRange::Ac { min_rms, .. }, BulkChoice::TargetValley(v)) = (spec.input, spec.bulk)
+    else {
+        return e;
+    };
+    let peak = SQRT_2 * min_rms.value - 2.0 * spec.bridge_diode_drop.value;
+    let runaway = e.message().contains("losses run away") || e.message().contains("did not settle");
+    if e.kind() != ErrorKind::Infeasible || !runaway || v.value >= DEEP_VALLEY_FRACTION * peak {
+        return e;
+    }
+    Error::infeasible(format!(
+        "`target_valley_voltage` {} is only {:.0} % of the lowest rectified line peak {}: the bulk \
+         capacitor is sized for a deep ripple, and at that valley {}; raise \
+         `target_valley_voltage`, or leave it out to derive {} × the peak = {}",
+        show(v),
+        v.value / peak * 100.0,
+        Quantity::new(peak, Dimension::VOLTAGE),
+        e.message(),
+        DEFAULT_VALLEY_FRACTION,
+        Quantity::new(DEFAULT_VALLEY_FRACTION * peak, Dimension::VOLTAGE)
+    ))
+}
+
+fn design(spec: &FlybackSpec) -> Result<FlybackDesign> {
     let f = spec.switching_frequency.value;
     let vr = spec.reflected_voltage.value;
     let vf_bridge = spec.bridge_diode_drop.value;
@@ -225,6 +277,35 @@ pub fn flyback_design(spec: &FlybackSpec) -> Result<FlybackDesign> {
             d_at_peak,
         )));
     }
+    let mut defaults = Vec::new();
+    let bulk = match (spec.input, spec.bulk) {
+        (InputRange::Ac { .. }, BulkChoice::DerivedValley) => {
+            let v = DEFAULT_VALLEY_FRACTION * vpk_lo;
+            defaults.push(DerivedDefault {
+                key: "target_valley_voltage",
+                value: Quantity::new(v, Dimension::VOLTAGE),
+                derivation: format!(
+                    "{DEFAULT_VALLEY_FRACTION} × the lowest rectified line peak {} \
+                     (√2·min_line_voltage − 2·bridge_diode_drop)",
+                    Quantity::new(vpk_lo, Dimension::VOLTAGE)
+                ),
+            });
+            BulkChoice::TargetValley(si(v))
+        }
+        (_, b) => b,
+    };
+    let overshoot = match spec.clamp_voltage_above_reflected {
+        Some(v) => v.value,
+        None => {
+            let (v, how) = derived_clamp_overshoot(spec, vr, vpk_hi)?;
+            defaults.push(DerivedDefault {
+                key: "clamp_voltage_above_reflected",
+                value: Quantity::new(v, Dimension::VOLTAGE),
+                derivation: how,
+            });
+            v
+        }
+    };
     let reg = &spec.outputs[spec.regulated_output];
     let turns: Vec<f64> = spec
         .outputs
@@ -262,7 +343,6 @@ pub fn flyback_design(spec: &FlybackSpec) -> Result<FlybackDesign> {
         )
         .collect::<Result<_>>()?;
     let filter_gain: Vec<Option<f64>> = post_filters.iter().map(|p| p.map(|p| p.gain)).collect();
-    let overshoot = spec.clamp_voltage_above_reflected.value;
     let fixed_clamp = design_clamp(ClampKind::Zener, vr, overshoot, 0.0, 0.0, f);
 
     // (1) inductance and bulk capacitor at low line, full load
@@ -274,7 +354,7 @@ pub fn flyback_design(spec: &FlybackSpec) -> Result<FlybackDesign> {
     let p0 = pout / start_eta;
     let is_ac = matches!(spec.input, InputRange::Ac { .. });
     let size_bulk = |p: f64| -> Result<f64> {
-        match (spec.input, spec.bulk) {
+        match (spec.input, bulk) {
             (InputRange::Ac { line_frequency, .. }, BulkChoice::TargetValley(v)) => {
                 bulk_capacitance_for_valley(
                     si(line_lo),
@@ -286,14 +366,14 @@ pub fn flyback_design(spec: &FlybackSpec) -> Result<FlybackDesign> {
                 .map(|c| c.value)
             }
             (_, BulkChoice::Capacitance(c)) => Ok(c.value),
-            (InputRange::Dc { .. }, _) => Ok(1.0),
+            (InputRange::Dc { .. }, _) | (_, BulkChoice::DerivedValley) => Ok(1.0),
         }
     };
     let mut c_bulk = size_bulk(p0)?;
     let mut l = match (spec.primary_inductance, spec.mode) {
         (Some(l), _) => l.value,
         (None, Some(m)) => {
-            let vin = match spec.bulk {
+            let vin = match bulk {
                 BulkChoice::TargetValley(v) if is_ac => v.value,
                 _ => 0.8 * vpk_lo,
             };
@@ -332,7 +412,7 @@ pub fn flyback_design(spec: &FlybackSpec) -> Result<FlybackDesign> {
                 if e.kind() == ErrorKind::Infeasible
                     && e.message().contains("`bulk_capacitance`")
                     && is_ac
-                    && matches!(spec.bulk, BulkChoice::TargetValley(_))
+                    && matches!(bulk, BulkChoice::TargetValley(_))
                     && design_iterations < 100 =>
             {
                 c_bulk *= 2.0;
@@ -345,7 +425,7 @@ pub fn flyback_design(spec: &FlybackSpec) -> Result<FlybackDesign> {
         // the rounded capacitor really gives; after a few steps the capacitor only grows, so the
         // discrete choice cannot oscillate between two values
         let mut new_c = size_bulk(p_dc)?;
-        if is_ac && matches!(spec.bulk, BulkChoice::TargetValley(_)) {
+        if is_ac && matches!(bulk, BulkChoice::TargetValley(_)) {
             new_c = at_or_above_value(new_c, ESeries::E12)?;
             if design_iterations > 3 {
                 new_c = new_c.max(c_bulk);
@@ -427,7 +507,21 @@ pub fn flyback_design(spec: &FlybackSpec) -> Result<FlybackDesign> {
             }
             i.value
         }
-        None => (1.0 + CURRENT_LIMIT_HEADROOM) * ipk_design / (1.0 - tol),
+        None => {
+            let i = (1.0 + CURRENT_LIMIT_HEADROOM) * ipk_design / (1.0 - tol);
+            defaults.push(DerivedDefault {
+                key: "current_limit",
+                value: Quantity::new(i, Dimension::CURRENT),
+                derivation: format!(
+                    "{} % above the low-line full-load peak {} at the low end of its ±{} % \
+                     tolerance",
+                    CURRENT_LIMIT_HEADROOM * 100.0,
+                    Quantity::new(ipk_design, Dimension::CURRENT),
+                    tol * 100.0
+                ),
+            });
+            i
+        }
     };
     let ilim_min = ilim * (1.0 - tol);
     let ilim_max = ilim * (1.0 + tol);
@@ -545,6 +639,73 @@ pub fn flyback_design(spec: &FlybackSpec) -> Result<FlybackDesign> {
         rules,
         checks,
         corners,
+        defaults,
+    })
+}
+
+/// The drain voltage the `drain_voltage_derating` rule allows: its overridden limit, or
+/// [`DRAIN_DERATING`] × the switch rating.
+fn drain_voltage_limit(spec: &FlybackSpec) -> Result<f64> {
+    for (id, q) in &spec.rule_limits {
+        if id == "drain_voltage_derating" {
+            return Ok(q
+                .to_typed::<ElectricPotential>("rule_limits.drain_voltage_derating")?
+                .value);
+        }
+    }
+    Ok(DRAIN_DERATING * spec.switch_voltage_rating.value)
+}
+
+/// The clamp voltage above the reflected voltage when none is given: the smaller of
+/// [`DEFAULT_CLAMP_OVERSHOOT_FRACTION`]·V_r and what the drain limit leaves above the highest
+/// bulk peak and V_r, V_ds,limit − V_bulk,pk,max − V_r; an error naming the reflected voltage
+/// and the switch rating when that is below [`MIN_CLAMP_OVERSHOOT_FRACTION`]·V_r.
+fn derived_clamp_overshoot(spec: &FlybackSpec, vr: f64, vpk_hi: f64) -> Result<(f64, String)> {
+    let limit = drain_voltage_limit(spec)?;
+    let room = limit - vpk_hi - vr;
+    let wanted = DEFAULT_CLAMP_OVERSHOOT_FRACTION * vr;
+    let least = MIN_CLAMP_OVERSHOOT_FRACTION * vr;
+    let v = |x: f64| Quantity::new(x, Dimension::VOLTAGE);
+    if room < least {
+        return Err(Error::infeasible(format!(
+            "`reflected_voltage` {} with `switch_voltage_rating` {} leaves {} for the clamp above \
+             the reflected voltage (drain limit {} − highest bulk peak {} − reflected voltage), \
+             less than the {} % of the reflected voltage a clamp needs ({}); lower \
+             `reflected_voltage`, choose a higher `switch_voltage_rating`, or give \
+             `clamp_voltage_above_reflected`",
+            v(vr),
+            show(spec.switch_voltage_rating),
+            v(room),
+            v(limit),
+            v(vpk_hi),
+            MIN_CLAMP_OVERSHOOT_FRACTION * 100.0,
+            v(least)
+        )));
+    }
+    Ok(if room < wanted {
+        (
+            room,
+            format!(
+                "what the drain limit {} leaves above the highest bulk peak {} and the reflected \
+                 voltage {} (less than {} × the reflected voltage)",
+                v(limit),
+                v(vpk_hi),
+                v(vr),
+                DEFAULT_CLAMP_OVERSHOOT_FRACTION
+            ),
+        )
+    } else {
+        (
+            wanted,
+            format!(
+                "{} × the reflected voltage {} (the drain limit {} leaves {} above the highest \
+                 bulk peak and the reflected voltage)",
+                DEFAULT_CLAMP_OVERSHOOT_FRACTION,
+                v(vr),
+                v(limit),
+                v(room)
+            ),
+        )
     })
 }
 
@@ -782,6 +943,21 @@ impl FlybackDesign {
             self.corners.iter().map(|c| c.primary_current_peak.value),
         ))
     }
+    /// The values the specification left open and the design derived: one row per value,
+    /// with `key`, `value` (text with its unit: the rows differ in dimension) and `derivation`
+    /// (no calculation).
+    pub fn defaults_table(&self) -> Table {
+        let mut t = Table::new();
+        for d in &self.defaults {
+            t.push_row(vec![
+                Field::new("key", d.key),
+                // the values differ in dimension, so each is written with its own unit
+                Field::new("value", d.value.to_string()),
+                Field::new("derivation", d.derivation.as_str()),
+            ]);
+        }
+        t
+    }
     /// The worst rule status of [`FlybackDesign::checks`] (fail over warn over pass).
     pub fn worst_status(&self) -> Status {
         worst_status(&self.checks)
@@ -932,6 +1108,14 @@ impl Record for FlybackDesign {
                 b.voltage_light_load,
             ));
         }
+        v.push(Field::new(
+            "derived_defaults",
+            self.defaults
+                .iter()
+                .map(|d| d.key)
+                .collect::<Vec<_>>()
+                .join(", "),
+        ));
         v.push(Field::new("worst_status", self.worst_status().to_string()));
         v.push(Field::new("failed_checks", self.failed_checks() as i64));
         v

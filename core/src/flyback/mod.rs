@@ -27,8 +27,8 @@ mod waveform;
 
 pub use clamp::{clamp_dissipation, ClampDesign, CLAMP_CAPACITOR_RIPPLE};
 pub use design::{
-    flyback_design, BiasEstimate, FlybackDesign, OverloadPoint, CURRENT_LIMIT_HEADROOM,
-    RECTIFIER_DROP_PER_EFOLD,
+    flyback_design, BiasEstimate, DerivedDefault, FlybackDesign, OverloadPoint,
+    CURRENT_LIMIT_HEADROOM, RECTIFIER_DROP_PER_EFOLD,
 };
 pub use losses::LossBudget;
 pub use operating_point::{OperatingPoint, EFFICIENCY_TOLERANCE, MAX_EFFICIENCY_ITERATIONS};
@@ -37,6 +37,7 @@ pub use report::design_report_markdown;
 pub use rules::{flyback_rule_book, DRAIN_DERATING, RECTIFIER_DERATING};
 pub use spec::{
     BiasWinding, BulkChoice, ClampKind, EfficiencyModel, FlybackSpec, InputRange, Leakage,
-    LossParameters, ModeTarget, OutputWinding,
+    LossParameters, ModeTarget, OutputWinding, DEFAULT_CLAMP_OVERSHOOT_FRACTION,
+    DEFAULT_VALLEY_FRACTION, MIN_CLAMP_OVERSHOOT_FRACTION,
 };
 pub use waveform::{boundary_inductance, ConductionMode};

@@ -36,7 +36,24 @@ pub enum BulkChoice {
     /// Size it (rounded up to the E12 series) so that the valley at low line and full load is
     /// at least this voltage.
     TargetValley(ElectricPotential),
+    /// Size it for a valley derived from the specification:
+    /// [`DEFAULT_VALLEY_FRACTION`] × the lowest rectified line peak (√2·V_min − 2·V_bridge),
+    /// so that a narrow-range supply gets a valley that fits its line.
+    DerivedValley,
 }
+
+/// Bulk valley target over the lowest rectified line peak when none is given: 0.64, i.e.
+/// about 80 V at 90 V RMS, the usual 2–3 µF/W of universal input, and about 160 V at 180 V
+/// RMS (common practice, no published source).
+pub const DEFAULT_VALLEY_FRACTION: f64 = 0.64;
+/// Clamp voltage above the reflected voltage when none is given, as a fraction of the
+/// reflected voltage (V_c = 1.5·V_r), unless the switch rating leaves less (common practice,
+/// no published source).
+pub const DEFAULT_CLAMP_OVERSHOOT_FRACTION: f64 = 0.5;
+/// Least clamp voltage above the reflected voltage the derived default accepts, as a fraction
+/// of the reflected voltage: below it the clamp takes most of the magnetising energy
+/// (P ∝ V_c/(V_c − V_r)) (common practice, no published source).
+pub const MIN_CLAMP_OVERSHOOT_FRACTION: f64 = 0.25;
 
 /// One output winding with its rectifier and capacitor.
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -215,8 +232,10 @@ pub struct FlybackSpec {
     pub switch_voltage_rating: ElectricPotential,
     /// Clamp type.
     pub clamp: ClampKind,
-    /// Clamp voltage above the reflected voltage, at the worst case (current limit).
-    pub clamp_voltage_above_reflected: ElectricPotential,
+    /// Clamp voltage above the reflected voltage, at the worst case (current limit); None:
+    /// derived from the reflected voltage and the switch rating (see
+    /// [`DEFAULT_CLAMP_OVERSHOOT_FRACTION`] and the design's `defaults`).
+    pub clamp_voltage_above_reflected: Option<ElectricPotential>,
     /// Leakage inductance.
     pub leakage: Leakage,
     /// Efficiency estimate or loss model.
@@ -237,7 +256,8 @@ pub struct FlybackSpec {
 impl FlybackSpec {
     /// A universal-input (90–264 V AC, 50 Hz) spec at 65 kHz with a 650 V switch, one output,
     /// reflected voltage 100 V, CCM with ripple ratio 0.8 … every default as documented on the
-    /// fields' script keys (`help flyback_design`).
+    /// fields' script keys (`help flyback_design`); the bulk valley target and the clamp
+    /// voltage are derived from the specification when the design is made.
     pub fn universal(output: OutputWinding) -> Self {
         Self {
             input: InputRange::Ac {
@@ -245,7 +265,7 @@ impl FlybackSpec {
                 max_rms: si(264.0),
                 line_frequency: si(50.0),
             },
-            bulk: BulkChoice::TargetValley(si(80.0)),
+            bulk: BulkChoice::DerivedValley,
             bridge_diode_drop: si(1.0),
             bulk_ripple_current_rating: None,
             outputs: vec![output],
@@ -261,7 +281,7 @@ impl FlybackSpec {
             reflected_voltage: si(100.0),
             switch_voltage_rating: si(650.0),
             clamp: ClampKind::Rcd,
-            clamp_voltage_above_reflected: si(50.0),
+            clamp_voltage_above_reflected: None,
             leakage: Leakage::Fraction(0.02),
             efficiency: EfficiencyModel::Computed { start: 0.85 },
             losses: LossParameters::default(),
@@ -321,7 +341,20 @@ impl FlybackSpec {
             }
             BulkChoice::TargetValley(v) => {
                 positive("target_valley_voltage", v)?;
+                if let InputRange::Ac { min_rms, .. } = self.input {
+                    let peak = std::f64::consts::SQRT_2 * min_rms.value
+                        - 2.0 * self.bridge_diode_drop.value;
+                    if v.value >= peak {
+                        return Err(Error::invalid(format!(
+                            "`target_valley_voltage` ({}) must be below the lowest rectified line \
+                             peak, √2·`min_line_voltage` − 2·`bridge_diode_drop` = {}",
+                            Quantity::from_typed(v),
+                            Quantity::new(peak, crate::units::Dimension::VOLTAGE)
+                        )));
+                    }
+                }
             }
+            BulkChoice::DerivedValley => {}
         }
         non_negative("bridge_diode_drop", self.bridge_diode_drop)?;
         if let Some(r) = self.bulk_ripple_current_rating {
@@ -420,10 +453,9 @@ impl FlybackSpec {
         }
         positive("reflected_voltage", self.reflected_voltage)?;
         positive("switch_voltage_rating", self.switch_voltage_rating)?;
-        positive(
-            "clamp_voltage_above_reflected",
-            self.clamp_voltage_above_reflected,
-        )?;
+        if let Some(v) = self.clamp_voltage_above_reflected {
+            positive("clamp_voltage_above_reflected", v)?;
+        }
         match self.leakage {
             Leakage::Fraction(x) => {
                 number_within("leakage_fraction", x, 0.0, 0.2)?;

@@ -35,7 +35,7 @@ static DESIGN: FunctionDoc = FunctionDoc {
         ParamDoc::with_default("max_line_voltage", Q("V"), "264 V", "highest line (RMS) or bus voltage"),
         ParamDoc::with_default("line_frequency", Q("Hz"), "50 Hz", "lowest line frequency"),
         ParamDoc::optional("bulk_capacitance", Q("F"), "bulk capacitance; else sized for target_valley_voltage"),
-        ParamDoc::with_default("target_valley_voltage", Q("V"), "80 V", "bulk valley at low line, full load when sizing the bulk capacitor (rounded up to E12)"),
+        ParamDoc::optional("target_valley_voltage", Q("V"), "bulk valley at low line, full load when sizing the bulk capacitor (rounded up to E12); else 0.64 × the lowest rectified line peak (about 80 V at 90 V, 160 V at 180 V), listed in derived_defaults"),
         ParamDoc::with_default("bridge_diode_drop", Q("V"), "1 V", "drop of one bridge diode"),
         ParamDoc::with_default("bulk_esr", Q("Ω"), "1 ohm", "bulk capacitor ESR"),
         ParamDoc::optional("bulk_ripple_current_rating", Q("A"), "bulk capacitor ripple current rating (adds its rule)"),
@@ -65,7 +65,7 @@ static DESIGN: FunctionDoc = FunctionDoc {
         ParamDoc::optional("turns_ratio", Number, "primary to regulated-secondary turns ratio N_p/N_s (instead of reflected_voltage)"),
         ParamDoc::with_default("switch_voltage_rating", Q("V"), "650 V", "switch drain-source rating"),
         ParamDoc::with_default("clamp", Text, "rcd", "\"rcd\" or \"zener\""),
-        ParamDoc::with_default("clamp_voltage_above_reflected", Q("V"), "50 V", "clamp overshoot above the reflected voltage at the worst case"),
+        ParamDoc::optional("clamp_voltage_above_reflected", Q("V"), "clamp overshoot above the reflected voltage at the worst case; else 0.5 × reflected_voltage, or what the drain limit (85 % of switch_voltage_rating) leaves above the highest bulk peak if less (an error below 0.25 × reflected_voltage), listed in derived_defaults"),
         ParamDoc::with_default("leakage_fraction", Number, "0.02", "leakage inductance as a fraction of the primary"),
         ParamDoc::optional("leakage_inductance", Q("H"), "leakage inductance (instead of the fraction)"),
         ParamDoc::with_default("efficiency", Number, "0.85", "efficiency estimate (starting value when computed)"),
@@ -169,6 +169,15 @@ static OVERLOAD: FunctionDoc = FunctionDoc {
     keys: &[],
     returns: "a Table, one row per line and tolerance end, with duty_cycle and limited_by (current_limit or max_duty_cycle)",
     example: "overload_table(flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A}))",
+};
+static DEFAULTS: FunctionDoc = FunctionDoc {
+    name: "flyback_defaults",
+    domain: Domain::Flyback,
+    summary: "The values the specification left open and the design derived from it (bulk valley target, clamp voltage, current limit), with how each was derived.",
+    params: &[ParamDoc::required("design", ParamKind::Any, "a FlybackDesign")],
+    keys: &[],
+    returns: "a Table with key, value and derivation",
+    example: "flyback_defaults(flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A, min_line_voltage: 180 * V, max_line_voltage: 265 * V}))",
 };
 static CHECKS: FunctionDoc = FunctionDoc {
     name: "flyback_checks",
@@ -297,7 +306,10 @@ fn spec_from_map(m: &Map) -> Result<FlybackSpec> {
             }
             BulkChoice::Capacitance(c)
         }
-        None => BulkChoice::TargetValley(s.quantity("target_valley_voltage")?),
+        None => match s.optional_quantity("target_valley_voltage")? {
+            Some(v) => BulkChoice::TargetValley(v),
+            None => BulkChoice::DerivedValley,
+        },
     };
     let mut outputs = Vec::new();
     let mut regulated_output = 0;
@@ -420,7 +432,7 @@ fn spec_from_map(m: &Map) -> Result<FlybackSpec> {
         reflected_voltage,
         switch_voltage_rating: s.quantity("switch_voltage_rating")?,
         clamp,
-        clamp_voltage_above_reflected: s.quantity("clamp_voltage_above_reflected")?,
+        clamp_voltage_above_reflected: s.optional_quantity("clamp_voltage_above_reflected")?,
         leakage,
         efficiency,
         losses: LossParameters {
@@ -519,6 +531,7 @@ pub(crate) fn register(api: &mut Api, state: &Arc<HostState>) {
         Ok(corner_of(&d, &name)?.losses.table())
     });
     def!(api, &OVERLOAD, |d: ScriptFlyback| d.design.overload_table());
+    def!(api, &DEFAULTS, |d: ScriptFlyback| d.design.defaults_table());
     let st = state.clone();
     def!(api, &CHECKS, move |d: ScriptFlyback| {
         let checks = d.design.checks.clone();
