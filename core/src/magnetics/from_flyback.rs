@@ -29,6 +29,9 @@ pub struct TransformerOperatingPoint {
     pub current_limit: ElectricCurrent,
     /// Its relative tolerance.
     pub current_limit_tolerance: f64,
+    /// Rise past the highest limit during the sense delay: the design's highest peak at the
+    /// current limit less I_lim·(1 + tol).
+    pub current_limit_overshoot: ElectricCurrent,
     /// Reflected voltage.
     pub reflected_voltage: ElectricPotential,
     /// Regulated output voltage.
@@ -94,6 +97,11 @@ pub fn transformer_operating_point(
         secondary_conduction_fraction: conduction,
         current_limit: design.current_limit,
         current_limit_tolerance: design.current_limit_tolerance,
+        current_limit_overshoot: crate::units::si(
+            (design.primary_current_peak_at_limit().value
+                - design.current_limit.value * (1.0 + design.current_limit_tolerance))
+                .max(0.0),
+        ),
         reflected_voltage: design.reflected_voltage,
         output_voltage: output.voltage,
         rectifier_drop: output.rectifier_drop,
@@ -125,6 +133,7 @@ impl TransformerOperatingPoint {
         spec.secondary_conduction_fraction = self.secondary_conduction_fraction;
         spec.current_limit = self.current_limit;
         spec.current_limit_tolerance = self.current_limit_tolerance;
+        spec.current_limit_overshoot = self.current_limit_overshoot;
         spec.reflected_voltage = self.reflected_voltage;
         spec.output_voltage = self.output_voltage;
         spec.rectifier_drop = self.rectifier_drop;
@@ -151,6 +160,7 @@ impl Record for TransformerOperatingPoint {
             ),
             Field::quantity("current_limit", self.current_limit),
             Field::new("current_limit_tolerance", self.current_limit_tolerance),
+            Field::quantity("current_limit_overshoot", self.current_limit_overshoot),
             Field::quantity("reflected_voltage", self.reflected_voltage),
             Field::quantity("output_voltage", self.output_voltage),
             Field::quantity("rectifier_drop", self.rectifier_drop),
