@@ -1,7 +1,7 @@
 //! The whole design: primary inductance and bulk capacitor chosen at low line and full load,
 //! current limit, clamp, every corner, overload power across line, bias estimate and rules.
 
-use super::clamp::{design_clamp, ClampDesign};
+use super::clamp::{design_clamp, ClampDesign, ZenerSpread, CLAMP_CAPACITOR_RIPPLE};
 use super::operating_point::{show, Context, OperatingPoint};
 use super::output::{post_filter, PostFilter};
 use super::rules::flyback_rule_book;
@@ -170,7 +170,9 @@ fn choose_inductance(mode: ModeTarget, vin: f64, p: f64, vr: f64, f: f64) -> f64
 /// L = 2·L_b/r, where L_b = (V·D_b)²/(2·P·f) and D_b = V_r/(V + V_r). (2) The current limit
 /// (given, or 10 % above the low-line full-load peak at its low tolerance) is checked against
 /// that peak. (3) The clamp is sized at the highest limit plus the sense-delay overshoot at
-/// high line. (4) Each corner (low/high line × full/light load) is evaluated at its bulk
+/// high line and built from preferred parts (RCD: resistor rounded down to E24, capacitor up
+/// to E12; see [`ClampDesign`]); the drain peak adds its highest voltage, the clamp diode's
+/// forward recovery and the ringing allowance. (4) Each corner (low/high line × full/light load) is evaluated at its bulk
 /// valley; the current-limit corners find the load at which the peak current reaches the
 /// highest limit. (5) Overload power is found at both ends of the limit's tolerance at low
 /// and high line, or at the load where the duty reaches `max_duty_cycle` if that comes first
@@ -343,7 +345,11 @@ fn design(spec: &FlybackSpec) -> Result<FlybackDesign> {
         )
         .collect::<Result<_>>()?;
     let filter_gain: Vec<Option<f64>> = post_filters.iter().map(|p| p.map(|p| p.gain)).collect();
-    let fixed_clamp = design_clamp(ClampKind::Zener, vr, overshoot, 0.0, 0.0, f);
+    let spread = ZenerSpread {
+        tolerance: spec.zener_tolerance,
+        rise_hot: spec.zener_rise_hot,
+    };
+    let fixed_clamp = design_clamp(ClampKind::Zener, vr, overshoot, 0.0, 0.0, f, spread, false)?;
 
     // (1) inductance and bulk capacitor at low line, full load
     let start_eta = match spec.efficiency {
@@ -440,14 +446,26 @@ fn design(spec: &FlybackSpec) -> Result<FlybackDesign> {
         let ilim = spec.current_limit.map(|i| i.value).unwrap_or(
             (1.0 + CURRENT_LIMIT_HEADROOM) * op.primary_current_peak.value / (1.0 - tol),
         );
-        let new_clamp = design_clamp(
+        let ipk_worst = ilim * (1.0 + tol) + vpk_hi * delay / new_l;
+        let mut new_clamp = design_clamp(
             spec.clamp,
             vr,
             overshoot,
             leakage_of(spec, new_l),
-            ilim * (1.0 + tol) + vpk_hi * delay / new_l,
+            ipk_worst,
             f,
-        );
+            spread,
+            true,
+        )?;
+        // the resistor is a preferred value: after a few steps it may only fall (a lower
+        // resistor holds a lower clamp voltage), so the discrete choice cannot oscillate
+        if design_iterations > 3 {
+            if let (Some(rn), Some(ro)) = (new_clamp.resistor, clamp.resistor) {
+                if rn > ro {
+                    new_clamp = clamp.with_parts(vr, leakage_of(spec, new_l), ipk_worst, f);
+                }
+            }
+        }
         let clamp_change = if clamp.power.value > 0.0 {
             (new_clamp.power.value / clamp.power.value - 1.0).abs()
         } else {
@@ -528,7 +546,11 @@ fn design(spec: &FlybackSpec) -> Result<FlybackDesign> {
 
     // (3) clamp at the worst case
     let ipk_worst = ilim_max + vpk_hi * delay / l;
-    ctx.clamp = design_clamp(spec.clamp, vr, overshoot, llk, ipk_worst, f);
+    // the clamp as built: the preferred parts the iteration settled on, at the worst case
+    ctx.clamp = match ctx.clamp.resistor {
+        Some(_) => ctx.clamp.with_parts(vr, llk, ipk_worst, f),
+        None => design_clamp(spec.clamp, vr, overshoot, llk, ipk_worst, f, spread, true)?,
+    };
 
     // (4) corners
     let light = spec.light_load_fraction;
@@ -662,14 +684,22 @@ fn drain_voltage_limit(spec: &FlybackSpec) -> Result<f64> {
 /// and the switch rating when that is below [`MIN_CLAMP_OVERSHOOT_FRACTION`]·V_r.
 fn derived_clamp_overshoot(spec: &FlybackSpec, vr: f64, vpk_hi: f64) -> Result<(f64, String)> {
     let limit = drain_voltage_limit(spec)?;
-    let room = limit - vpk_hi - vr;
+    // the drain reaches bulk peak + highest clamp voltage + forward recovery + ringing; the
+    // highest clamp voltage is the top of the RCD ripple or the Zener's highest
+    let top = match spec.clamp {
+        ClampKind::Rcd => 1.0 + CLAMP_CAPACITOR_RIPPLE / 2.0,
+        ClampKind::Zener => (1.0 + spec.zener_tolerance) * (1.0 + spec.zener_rise_hot.max(0.0)),
+    };
+    let allowances = spec.clamp_diode_forward_recovery.value + spec.drain_ringing_allowance.value;
+    let room = (limit - vpk_hi - allowances) / top - vr;
     let wanted = DEFAULT_CLAMP_OVERSHOOT_FRACTION * vr;
     let least = MIN_CLAMP_OVERSHOOT_FRACTION * vr;
     let v = |x: f64| Quantity::new(x, Dimension::VOLTAGE);
     if room < least {
         return Err(Error::infeasible(format!(
             "`reflected_voltage` {} with `switch_voltage_rating` {} leaves {} for the clamp above \
-             the reflected voltage (drain limit {} − highest bulk peak {} − reflected voltage), \
+             the reflected voltage (drain limit {} less the highest bulk peak {}, the forward \
+             recovery and ringing allowances and the clamp's spread, less the reflected voltage), \
              less than the {} % of the reflected voltage a clamp needs ({}); lower \
              `reflected_voltage`, choose a higher `switch_voltage_rating`, or give \
              `clamp_voltage_above_reflected`",
@@ -686,8 +716,9 @@ fn derived_clamp_overshoot(spec: &FlybackSpec, vr: f64, vpk_hi: f64) -> Result<(
         (
             room,
             format!(
-                "what the drain limit {} leaves above the highest bulk peak {} and the reflected \
-                 voltage {} (less than {} × the reflected voltage)",
+                "what the drain limit {} leaves above the highest bulk peak {}, the reflected \
+                 voltage {}, the forward-recovery and ringing allowances and the clamp's spread \
+                 (less than {} × the reflected voltage)",
                 v(limit),
                 v(vpk_hi),
                 v(vr),
@@ -699,7 +730,7 @@ fn derived_clamp_overshoot(spec: &FlybackSpec, vr: f64, vpk_hi: f64) -> Result<(
             wanted,
             format!(
                 "{} × the reflected voltage {} (the drain limit {} leaves {} above the highest \
-                 bulk peak and the reflected voltage)",
+                 bulk peak, the reflected voltage, the allowances and the clamp's spread)",
                 DEFAULT_CLAMP_OVERSHOOT_FRACTION,
                 v(vr),
                 v(limit),

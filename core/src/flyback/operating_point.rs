@@ -72,9 +72,13 @@ pub struct OperatingPoint {
     pub primary_current_avg: ElectricCurrent,
     /// Each output winding, in the order of the spec.
     pub secondaries: Vec<SecondaryPoint>,
-    /// Clamp voltage here.
+    /// Clamp voltage here (RCD: average; Zener: nominal).
     pub clamp_voltage: ElectricPotential,
-    /// Drain voltage peak: bulk peak + clamp voltage (reflected voltage + overshoot).
+    /// Highest clamp voltage here: RCD the top of the capacitor ripple, Zener the highest of
+    /// its tolerance and heating.
+    pub clamp_voltage_max: ElectricPotential,
+    /// Drain voltage peak: bulk peak + highest clamp voltage + the clamp diode's forward
+    /// recovery + the ringing allowance.
     pub drain_voltage_peak: ElectricPotential,
     /// Loss budget; sums to `input_power`.
     pub losses: LossBudget,
@@ -281,7 +285,8 @@ impl Context<'_> {
             .map(|b| ((b.voltage + b.rectifier_drop) * b.current).value)
             .unwrap_or(0.0);
         let all_power = s.outputs.iter().map(winding_power).sum::<f64>() + bias_power;
-        let (vc, p_clamp) = clamp_at(&self.clamp, self.vr, self.llk, ipk, self.f);
+        let clamp = clamp_at(&self.clamp, self.vr, self.llk, ipk, self.f);
+        let (vc, p_clamp) = (clamp.voltage, clamp.power);
         // leakage reset: the leakage current falls at (V_c − V_r)/L_lk while the secondaries
         // take over; meanwhile the magnetising current falls at V_r/L (at most the whole
         // demagnetising time)
@@ -381,7 +386,11 @@ impl Context<'_> {
             primary_current_avg: si(i_avg),
             secondaries,
             clamp_voltage: si(vc),
-            drain_voltage_peak: si(vpk + vc),
+            clamp_voltage_max: si(clamp.voltage_max),
+            drain_voltage_peak: si(vpk
+                + clamp.voltage_max
+                + s.clamp_diode_forward_recovery.value
+                + s.drain_ringing_allowance.value),
             losses,
             efficiency: pout / p_line,
             efficiency_iterations: 0,
@@ -411,6 +420,7 @@ impl Record for OperatingPoint {
             Field::quantity("primary_current_avg", self.primary_current_avg),
             Field::quantity("boundary_power", self.boundary_power),
             Field::quantity("clamp_voltage", self.clamp_voltage),
+            Field::quantity("clamp_voltage_max", self.clamp_voltage_max),
             Field::quantity("drain_voltage_peak", self.drain_voltage_peak),
         ];
         for (k, sp) in self.secondaries.iter().enumerate() {

@@ -236,6 +236,17 @@ pub struct FlybackSpec {
     /// derived from the reflected voltage and the switch rating (see
     /// [`DEFAULT_CLAMP_OVERSHOOT_FRACTION`] and the design's `defaults`).
     pub clamp_voltage_above_reflected: Option<ElectricPotential>,
+    /// Overshoot of the clamp diode's forward recovery on top of the clamp voltage, added to
+    /// the drain peak.
+    pub clamp_diode_forward_recovery: ElectricPotential,
+    /// Allowance for the ringing of the leakage inductance with the drain capacitance on top
+    /// of the clamp, added to the drain peak (a stated allowance, not a model).
+    pub drain_ringing_allowance: ElectricPotential,
+    /// Relative tolerance of a Zener clamp's voltage (0.05 = ±5 %).
+    pub zener_tolerance: f64,
+    /// Relative rise of a Zener clamp's voltage from 25 °C to its hot junction: temperature
+    /// coefficient × temperature rise (0.1 %/K × 75 K = 0.075); negative for a falling one.
+    pub zener_rise_hot: f64,
     /// Leakage inductance.
     pub leakage: Leakage,
     /// Efficiency estimate or loss model.
@@ -282,6 +293,10 @@ impl FlybackSpec {
             switch_voltage_rating: si(650.0),
             clamp: ClampKind::Rcd,
             clamp_voltage_above_reflected: None,
+            clamp_diode_forward_recovery: si(5.0),
+            drain_ringing_allowance: si(10.0),
+            zener_tolerance: 0.05,
+            zener_rise_hot: 0.075,
             leakage: Leakage::Fraction(0.02),
             efficiency: EfficiencyModel::Computed { start: 0.85 },
             losses: LossParameters::default(),
@@ -456,6 +471,13 @@ impl FlybackSpec {
         if let Some(v) = self.clamp_voltage_above_reflected {
             positive("clamp_voltage_above_reflected", v)?;
         }
+        non_negative(
+            "clamp_diode_forward_recovery",
+            self.clamp_diode_forward_recovery,
+        )?;
+        non_negative("drain_ringing_allowance", self.drain_ringing_allowance)?;
+        number_within("zener_tolerance", self.zener_tolerance, 0.0, 0.3)?;
+        number_within("zener_rise_hot", self.zener_rise_hot, -0.3, 0.3)?;
         match self.leakage {
             Leakage::Fraction(x) => {
                 number_within("leakage_fraction", x, 0.0, 0.2)?;

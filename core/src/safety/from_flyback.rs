@@ -16,8 +16,10 @@ impl FlybackBarrierSpec {
     /// - `bulk_voltage_peak`: the largest bulk peak voltage over the corners (high line,
     ///   light load, where the ripple is smallest).
     /// - `reflected_voltage`: the design's reflected voltage n·(V_out + V_rectifier).
-    /// - `clamp_overshoot`: the largest clamp voltage (the clamp as sized, or any corner's
-    ///   clamp voltage, whichever is higher) minus the reflected voltage, never below zero.
+    /// - `clamp_overshoot`: the largest drain voltage above the bulk peak — the highest clamp
+    ///   voltage (the clamp as sized, or any corner's, whichever is higher: the top of an RCD
+    ///   clamp's ripple, a Zener's highest) plus the clamp diode's forward recovery and the
+    ///   ringing allowance — minus the reflected voltage, never below zero.
     /// - `secondary_voltage_peak`: the largest rectifier reverse voltage over outputs and
     ///   corners, V_bulk,peak/n + V_out: the largest swing of any secondary winding end against
     ///   the secondary return, for the rectifier on either end of the winding (conservative).
@@ -42,13 +44,19 @@ impl FlybackBarrierSpec {
         }
         let vr = design.reflected_voltage.value;
         let bulk = largest(design.corners.iter().map(|c| c.bulk_peak_voltage.value));
-        let clamp = largest(
-            design
-                .corners
-                .iter()
-                .map(|c| c.clamp_voltage.value)
-                .chain(std::iter::once(design.clamp.clamp_voltage.value)),
-        );
+        // the allowances above the clamp are the same at every corner
+        let allowances = largest(design.corners.iter().map(|c| {
+            c.drain_voltage_peak.value - c.bulk_peak_voltage.value - c.clamp_voltage_max.value
+        }))
+        .max(0.0);
+        let clamp = allowances
+            + largest(
+                design
+                    .corners
+                    .iter()
+                    .map(|c| c.clamp_voltage_max.value)
+                    .chain(std::iter::once(design.clamp.clamp_voltage_max.value)),
+            );
         let secondary = largest(design.corners.iter().flat_map(|c| {
             c.secondaries
                 .iter()
