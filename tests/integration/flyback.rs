@@ -1251,3 +1251,97 @@ fn the_leakage_from_the_winding_build_feeds_the_clamp() {
     // bulk peak (at least the corner's peak, which sees the lower valley)
     assert!(nums[1] >= 1.0 && nums[1] < 1.01, "{v}");
 }
+
+#[test]
+fn a_shorted_output_staircases_to_the_limit_plus_the_delay_overshoot() {
+    // Issue 12. Output shorted: the secondary holds only its rectifier's drop, V_rs = n·V_f,
+    // so the current falls by V_rs·t_off/L per cycle and rises at V/L. Once settled the switch
+    // turns off t_d after the limit: I_pk = I_lim·(1 + tol) + V·t_d/L, and the on-time is the
+    // volt-second balance t_on = V_rs/(f·(V + V_rs)), so I_v = I_pk − V·t_on/L (Erickson &
+    // Maksimović, 3rd ed. (2020), ch. 2: volt-second balance; closed forms of our own).
+    let s = fernbank_12v();
+    let d = flyback_design(&s).unwrap();
+    let l = d.primary_inductance.value;
+    let f = 65e3;
+    let n = d.turns_ratios[0];
+    let vrs = n * 0.6;
+    let limit = d.current_limit.value * 1.1;
+    for (p, line) in d.short_circuit.iter().zip([90.0, 264.0]) {
+        let v = 2f64.sqrt() * line - 2.0;
+        near(p.bus_voltage.value, v, 1e-12);
+        assert!(p.settles);
+        near(p.primary_current_peak.value, limit + v * 100e-9 / l, 1e-9);
+        let t_on = vrs / (f * (v + vrs));
+        near(p.balance_on_time.value, t_on, 1e-12);
+        near(p.on_time_ratio, 150e-9 / t_on, 1e-9);
+        near(
+            p.primary_current_valley.value,
+            p.primary_current_peak.value - v * t_on / l,
+            1e-9,
+        );
+        // power through the inductance, ½·L·(I_pk² − I_v²)·f, all of it into the rectifier
+        let pk = p.primary_current_peak.value;
+        let iv = p.primary_current_valley.value;
+        let power = 0.5 * l * (pk * pk - iv * iv) * f;
+        near(p.power_during_fault.value, power, 2e-3);
+        near(
+            p.power_average.value,
+            p.power_during_fault.value * 0.05 / 0.5,
+            1e-12,
+        );
+        near(
+            p.rectifier_current_during_fault.value,
+            p.power_during_fault.value / 0.6,
+            1e-12,
+        );
+        assert!(p.cycles_to_limit >= 1);
+    }
+    assert!(d.checks.iter().any(|c| c.id == "short_circuit_settles"));
+}
+
+#[test]
+fn a_minimum_on_time_above_the_balance_runs_the_short_circuit_current_away() {
+    // With t_min = 400 ns at high line (balance about 160 ns) the current climbs by
+    // Δ = (V·t_min − V_rs·(1/f − t_min))/L every cycle (closed form of the staircase): the
+    // peak after N + 1 cycles exceeds the one after N by Δ, and the rule fails. Folding the
+    // frequency back to 20 kHz lengthens the balance on-time (×3.25) and it settles again.
+    let mut s = fernbank_12v();
+    s.minimum_on_time = si(400e-9);
+    let f = 65e3;
+    s.fault_time = si(1000.0 / f);
+    let a = flyback_design(&s).unwrap();
+    s.fault_time = si(1001.0 / f);
+    let b = flyback_design(&s).unwrap();
+    let (pa, pb) = (&a.short_circuit[1], &b.short_circuit[1]);
+    assert!(!pa.settles);
+    let (l, v) = (a.primary_inductance.value, pa.bus_voltage.value);
+    let vrs = pa.reflected_voltage_shorted.value;
+    let rise = (v * 400e-9 - vrs * (1.0 / f - 400e-9)) / l;
+    near(
+        pb.primary_current_peak.value - pa.primary_current_peak.value,
+        rise,
+        1e-6,
+    );
+    let c = a
+        .checks
+        .iter()
+        .find(|c| c.id == "short_circuit_settles")
+        .unwrap();
+    assert_eq!(c.status, gapwise::rules::Status::Fail);
+    s.short_circuit_frequency = Some(si(20e3));
+    let d = flyback_design(&s).unwrap();
+    assert!(d.short_circuit.iter().all(|p| p.settles));
+    // bad input names the parameter
+    s.minimum_on_time = si(20e-6);
+    let e = flyback_design(&s).unwrap_err().to_string();
+    assert!(e.contains("`minimum_on_time`"), "{e}");
+    s.minimum_on_time = si(150e-9);
+    s.short_circuit_frequency = Some(si(100e3));
+    let e = flyback_design(&s).unwrap_err().to_string();
+    assert!(e.contains("`short_circuit_frequency`"), "{e}");
+    // the script table has a row per line
+    let rows = eval(
+        "short_circuit_table(flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A})).rows",
+    );
+    assert_eq!(rows, "2");
+}

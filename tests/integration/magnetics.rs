@@ -748,6 +748,7 @@ mod tests_support {
             current_limit: si(0.55),
             current_limit_tolerance: 0.1,
             current_limit_overshoot: si(0.0),
+            short_circuit_peak_current: None,
             reflected_voltage: si(90.0),
             output_voltage: si(12.0),
             rectifier_drop: si(0.5),
@@ -1081,4 +1082,22 @@ mod existing_transformer {
     .to_string();
         assert!(e.contains("gapp"), "{e}");
     }
+}
+
+#[test]
+fn the_core_does_not_saturate_with_the_output_shorted() {
+    // the short-circuit peak from the flyback design reaches the transformer, and its flux is
+    // B = L·(1 + tol_L)·I_sc/(N·A_min) (McLyman 2011, chapter 8), checked against Bsat hot
+    let d = "let d = flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A}); \
+             let t = transformer_inputs_from_flyback(d); t.core = \"EF25\"; t.margin_width = 2 * mm; \
+             let r = transformer_design(t); let x = r.design; ";
+    let b = eval_quantity(&format!(
+        "{d} x.flux_density_short_circuit_peak / (t.primary_inductance * 1.1 * t.short_circuit_peak_current \
+         / (x.primary_turns * core_by_size(\"EF25\").minimum_area))"
+    ));
+    check_near(b, "1", 1e-9);
+    let ids = eval(&format!(
+        "{d} let ids = []; for c in r.checks {{ ids.push(c.id); }} ids.contains(\"saturation_in_short_circuit\")"
+    ));
+    assert_eq!(ids, "true");
 }

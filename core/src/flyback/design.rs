@@ -6,6 +6,7 @@ use super::operating_point::{show, Context, OperatingPoint};
 use super::output::{post_filter, PostFilter};
 use super::rules::flyback_rule_book;
 use super::rules::DRAIN_DERATING;
+use super::short_circuit::{short_circuit_at, ShortCircuitPoint};
 use super::spec::{
     BulkChoice, ClampKind, FlybackSpec, InputRange, Leakage, ModeTarget,
     DEFAULT_CLAMP_OVERSHOOT_FRACTION, DEFAULT_VALLEY_FRACTION, MIN_CLAMP_OVERSHOOT_FRACTION,
@@ -144,6 +145,9 @@ pub struct FlybackDesign {
     pub checks: Vec<CheckResult>,
     /// The values the specification left open and the design derived, with how.
     pub defaults: Vec<DerivedDefault>,
+    /// The regulated output shorted, at low and high line, at the highest current limit
+    /// (empty when its rectifier has no drop: nothing would demagnetise the inductance).
+    pub short_circuit: Vec<ShortCircuitPoint>,
 }
 
 fn leakage_of(spec: &FlybackSpec, l: f64) -> f64 {
@@ -629,9 +633,40 @@ fn design(spec: &FlybackSpec) -> Result<FlybackDesign> {
         }
     });
 
-    // (6) rules
+    // (6) short circuit at both lines, at the highest limit
+    // (an ideal rectifier without drop leaves nothing to demagnetise a shorted output: no
+    // short-circuit analysis then)
+    let short_circuit = if reg.rectifier_drop.value > 0.0 {
+        vec![
+            short_circuit_at(
+                spec,
+                line_lo,
+                vpk_lo,
+                l,
+                ilim_max,
+                turns[spec.regulated_output],
+            ),
+            short_circuit_at(
+                spec,
+                line_hi,
+                vpk_hi,
+                l,
+                ilim_max,
+                turns[spec.regulated_output],
+            ),
+        ]
+    } else {
+        Vec::new()
+    };
+    // (7) rules
     let rules = flyback_rule_book(spec, si(bulk_valley_needed))?;
-    let checks = evaluate_rules(spec, &rules, &corners, hold)?;
+    let mut checks = evaluate_rules(spec, &rules, &corners, hold)?;
+    if !short_circuit.is_empty() {
+        checks.push(rules.check(
+            "short_circuit_settles",
+            Quantity::number(fold_max(short_circuit.iter().map(|p| p.on_time_ratio))),
+        )?);
+    }
     let efficiency_residual = corners
         .iter()
         .map(|c| c.efficiency_residual)
@@ -662,6 +697,7 @@ fn design(spec: &FlybackSpec) -> Result<FlybackDesign> {
         checks,
         corners,
         defaults,
+        short_circuit,
     })
 }
 
@@ -989,6 +1025,14 @@ impl FlybackDesign {
         }
         t
     }
+    /// The shorted output at low and high line, one row per line (see [`ShortCircuitPoint`]).
+    pub fn short_circuit_table(&self) -> Table {
+        let mut t = Table::new();
+        for p in &self.short_circuit {
+            t.push_row(p.fields());
+        }
+        t
+    }
     /// The worst rule status of [`FlybackDesign::checks`] (fail over warn over pass).
     pub fn worst_status(&self) -> Status {
         worst_status(&self.checks)
@@ -1137,6 +1181,26 @@ impl Record for FlybackDesign {
             v.push(Field::quantity(
                 "bias_voltage_light_load",
                 b.voltage_light_load,
+            ));
+        }
+        if !self.short_circuit.is_empty() {
+            v.push(Field::quantity(
+                "short_circuit_current_peak",
+                si::<ElectricCurrent>(fold_max(
+                    self.short_circuit
+                        .iter()
+                        .map(|p| p.primary_current_peak.value),
+                )),
+            ));
+            v.push(Field::quantity(
+                "short_circuit_power_average",
+                si::<Power>(fold_max(
+                    self.short_circuit.iter().map(|p| p.power_average.value),
+                )),
+            ));
+            v.push(Field::new(
+                "short_circuit_settles",
+                self.short_circuit.iter().all(|p| p.settles),
             ));
         }
         v.push(Field::new(

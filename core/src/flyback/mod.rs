@@ -22,6 +22,7 @@ mod operating_point;
 mod output;
 mod report;
 mod rules;
+mod short_circuit;
 mod spec;
 mod waveform;
 
@@ -35,6 +36,7 @@ pub use operating_point::{OperatingPoint, EFFICIENCY_TOLERANCE, MAX_EFFICIENCY_I
 pub use output::{post_filter, PostFilter, SecondaryPoint};
 pub use report::design_report_markdown;
 pub use rules::{flyback_rule_book, DRAIN_DERATING, RECTIFIER_DERATING};
+pub use short_circuit::ShortCircuitPoint;
 pub use spec::{
     BiasWinding, BulkChoice, ClampKind, EfficiencyModel, FlybackSpec, InputRange, Leakage,
     LossParameters, ModeTarget, OutputWinding, DEFAULT_CLAMP_OVERSHOOT_FRACTION,

@@ -24,6 +24,7 @@ pub const RECTIFIER_DERATING: f64 = 0.8;
 /// | `mode_target` | L / L_boundary at low line, full load, if a mode target is given | DCM and boundary: at most 1; CCM: at least 1 | Erickson & Maksimović 3rd ed., ch. 5 |
 /// | `bulk_valley_minimum` | bulk valley at low line, full load | at least the voltage at which the duty limit is reached | volt-second balance |
 /// | `hold_up_time` | hold-up time from the low-line valley, if required | at least `hold_up_time` | spec |
+/// | `short_circuit_settles` | output shorted: shortest on-time over the balance on-time V_rs/(f·(V + V_rs)), worst line | at most 1 (above, the current climbs every cycle) | volt-second balance |
 ///
 /// `bulk_valley_needed` is the design's own minimum for `bulk_valley_minimum`.
 pub fn flyback_rule_book(
@@ -118,6 +119,14 @@ pub fn flyback_rule_book(
             0.05,
         )?);
     }
+    b.add(Rule::new(
+        "short_circuit_settles",
+        "with the output shorted the shortest on-time lets the current settle at the limit",
+        "volt-second balance of the magnetising inductance (Erickson & Maksimović 3rd ed., ch. 2)",
+        Comparison::AtMost,
+        n(1.0),
+        0.1,
+    )?);
     for (id, limit) in &spec.rule_limits {
         b.set_limit(id, *limit)?;
     }

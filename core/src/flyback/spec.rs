@@ -221,6 +221,17 @@ pub struct FlybackSpec {
     pub current_sense_delay: Time,
     /// Largest duty cycle the controller can give.
     pub max_duty_cycle: f64,
+    /// Shortest on-time the controller gives (leading-edge blanking and its own delay): with
+    /// the output shorted it decides whether the current settles at the limit.
+    pub minimum_on_time: Time,
+    /// How long the controller runs at the current limit before its fault timer stops it
+    /// (auto-restart).
+    pub fault_time: Time,
+    /// How long the controller stays off before it tries again (auto-restart).
+    pub restart_off_time: Time,
+    /// Switching frequency while the output is shorted, where the controller folds its
+    /// frequency back; None: the switching frequency.
+    pub short_circuit_frequency: Option<Frequency>,
     /// Mode target for choosing the primary inductance; with `primary_inductance` given, it
     /// becomes a check.
     pub mode: Option<ModeTarget>,
@@ -287,6 +298,10 @@ impl FlybackSpec {
             current_limit_tolerance: 0.1,
             current_sense_delay: si(100e-9),
             max_duty_cycle: 0.7,
+            minimum_on_time: si(150e-9),
+            fault_time: si(50e-3),
+            restart_off_time: si(450e-3),
+            short_circuit_frequency: None,
             mode: Some(ModeTarget::Continuous { ripple_ratio: 0.8 }),
             primary_inductance: None,
             reflected_voltage: si(100.0),
@@ -440,6 +455,38 @@ impl FlybackSpec {
                  `max_duty_cycle`/`switching_frequency` = {}",
                 Quantity::from_typed(self.current_sense_delay),
                 Quantity::new(longest_on, crate::units::Dimension::TIME)
+            )));
+        }
+        non_negative("minimum_on_time", self.minimum_on_time)?;
+        if self.minimum_on_time.value >= longest_on {
+            return Err(Error::invalid(format!(
+                "`minimum_on_time` ({}) must be shorter than the longest on-time, \
+                 `max_duty_cycle`/`switching_frequency` = {}",
+                Quantity::from_typed(self.minimum_on_time),
+                Quantity::new(longest_on, crate::units::Dimension::TIME)
+            )));
+        }
+        positive("fault_time", self.fault_time)?;
+        non_negative("restart_off_time", self.restart_off_time)?;
+        let f_short = match self.short_circuit_frequency {
+            Some(fs) => {
+                positive("short_circuit_frequency", fs)?;
+                if fs > self.switching_frequency {
+                    return Err(Error::invalid(format!(
+                        "`short_circuit_frequency` ({}) must be at most `switching_frequency` ({}): \
+                         a controller folds its frequency back, not up",
+                        Quantity::from_typed(fs),
+                        Quantity::from_typed(self.switching_frequency)
+                    )));
+                }
+                fs.value
+            }
+            None => self.switching_frequency.value,
+        };
+        if self.fault_time.value * f_short > 1e7 {
+            return Err(Error::out_of_range(format!(
+                "`fault_time` ({}) spans more than 10 million switching cycles",
+                Quantity::from_typed(self.fault_time)
             )));
         }
         let half_period = 0.5 / self.switching_frequency.value;

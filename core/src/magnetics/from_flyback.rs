@@ -32,6 +32,9 @@ pub struct TransformerOperatingPoint {
     /// Rise past the highest limit during the sense delay: the design's highest peak at the
     /// current limit less I_lim·(1 + tol).
     pub current_limit_overshoot: ElectricCurrent,
+    /// Highest primary peak with the regulated output shorted (the design's short circuit;
+    /// None when the design has none).
+    pub short_circuit_peak_current: Option<ElectricCurrent>,
     /// Reflected voltage.
     pub reflected_voltage: ElectricPotential,
     /// Regulated output voltage.
@@ -102,6 +105,11 @@ pub fn transformer_operating_point(
                 - design.current_limit.value * (1.0 + design.current_limit_tolerance))
                 .max(0.0),
         ),
+        short_circuit_peak_current: design
+            .short_circuit
+            .iter()
+            .map(|p| p.primary_current_peak)
+            .reduce(|a, b| if b > a { b } else { a }),
         reflected_voltage: design.reflected_voltage,
         output_voltage: output.voltage,
         rectifier_drop: output.rectifier_drop,
@@ -134,6 +142,7 @@ impl TransformerOperatingPoint {
         spec.current_limit = self.current_limit;
         spec.current_limit_tolerance = self.current_limit_tolerance;
         spec.current_limit_overshoot = self.current_limit_overshoot;
+        spec.short_circuit_peak_current = self.short_circuit_peak_current;
         spec.reflected_voltage = self.reflected_voltage;
         spec.output_voltage = self.output_voltage;
         spec.rectifier_drop = self.rectifier_drop;
@@ -166,6 +175,9 @@ impl Record for TransformerOperatingPoint {
             Field::quantity("rectifier_drop", self.rectifier_drop),
             Field::quantity("output_current", self.output_current),
         ];
+        if let Some(i) = self.short_circuit_peak_current {
+            f.push(Field::quantity("short_circuit_peak_current", i));
+        }
         if let Some(b) = self.bias {
             f.push(Field::quantity("bias_voltage", b.voltage));
             f.push(Field::quantity("bias_rectifier_drop", b.rectifier_drop));

@@ -105,6 +105,9 @@ pub struct TransformerSpec {
     /// sense delay, V_bulk·t_d/L (`flyback_design` computes it); added to I_lim·(1 + tol) for
     /// the flux at the current limit. Zero: no delay.
     pub current_limit_overshoot: ElectricCurrent,
+    /// Highest primary peak with the output shorted (`flyback_design`'s short-circuit
+    /// staircase); checked against saturation hot, not used for the turns. None: not checked.
+    pub short_circuit_peak_current: Option<ElectricCurrent>,
     /// Reflected voltage target.
     pub reflected_voltage: ElectricPotential,
     /// Regulated output voltage.
@@ -344,6 +347,9 @@ pub struct TransformerDesign {
     pub saturation_hot: MagneticFluxDensity,
     /// 1 − B_limit/Bsat(100 °C).
     pub saturation_margin: f64,
+    /// Peak flux density with the output shorted, L·(1 + tol_L)·I_sc/(Np·min(Amin, Ae)) (None
+    /// when no short-circuit peak is given).
+    pub flux_density_short_circuit_peak: Option<MagneticFluxDensity>,
     /// Core loss (iGSE).
     pub core_loss: Power,
     /// Copper loss, all windings.
@@ -621,6 +627,12 @@ fn transformer_build(
     let b_lim = l_max * ilim_max / (np as f64 * amin);
     let bsat = mat.saturation_100c.value;
     let sat_margin = 1.0 - b_lim / bsat;
+    let b_short = match spec.short_circuit_peak_current {
+        Some(i) => {
+            Some(l_max * non_negative("short_circuit_peak_current", i)?.value / (np as f64 * amin))
+        }
+        None => None,
+    };
 
     // core loss
     let period = 1.0 / fsw.value;
@@ -930,6 +942,7 @@ fn transformer_build(
         flux_density_limit_peak: si(b_lim),
         saturation_hot: si(bsat),
         saturation_margin: sat_margin,
+        flux_density_short_circuit_peak: b_short.map(si),
         core_loss: si(core_loss),
         copper_loss: si(copper_total),
         total_loss: si(total),
@@ -982,6 +995,9 @@ impl Record for TransformerDesign {
             ),
             Field::quantity("skin_depth", self.skin_depth),
         ];
+        if let Some(b) = self.flux_density_short_circuit_peak {
+            v.push(Field::quantity("flux_density_short_circuit_peak", b));
+        }
         for (k, x) in self.additional_outputs.iter().enumerate() {
             let key = format!("output_{}", k + 2);
             v.push(Field::new(format!("{key}.turns"), x.turns as i64));
@@ -1093,6 +1109,16 @@ pub fn transformer_checks(
             num(d.insulation_layers_present as f64),
         )?,
     ];
+    if let Some(b) = d.flux_density_short_circuit_peak {
+        out.push(rule(
+            "saturation_in_short_circuit",
+            "peak flux density with the output shorted, upper inductance tolerance, smallest section, against saturation at 100 °C",
+            "B = L·I/(N·A), McLyman 2011, chapter 8; the limit is the material's hot saturation",
+            Comparison::AtMost,
+            q(d.saturation_hot),
+            q(b),
+        )?);
+    }
     if let (Some(c), false) = (spec.required_creepage, spec.secondary_triple_insulated) {
         let c = positive("required_creepage", c)?;
         out.push(rule(

@@ -57,6 +57,10 @@ static DESIGN: FunctionDoc = FunctionDoc {
         ParamDoc::with_default("current_limit_tolerance", Number, "0.1", "relative tolerance of the current limit"),
         ParamDoc::with_default("current_sense_delay", Q("s"), "100 ns", "delay from limit to turn-off"),
         ParamDoc::with_default("max_duty_cycle", Number, "0.7", "controller's largest duty cycle"),
+        ParamDoc::with_default("minimum_on_time", Q("s"), "150 ns", "controller's shortest on-time (blanking and delay); decides whether a shorted output's current settles"),
+        ParamDoc::with_default("fault_time", Q("s"), "50 ms", "auto-restart: time at the current limit before the controller stops"),
+        ParamDoc::with_default("restart_off_time", Q("s"), "450 ms", "auto-restart: time off before it tries again"),
+        ParamDoc::optional("short_circuit_frequency", Q("Hz"), "switching frequency with the output shorted (frequency foldback); else switching_frequency"),
         ParamDoc::with_default("mode", Text, "ccm", "inductance target at low line, full load: \"ccm\", \"dcm\" or \"boundary\"; with primary_inductance it is checked instead"),
         ParamDoc::with_default("ripple_ratio", Number, "0.8", "CCM: ΔI / I_mid at low line, full load (0.05 … 1.99)"),
         ParamDoc::with_default("dcm_margin", Number, "0.1", "DCM: relative margin below the boundary inductance"),
@@ -83,7 +87,7 @@ static DESIGN: FunctionDoc = FunctionDoc {
         ParamDoc::with_default("light_load_fraction", Number, "0.1", "light load as a fraction of full load"),
         ParamDoc::optional("hold_up_end_voltage", Q("V"), "bulk voltage ending hold-up; else where the duty limit is reached"),
         ParamDoc::optional("hold_up_time", Q("s"), "required hold-up time (adds its rule)"),
-        ParamDoc::optional("rule_limits", ParamKind::Map, "rule id → limit, overriding the default rule book: duty_cycle_limit (number), drain_voltage_derating (V), rectifier_voltage_derating (reverse voltage over rating), output_capacitor_ripple_current and bulk_capacitor_ripple_current (ripple over rating), mode_target (L over the boundary inductance), bulk_valley_minimum (V), hold_up_time (s)"),
+        ParamDoc::optional("rule_limits", ParamKind::Map, "rule id → limit, overriding the default rule book: duty_cycle_limit (number), drain_voltage_derating (V), rectifier_voltage_derating (reverse voltage over rating), output_capacitor_ripple_current and bulk_capacitor_ripple_current (ripple over rating), mode_target (L over the boundary inductance), bulk_valley_minimum (V), hold_up_time (s), short_circuit_settles (shortest over balance on-time)"),
     ],
     returns: "a FlybackDesign; its summary fields read as properties (d.primary_inductance)",
     example: DESIGN_EXAMPLE,
@@ -182,6 +186,15 @@ static DEFAULTS: FunctionDoc = FunctionDoc {
     keys: &[],
     returns: "a Table with key, value and derivation",
     example: "flyback_defaults(flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A, min_line_voltage: 180 * V, max_line_voltage: 265 * V}))",
+};
+static SHORT: FunctionDoc = FunctionDoc {
+    name: "short_circuit_table",
+    domain: Domain::Flyback,
+    summary: "The regulated output shorted, at low and high line: the primary current's staircase to the highest limit plus the sense-delay overshoot (or its runaway when the shortest on-time exceeds the volt-second balance), and the power and rectifier current the auto-restart lets through.",
+    params: &[ParamDoc::required("design", ParamKind::Any, "a FlybackDesign")],
+    keys: &[],
+    returns: "a Table, one row per line: bus_voltage, balance_on_time, shortest_on_time, on_time_ratio, settles, cycles_to_limit, primary_current_peak, power_during_fault, power_average, rectifier currents",
+    example: "short_circuit_table(flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A}))",
 };
 static CHECKS: FunctionDoc = FunctionDoc {
     name: "flyback_checks",
@@ -431,6 +444,10 @@ fn spec_from_map(m: &Map) -> Result<FlybackSpec> {
         current_limit_tolerance: s.number("current_limit_tolerance")?,
         current_sense_delay: s.quantity("current_sense_delay")?,
         max_duty_cycle: s.number("max_duty_cycle")?,
+        minimum_on_time: s.quantity("minimum_on_time")?,
+        fault_time: s.quantity("fault_time")?,
+        restart_off_time: s.quantity("restart_off_time")?,
+        short_circuit_frequency: s.optional_quantity("short_circuit_frequency")?,
         mode,
         primary_inductance,
         reflected_voltage,
@@ -540,6 +557,9 @@ pub(crate) fn register(api: &mut Api, state: &Arc<HostState>) {
     });
     def!(api, &OVERLOAD, |d: ScriptFlyback| d.design.overload_table());
     def!(api, &DEFAULTS, |d: ScriptFlyback| d.design.defaults_table());
+    def!(api, &SHORT, |d: ScriptFlyback| d
+        .design
+        .short_circuit_table());
     let st = state.clone();
     def!(api, &CHECKS, move |d: ScriptFlyback| {
         let checks = d.design.checks.clone();
