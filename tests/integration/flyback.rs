@@ -1345,3 +1345,59 @@ fn a_minimum_on_time_above_the_balance_runs_the_short_circuit_current_away() {
     );
     assert_eq!(rows, "2");
 }
+
+#[test]
+fn junction_temperatures_follow_the_thermal_resistances() {
+    // T_j = T_a + P·(R_θjc + R_θca) and R_θca,needed = (T_j,max − T_a)/P − R_θjc (series
+    // thermal resistance, Hart 2011, heat-sink section; hand calculation of the formula).
+    let s = fernbank_12v();
+    let d = flyback_design(&s).unwrap();
+    let k = |t: f64| 273.15 + t;
+    let sw = &d.junctions[0];
+    assert_eq!(sw.part, "switch");
+    let worst = d.corners[..4]
+        .iter()
+        .map(|c| {
+            c.losses.switch_conduction.value
+                + c.losses.switch_capacitive.value
+                + c.losses.switch_overlap.value
+        })
+        .fold(0.0, f64::max);
+    near(sw.loss.value, worst, 1e-12);
+    near(sw.junction_temperature.value, k(50.0) + worst * 62.5, 1e-12);
+    near(
+        sw.case_to_ambient_needed.unwrap().value,
+        75.0 / worst - 2.5,
+        1e-12,
+    );
+    // the 12 V rectifier: 0.6 V × 1.25 A = 0.75 W at full load, 50 °C + 0.75 × 63 K/W
+    let r = &d.junctions[1];
+    near(r.loss.value, 0.75, 1e-12);
+    near(r.junction_temperature.value, k(50.0 + 0.75 * 63.0), 1e-12);
+    // at the current limit the overload is reported, not ruled
+    let cl = d.corner("current_limit_high_line").unwrap();
+    let at_limit = 0.6 * cl.secondaries[0].current_avg.value;
+    assert!(r.junction_temperature_at_limit.value >= k(50.0) + at_limit * 63.0 - 1e-9);
+    // a heat sink at exactly the needed resistance lands on the limit; a hotter enclosure fails
+    let mut s2 = s.clone();
+    s2.switch_thermal.case_to_ambient = sw.case_to_ambient_needed.unwrap();
+    let d2 = flyback_design(&s2).unwrap();
+    near(d2.junctions[0].junction_temperature.value, k(125.0), 1e-9);
+    let mut s3 = s.clone();
+    s3.ambient_temperature = si(k(85.0));
+    let d3 = flyback_design(&s3).unwrap();
+    let c = d3
+        .checks
+        .iter()
+        .find(|c| c.id == "rectifier_junction_temperature")
+        .unwrap();
+    assert_eq!(c.status, gapwise::rules::Status::Fail);
+    // a junction limit below the ambient is refused by name
+    s3.ambient_temperature = si(k(130.0));
+    let e = flyback_design(&s3).unwrap_err().to_string();
+    assert!(e.contains("`switch_max_junction_temperature`"), "{e}");
+    assert_eq!(
+        eval("junction_table(flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A})).rows"),
+        "2"
+    );
+}

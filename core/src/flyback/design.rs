@@ -11,6 +11,7 @@ use super::spec::{
     BulkChoice, ClampKind, FlybackSpec, InputRange, Leakage, ModeTarget,
     DEFAULT_CLAMP_OVERSHOOT_FRACTION, DEFAULT_VALLEY_FRACTION, MIN_CLAMP_OVERSHOOT_FRACTION,
 };
+use super::thermal::{junction_temperatures, JunctionTemperature};
 use super::waveform::{boundary_duty, boundary_inductance_si, ConductionMode};
 use crate::error::{Error, ErrorKind, Result};
 use crate::mains::{bulk_capacitance_for_valley, hold_up_time};
@@ -148,6 +149,8 @@ pub struct FlybackDesign {
     /// The regulated output shorted, at low and high line, at the highest current limit
     /// (empty when its rectifier has no drop: nothing would demagnetise the inductance).
     pub short_circuit: Vec<ShortCircuitPoint>,
+    /// Junction temperature of the switch and of each output rectifier at its worst corner.
+    pub junctions: Vec<JunctionTemperature>,
 }
 
 fn leakage_of(spec: &FlybackSpec, l: f64) -> f64 {
@@ -661,6 +664,19 @@ fn design(spec: &FlybackSpec) -> Result<FlybackDesign> {
     // (7) rules
     let rules = flyback_rule_book(spec, si(bulk_valley_needed))?;
     let mut checks = evaluate_rules(spec, &rules, &corners, hold)?;
+    let junctions = junction_temperatures(spec, &corners);
+    for j in &junctions {
+        let id = if j.part == "switch" {
+            "switch_junction_temperature"
+        } else {
+            "rectifier_junction_temperature"
+        };
+        let mut c = rules.check(id, Quantity::from_typed(j.junction_temperature))?;
+        if j.part != "switch" {
+            c.description = format!("{} ({})", c.description, j.part.replace('_', " "));
+        }
+        checks.push(c);
+    }
     if !short_circuit.is_empty() {
         checks.push(rules.check(
             "short_circuit_settles",
@@ -698,6 +714,7 @@ fn design(spec: &FlybackSpec) -> Result<FlybackDesign> {
         corners,
         defaults,
         short_circuit,
+        junctions,
     })
 }
 
@@ -1022,6 +1039,14 @@ impl FlybackDesign {
                 Field::new("value", d.value.to_string()),
                 Field::new("derivation", d.derivation.as_str()),
             ]);
+        }
+        t
+    }
+    /// Junction temperatures, one row per part (see [`JunctionTemperature`]).
+    pub fn junction_table(&self) -> Table {
+        let mut t = Table::new();
+        for j in &self.junctions {
+            t.push_row(j.fields());
         }
         t
     }

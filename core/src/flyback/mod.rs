@@ -24,6 +24,7 @@ mod report;
 mod rules;
 mod short_circuit;
 mod spec;
+mod thermal;
 mod waveform;
 
 pub use clamp::{clamp_dissipation, ClampDesign, CLAMP_CAPACITOR_RIPPLE};
@@ -42,4 +43,5 @@ pub use spec::{
     LossParameters, ModeTarget, OutputWinding, DEFAULT_CLAMP_OVERSHOOT_FRACTION,
     DEFAULT_VALLEY_FRACTION, MIN_CLAMP_OVERSHOOT_FRACTION,
 };
+pub use thermal::{JunctionTemperature, ThermalPath};
 pub use waveform::{boundary_inductance, ConductionMode};

@@ -1,10 +1,11 @@
 //! What a flyback must do: input range, outputs, switching, mode target, stresses, losses.
 
+use super::thermal::ThermalPath;
 use crate::error::{Error, Result};
 use crate::units::validate::{non_negative, number_within, positive};
 use crate::units::{
     si, Capacitance, ElectricCurrent, ElectricPotential, ElectricalResistance, Frequency,
-    Inductance, Power, Quantity, Time,
+    Inductance, Power, Quantity, ThermodynamicTemperature, Time,
 };
 
 /// The supply's input.
@@ -264,6 +265,12 @@ pub struct FlybackSpec {
     pub efficiency: EfficiencyModel,
     /// Loss model parameters.
     pub losses: LossParameters,
+    /// Air temperature around the switch and rectifiers (inside the enclosure).
+    pub ambient_temperature: ThermodynamicTemperature,
+    /// The switch's thermal path and junction limit.
+    pub switch_thermal: ThermalPath,
+    /// Every output rectifier's thermal path and junction limit (one description for all).
+    pub rectifier_thermal: ThermalPath,
     /// Light load as a fraction of full load on every output (0 < x < 1).
     pub light_load_fraction: f64,
     /// Bulk voltage down to which the supply must keep regulating after the line drops
@@ -315,6 +322,19 @@ impl FlybackSpec {
             leakage: Leakage::Fraction(0.02),
             efficiency: EfficiencyModel::Computed { start: 0.85 },
             losses: LossParameters::default(),
+            ambient_temperature: si(273.15 + 50.0),
+            // a through-hole power package in free air: about 2.5 K/W junction to case and
+            // 60 K/W case to ambient (common practice, no published source); 125 °C house limit
+            switch_thermal: ThermalPath {
+                junction_to_case: si(2.5),
+                case_to_ambient: si(60.0),
+                max_junction_temperature: si(273.15 + 125.0),
+            },
+            rectifier_thermal: ThermalPath {
+                junction_to_case: si(3.0),
+                case_to_ambient: si(60.0),
+                max_junction_temperature: si(273.15 + 125.0),
+            },
             light_load_fraction: 0.1,
             hold_up_end_voltage: None,
             hold_up_time: None,
@@ -557,6 +577,25 @@ impl FlybackSpec {
             0.3,
         )?;
         number_within("light_load_fraction", self.light_load_fraction, 0.01, 0.99)?;
+        for (name, p) in [
+            ("switch", &self.switch_thermal),
+            ("rectifier", &self.rectifier_thermal),
+        ] {
+            non_negative(&format!("{name}_junction_to_case"), p.junction_to_case)?;
+            non_negative(&format!("{name}_case_to_ambient"), p.case_to_ambient)?;
+            positive(
+                &format!("{name}_max_junction_temperature"),
+                p.max_junction_temperature,
+            )?;
+            if p.max_junction_temperature <= self.ambient_temperature {
+                return Err(Error::invalid(format!(
+                    "`{name}_max_junction_temperature` ({}) must be above `ambient_temperature` ({})",
+                    Quantity::from_typed(p.max_junction_temperature),
+                    Quantity::from_typed(self.ambient_temperature)
+                )));
+            }
+        }
+        positive("ambient_temperature", self.ambient_temperature)?;
         if let Some(v) = self.hold_up_end_voltage {
             positive("hold_up_end_voltage", v)?;
         }

@@ -85,9 +85,16 @@ static DESIGN: FunctionDoc = FunctionDoc {
         ParamDoc::with_default("controller_power", Q("W"), "0.1 W", "controller supply power without a bias winding"),
         ParamDoc::with_default("transformer_loss_fraction", Number, "0.02", "transformer loss estimate as a fraction of output power"),
         ParamDoc::with_default("light_load_fraction", Number, "0.1", "light load as a fraction of full load"),
+        ParamDoc::with_default("ambient_temperature", Q("°C"), "50 °C", "air around the switch and rectifiers"),
+        ParamDoc::with_default("switch_junction_to_case", Q("K/W"), "2.5 K/W", "switch junction-to-case thermal resistance"),
+        ParamDoc::with_default("switch_case_to_ambient", Q("K/W"), "60 K/W", "switch case to ambient: heat sink and interface, or the package in free air"),
+        ParamDoc::with_default("switch_max_junction_temperature", Q("°C"), "125 °C", "house limit of the switch junction"),
+        ParamDoc::with_default("rectifier_junction_to_case", Q("K/W"), "3 K/W", "output rectifier junction-to-case thermal resistance (every output)"),
+        ParamDoc::with_default("rectifier_case_to_ambient", Q("K/W"), "60 K/W", "output rectifier case to ambient (every output)"),
+        ParamDoc::with_default("rectifier_max_junction_temperature", Q("°C"), "125 °C", "house limit of the rectifier junctions"),
         ParamDoc::optional("hold_up_end_voltage", Q("V"), "bulk voltage ending hold-up; else where the duty limit is reached"),
         ParamDoc::optional("hold_up_time", Q("s"), "required hold-up time (adds its rule)"),
-        ParamDoc::optional("rule_limits", ParamKind::Map, "rule id → limit, overriding the default rule book: duty_cycle_limit (number), drain_voltage_derating (V), rectifier_voltage_derating (reverse voltage over rating), output_capacitor_ripple_current and bulk_capacitor_ripple_current (ripple over rating), mode_target (L over the boundary inductance), bulk_valley_minimum (V), hold_up_time (s), short_circuit_settles (shortest over balance on-time)"),
+        ParamDoc::optional("rule_limits", ParamKind::Map, "rule id → limit, overriding the default rule book: duty_cycle_limit (number), drain_voltage_derating (V), rectifier_voltage_derating (reverse voltage over rating), output_capacitor_ripple_current and bulk_capacitor_ripple_current (ripple over rating), mode_target (L over the boundary inductance), bulk_valley_minimum (V), hold_up_time (s), short_circuit_settles (shortest over balance on-time), switch_junction_temperature and rectifier_junction_temperature (°C)"),
     ],
     returns: "a FlybackDesign; its summary fields read as properties (d.primary_inductance)",
     example: DESIGN_EXAMPLE,
@@ -195,6 +202,15 @@ static SHORT: FunctionDoc = FunctionDoc {
     keys: &[],
     returns: "a Table, one row per line: bus_voltage, balance_on_time, shortest_on_time, on_time_ratio, settles, cycles_to_limit, primary_current_peak, power_during_fault, power_average, rectifier currents",
     example: "short_circuit_table(flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A}))",
+};
+static JUNCTIONS: FunctionDoc = FunctionDoc {
+    name: "junction_table",
+    domain: Domain::Flyback,
+    summary: "Junction temperature of the switch and each output rectifier at its worst corner, T_a + P·(R_θjc + R_θca), with the case-to-ambient thermal resistance (heat sink) that holds the junction limit.",
+    params: &[ParamDoc::required("design", ParamKind::Any, "a FlybackDesign")],
+    keys: &[],
+    returns: "a Table, one row per part: part, corner, loss, junction_temperature, max_junction_temperature, case_to_ambient_needed",
+    example: "junction_table(flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A}))",
 };
 static CHECKS: FunctionDoc = FunctionDoc {
     name: "flyback_checks",
@@ -470,6 +486,17 @@ fn spec_from_map(m: &Map) -> Result<FlybackSpec> {
             transformer_loss_fraction: s.number("transformer_loss_fraction")?,
         },
         light_load_fraction: s.number("light_load_fraction")?,
+        ambient_temperature: s.quantity("ambient_temperature")?,
+        switch_thermal: crate::flyback::ThermalPath {
+            junction_to_case: s.quantity("switch_junction_to_case")?,
+            case_to_ambient: s.quantity("switch_case_to_ambient")?,
+            max_junction_temperature: s.quantity("switch_max_junction_temperature")?,
+        },
+        rectifier_thermal: crate::flyback::ThermalPath {
+            junction_to_case: s.quantity("rectifier_junction_to_case")?,
+            case_to_ambient: s.quantity("rectifier_case_to_ambient")?,
+            max_junction_temperature: s.quantity("rectifier_max_junction_temperature")?,
+        },
         hold_up_end_voltage: s.optional_quantity("hold_up_end_voltage")?,
         hold_up_time: s.optional_quantity("hold_up_time")?,
         rule_limits,
@@ -560,6 +587,9 @@ pub(crate) fn register(api: &mut Api, state: &Arc<HostState>) {
     def!(api, &SHORT, |d: ScriptFlyback| d
         .design
         .short_circuit_table());
+    def!(api, &JUNCTIONS, |d: ScriptFlyback| d
+        .design
+        .junction_table());
     let st = state.clone();
     def!(api, &CHECKS, move |d: ScriptFlyback| {
         let checks = d.design.checks.clone();
