@@ -1401,3 +1401,79 @@ fn junction_temperatures_follow_the_thermal_resistances() {
         "2"
     );
 }
+
+#[test]
+fn burst_and_foldback_bring_the_no_load_input_power_below_fixed_frequency() {
+    // Issue 12. A foldback or burst controller holds its peak at I_min = 0.25 × the nominal
+    // limit; in DCM ½·L·I_min²·f = P (Erickson & Maksimović, 3rd ed. (2020), ch. 5: DCM energy
+    // per cycle), so the frequency (burst: the average pulse rate) is f = 2·P/(L·I_min²),
+    // foldback no lower than its minimum. Fewer pulses cost less switching loss: the no-load
+    // input power falls below the fixed-frequency value (a Zener clamp, where the RCD's
+    // V_r²/R floor does not mask it, and an RCD clamp).
+    for clamp in [ClampKind::Zener, ClampKind::Rcd] {
+        let mut s = fernbank_12v();
+        s.clamp = clamp;
+        s.clamp_voltage_above_reflected = Some(si(50.0));
+        let fixed = flyback_design(&s).unwrap();
+        s.light_load_control = LightLoadControl::FrequencyFoldback {
+            minimum_peak_fraction: 0.25,
+            minimum_frequency: si(20e3),
+        };
+        let fold = flyback_design(&s).unwrap();
+        s.light_load_control = LightLoadControl::Burst {
+            minimum_peak_fraction: 0.25,
+        };
+        let burst = flyback_design(&s).unwrap();
+        let p = |d: &FlybackDesign| {
+            d.no_load
+                .iter()
+                .map(|c| c.input_power.value)
+                .fold(0.0, f64::max)
+        };
+        assert!(p(&burst) < p(&fixed), "{} vs {}", p(&burst), p(&fixed));
+        assert!(p(&fold) < p(&fixed));
+        assert!(p(&burst) <= p(&fold) * (1.0 + 1e-12));
+        // full load is untouched
+        near(
+            burst.corners[0].efficiency,
+            fixed.corners[0].efficiency,
+            1e-9,
+        );
+        let l = burst.primary_inductance.value;
+        for (d, floor) in [(&burst, 0.0), (&fold, 20e3)] {
+            let imin = 0.25 * d.current_limit.value;
+            for c in &d.no_load {
+                let f = c.switching_frequency.value;
+                let want = (2.0 * c.magnetising_power.value / (l * imin * imin)).clamp(floor, 65e3);
+                near(f, want, 1e-9);
+                // DCM energy per pulse carries the magnetising power at that rate
+                near(
+                    0.5 * l * c.primary_current_peak.value.powi(2) * f,
+                    c.magnetising_power.value,
+                    1e-9,
+                );
+                if f > floor {
+                    near(c.primary_current_peak.value, imin, 1e-9);
+                }
+            }
+        }
+        // fixed frequency keeps 65 kHz at no load
+        assert!(fixed
+            .no_load
+            .iter()
+            .all(|c| c.switching_frequency.value == 65e3));
+    }
+    // the script reads the controller; bad input names the key
+    let v = eval(
+        "flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A, clamp: \"zener\", \
+         light_load_control: \"burst\"}).no_load_input_power < \
+         flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A, clamp: \"zener\"}).no_load_input_power",
+    );
+    assert_eq!(v, "true");
+    let e = eval_err("flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A, light_load_control: \"skip\"})").to_string();
+    assert!(e.contains("light_load_control"), "{e}");
+    let e = eval_err("flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A, light_load_control: \"foldback\", minimum_frequency: 100 * kHz})").to_string();
+    assert!(e.contains("minimum_frequency"), "{e}");
+    let e = eval_err("flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A, light_load_control: \"burst\", minimum_peak_fraction: 0.01})").to_string();
+    assert!(e.contains("minimum_peak_fraction"), "{e}");
+}

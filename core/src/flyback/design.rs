@@ -8,7 +8,7 @@ use super::rules::flyback_rule_book;
 use super::rules::DRAIN_DERATING;
 use super::short_circuit::{short_circuit_at, ShortCircuitPoint};
 use super::spec::{
-    BulkChoice, ClampKind, FlybackSpec, InputRange, Leakage, ModeTarget,
+    BulkChoice, ClampKind, FlybackSpec, InputRange, Leakage, LightLoadControl, ModeTarget,
     DEFAULT_CLAMP_OVERSHOOT_FRACTION, DEFAULT_VALLEY_FRACTION, MIN_CLAMP_OVERSHOOT_FRACTION,
 };
 use super::thermal::{junction_temperatures, JunctionTemperature};
@@ -28,6 +28,9 @@ use std::f64::consts::SQRT_2;
 /// Headroom of the chosen current limit over the peak current at low line, full load, at the
 /// low end of its tolerance (common practice, no published source).
 pub const CURRENT_LIMIT_HEADROOM: f64 = 0.1;
+/// The load of the no-load points as a fraction of full load: what the feedback network and a
+/// small pre-load draw (common practice, no published source).
+pub const NO_LOAD_FRACTION: f64 = 1e-3;
 /// Change of a rectifier's forward drop per e-fold of its current, used by the bias estimate
 /// (common practice, no published source).
 pub const RECTIFIER_DROP_PER_EFOLD: f64 = 0.05;
@@ -151,6 +154,9 @@ pub struct FlybackDesign {
     pub short_circuit: Vec<ShortCircuitPoint>,
     /// Junction temperature of the switch and of each output rectifier at its worst corner.
     pub junctions: Vec<JunctionTemperature>,
+    /// No load at low and high line ([`NO_LOAD_FRACTION`] of full load), with the
+    /// controller's light-load behaviour: the no-load input power estimate.
+    pub no_load: Vec<OperatingPoint>,
 }
 
 fn leakage_of(spec: &FlybackSpec, l: f64) -> f64 {
@@ -416,6 +422,7 @@ fn design(spec: &FlybackSpec) -> Result<FlybackDesign> {
             clamp,
             turns: turns.clone(),
             filter_gain: filter_gain.clone(),
+            min_peak: 0.0,
         };
         let op = match ctx.evaluate("low_line_full_load", line_lo, 1.0) {
             Ok(op) => op,
@@ -502,6 +509,7 @@ fn design(spec: &FlybackSpec) -> Result<FlybackDesign> {
         clamp,
         turns: turns.clone(),
         filter_gain,
+        min_peak: 0.0,
     };
 
     // (2) current limit
@@ -559,7 +567,17 @@ fn design(spec: &FlybackSpec) -> Result<FlybackDesign> {
         None => design_clamp(spec.clamp, vr, overshoot, llk, ipk_worst, f, spread, true)?,
     };
 
-    // (4) corners
+    // (4) corners; a foldback or burst controller holds its least peak below full load
+    ctx.min_peak = match spec.light_load_control {
+        LightLoadControl::FixedFrequency => 0.0,
+        LightLoadControl::FrequencyFoldback {
+            minimum_peak_fraction,
+            ..
+        }
+        | LightLoadControl::Burst {
+            minimum_peak_fraction,
+        } => minimum_peak_fraction * ilim,
+    };
     let light = spec.light_load_fraction;
     let mut corners = vec![
         ctx.evaluate("low_line_full_load", line_lo, 1.0)?,
@@ -636,6 +654,11 @@ fn design(spec: &FlybackSpec) -> Result<FlybackDesign> {
         }
     });
 
+    // no load: the feedback network and a pre-load, NO_LOAD_FRACTION of full load
+    let no_load = vec![
+        ctx.evaluate("no_load_low_line", line_lo, NO_LOAD_FRACTION)?,
+        ctx.evaluate("no_load_high_line", line_hi, NO_LOAD_FRACTION)?,
+    ];
     // (6) short circuit at both lines, at the highest limit
     // (an ideal rectifier without drop leaves nothing to demagnetise a shorted output: no
     // short-circuit analysis then)
@@ -715,6 +738,7 @@ fn design(spec: &FlybackSpec) -> Result<FlybackDesign> {
         defaults,
         short_circuit,
         junctions,
+        no_load,
     })
 }
 
@@ -1226,6 +1250,18 @@ impl Record for FlybackDesign {
             v.push(Field::new(
                 "short_circuit_settles",
                 self.short_circuit.iter().all(|p| p.settles),
+            ));
+        }
+        if !self.no_load.is_empty() {
+            v.push(Field::quantity(
+                "no_load_input_power",
+                si::<Power>(fold_max(self.no_load.iter().map(|c| c.input_power.value))),
+            ));
+        }
+        if let Some(c) = self.corner("high_line_light_load") {
+            v.push(Field::quantity(
+                "light_load_switching_frequency",
+                c.switching_frequency,
             ));
         }
         v.push(Field::new(

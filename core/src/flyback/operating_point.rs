@@ -9,7 +9,7 @@ use super::waveform::{cycle_for_power, trapezoid_avg, trapezoid_rms, ConductionM
 use crate::error::{Error, Result};
 use crate::mains::{bulk_capacitor, BulkCapacitorSpec};
 use crate::report::{Field, Record};
-use crate::units::{si, ElectricCurrent, ElectricPotential, Power, Quantity, Time};
+use crate::units::{si, ElectricCurrent, ElectricPotential, Frequency, Power, Quantity, Time};
 
 /// Largest number of efficiency iterations before giving up.
 pub const MAX_EFFICIENCY_ITERATIONS: usize = 200;
@@ -57,6 +57,9 @@ pub struct OperatingPoint {
     pub demagnetising_duty: f64,
     /// Switch on-time.
     pub on_time: Time,
+    /// Switching frequency here: the fixed one, or where a foldback controller has lowered it,
+    /// or in burst the average pulse rate.
+    pub switching_frequency: Frequency,
     /// Primary inductance over the boundary inductance at this point: < 1 DCM, > 1 CCM.
     pub inductance_ratio: f64,
     /// Magnetising power at which the mode changes between CCM and DCM at this line.
@@ -103,9 +106,35 @@ pub(crate) struct Context<'a> {
     pub turns: Vec<f64>,
     /// Post filter gain at f per output.
     pub filter_gain: Vec<Option<f64>>,
+    /// Least peak current of a foldback or burst controller (zero: none, or not yet known).
+    pub min_peak: f64,
 }
 
 impl Context<'_> {
+    /// The switching frequency (the average pulse rate in burst) at which the controller
+    /// moves `p` at input voltage `vin`: the fixed frequency unless a foldback or burst
+    /// controller holds its least peak current I_min, where DCM needs ½·L·I_min²·f = P, so
+    /// f = 2·P/(L·I_min²) (foldback: at least its minimum frequency).
+    pub fn operating_frequency(&self, vin: f64, p: f64) -> f64 {
+        use super::spec::LightLoadControl as C;
+        let floor = match self.spec.light_load_control {
+            C::FixedFrequency => return self.f,
+            C::FrequencyFoldback {
+                minimum_frequency, ..
+            } => minimum_frequency.value,
+            C::Burst { .. } => 0.0,
+        };
+        let imin = self.min_peak;
+        if imin <= 0.0 || p <= 0.0 {
+            return self.f;
+        }
+        let c = cycle_for_power(self.l, vin, p, self.vr, self.f);
+        if c.mode == ConductionMode::Continuous || c.i_peak >= imin {
+            return self.f;
+        }
+        (2.0 * p / (self.l * imin * imin)).clamp(floor.min(self.f), self.f)
+    }
+
     /// Load power (without bias) at a load fraction.
     pub fn output_power(&self, load: f64) -> f64 {
         load * self
@@ -188,9 +217,10 @@ impl Context<'_> {
             } else {
                 (p_dc - direct).max(1e-6 * p_dc)
             };
-            let cyc = cycle_for_power(self.l, vval, p_mag, self.vr, self.f);
+            let f_op = self.operating_frequency(vval, p_mag);
+            let cyc = cycle_for_power(self.l, vval, p_mag, self.vr, f_op);
             let point = self.assemble(
-                corner, line, load, pout, p_line, p_dc, p_mag, vpk, vval, tc, i_lf, &cyc,
+                corner, line, load, pout, p_line, p_dc, p_mag, vpk, vval, tc, i_lf, &cyc, f_op,
             );
             let (mut op, bridge_avg) = (point, i_bridge_avg);
             let b = &mut op.losses;
@@ -204,7 +234,7 @@ impl Context<'_> {
             let direct_new = b.switch_conduction.value
                 + b.switch_capacitive.value
                 + b.switch_overlap.value
-                + 0.5 * self.llk * ipk * ipk * self.f
+                + 0.5 * self.llk * ipk * ipk * op.switching_frequency.value
                 + if bias_supplies_controller {
                     0.0
                 } else {
@@ -268,6 +298,7 @@ impl Context<'_> {
         tc: f64,
         i_lf: f64,
         cyc: &Cycle,
+        f: f64,
     ) -> OperatingPoint {
         let s = self.spec;
         let lp = &s.losses;
@@ -285,12 +316,12 @@ impl Context<'_> {
             .map(|b| ((b.voltage + b.rectifier_drop) * b.current).value)
             .unwrap_or(0.0);
         let all_power = s.outputs.iter().map(winding_power).sum::<f64>() + bias_power;
-        let clamp = clamp_at(&self.clamp, self.vr, self.llk, ipk, self.f);
+        let clamp = clamp_at(&self.clamp, self.vr, self.llk, ipk, f);
         let (vc, p_clamp) = (clamp.voltage, clamp.power);
         // leakage reset: the leakage current falls at (V_c − V_r)/L_lk while the secondaries
         // take over; meanwhile the magnetising current falls at V_r/L (at most the whole
         // demagnetising time)
-        let t_dem = cyc.demag_duty / self.f;
+        let t_dem = cyc.demag_duty / f;
         let t_reset = if self.llk > 0.0 && vc > self.vr {
             (self.llk * ipk / (vc - self.vr)).min(t_dem)
         } else {
@@ -316,7 +347,7 @@ impl Context<'_> {
                         0.0
                     },
                     &wave,
-                    self.f,
+                    f,
                     vpk,
                     self.turns[k],
                     o.voltage.value,
@@ -335,7 +366,7 @@ impl Context<'_> {
         let v_turn_on = match cyc.mode {
             ConductionMode::Continuous => vval + self.vr,
             _ => {
-                let idle = (1.0 - d - cyc.demag_duty).max(0.0) / self.f;
+                let idle = (1.0 - d - cyc.demag_duty).max(0.0) / f;
                 let phase = if coss > 0.0 {
                     (idle / (self.l * coss).sqrt()).min(std::f64::consts::FRAC_PI_2)
                 } else {
@@ -345,8 +376,7 @@ impl Context<'_> {
             }
         };
         let tt = lp.transition_time.value;
-        let overlap =
-            0.5 * (vval + vc) * ipk * tt * self.f + 0.5 * (vval + self.vr) * iv * tt * self.f;
+        let overlap = 0.5 * (vval + vc) * ipk * tt * f + 0.5 * (vval + self.vr) * iv * tt * f;
         let out_caps: f64 = s
             .outputs
             .iter()
@@ -356,7 +386,7 @@ impl Context<'_> {
         let losses = LossBudget {
             output: si(pout),
             switch_conduction: si(i_rms * i_rms * rds),
-            switch_capacitive: si(0.5 * coss * v_turn_on * v_turn_on * self.f),
+            switch_capacitive: si(0.5 * coss * v_turn_on * v_turn_on * f),
             switch_overlap: si(overlap),
             clamp: si(p_clamp),
             output_capacitors: si(out_caps),
@@ -377,7 +407,8 @@ impl Context<'_> {
             mode: cyc.mode,
             duty_cycle: d,
             demagnetising_duty: cyc.demag_duty,
-            on_time: si(d / self.f),
+            on_time: si(d / f),
+            switching_frequency: si(f),
             inductance_ratio: cyc.inductance_ratio,
             boundary_power: si(cyc.boundary_power),
             primary_current_peak: si(ipk),
@@ -414,6 +445,7 @@ impl Record for OperatingPoint {
             Field::new("mode", self.mode.as_str()),
             Field::new("duty_cycle", self.duty_cycle),
             Field::quantity("on_time", self.on_time),
+            Field::quantity("switching_frequency", self.switching_frequency),
             Field::quantity("primary_current_peak", self.primary_current_peak),
             Field::quantity("primary_current_valley", self.primary_current_valley),
             Field::quantity("primary_current_rms", self.primary_current_rms),

@@ -129,6 +129,29 @@ pub enum ModeTarget {
     Boundary,
 }
 
+/// What the controller does at light load (a description of its behaviour by parameters).
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub enum LightLoadControl {
+    /// Fixed frequency at every load: the peak current falls with the load.
+    FixedFrequency,
+    /// The peak current is held at `minimum_peak_fraction` × the nominal current limit while
+    /// the frequency falls with the load (DCM, ½·L·I_min²·f = P), down to `minimum_frequency`;
+    /// below that the peak falls again at the minimum frequency.
+    FrequencyFoldback {
+        /// Least peak current over the nominal current limit (0.05 … 0.9).
+        minimum_peak_fraction: f64,
+        /// Lowest switching frequency.
+        minimum_frequency: Frequency,
+    },
+    /// Burst (skip) mode: pulses of `minimum_peak_fraction` × the nominal limit at the
+    /// switching frequency, in bursts whose average pulse rate carries the load,
+    /// f_avg = P/(½·L·I_min²).
+    Burst {
+        /// Pulse peak current over the nominal current limit (0.05 … 0.9).
+        minimum_peak_fraction: f64,
+    },
+}
+
 /// The primary clamp against the leakage spike.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 pub enum ClampKind {
@@ -273,6 +296,8 @@ pub struct FlybackSpec {
     pub rectifier_thermal: ThermalPath,
     /// Light load as a fraction of full load on every output (0 < x < 1).
     pub light_load_fraction: f64,
+    /// The controller's light-load behaviour.
+    pub light_load_control: LightLoadControl,
     /// Bulk voltage down to which the supply must keep regulating after the line drops
     /// (for the hold-up time); None: the lowest voltage at which the duty limit is met.
     pub hold_up_end_voltage: Option<ElectricPotential>,
@@ -336,6 +361,7 @@ impl FlybackSpec {
                 max_junction_temperature: si(273.15 + 125.0),
             },
             light_load_fraction: 0.1,
+            light_load_control: LightLoadControl::FixedFrequency,
             hold_up_end_voltage: None,
             hold_up_time: None,
             rule_limits: Vec::new(),
@@ -577,6 +603,28 @@ impl FlybackSpec {
             0.3,
         )?;
         number_within("light_load_fraction", self.light_load_fraction, 0.01, 0.99)?;
+        match self.light_load_control {
+            LightLoadControl::FixedFrequency => {}
+            LightLoadControl::Burst {
+                minimum_peak_fraction,
+            } => {
+                number_within("minimum_peak_fraction", minimum_peak_fraction, 0.05, 0.9)?;
+            }
+            LightLoadControl::FrequencyFoldback {
+                minimum_peak_fraction,
+                minimum_frequency,
+            } => {
+                number_within("minimum_peak_fraction", minimum_peak_fraction, 0.05, 0.9)?;
+                positive("minimum_frequency", minimum_frequency)?;
+                if minimum_frequency > self.switching_frequency {
+                    return Err(Error::invalid(format!(
+                        "`minimum_frequency` ({}) must be at most `switching_frequency` ({})",
+                        Quantity::from_typed(minimum_frequency),
+                        Quantity::from_typed(self.switching_frequency)
+                    )));
+                }
+            }
+        }
         for (name, p) in [
             ("switch", &self.switch_thermal),
             ("rectifier", &self.rectifier_thermal),

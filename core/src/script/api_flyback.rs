@@ -85,6 +85,9 @@ static DESIGN: FunctionDoc = FunctionDoc {
         ParamDoc::with_default("controller_power", Q("W"), "0.1 W", "controller supply power without a bias winding"),
         ParamDoc::with_default("transformer_loss_fraction", Number, "0.02", "transformer loss estimate as a fraction of output power"),
         ParamDoc::with_default("light_load_fraction", Number, "0.1", "light load as a fraction of full load"),
+        ParamDoc::with_default("light_load_control", Text, "fixed", "controller at light load: \"fixed\" frequency, \"foldback\" (peak held at minimum_peak_fraction of the limit, frequency falling to minimum_frequency) or \"burst\" (pulses of that peak, average rate carrying the load)"),
+        ParamDoc::with_default("minimum_peak_fraction", Number, "0.25", "foldback and burst: least peak current over the nominal current limit"),
+        ParamDoc::with_default("minimum_frequency", Q("Hz"), "20 kHz", "foldback: lowest switching frequency"),
         ParamDoc::with_default("ambient_temperature", Q("°C"), "50 °C", "air around the switch and rectifiers"),
         ParamDoc::with_default("switch_junction_to_case", Q("K/W"), "2.5 K/W", "switch junction-to-case thermal resistance"),
         ParamDoc::with_default("switch_case_to_ambient", Q("K/W"), "60 K/W", "switch case to ambient: heat sink and interface, or the package in free air"),
@@ -486,6 +489,21 @@ fn spec_from_map(m: &Map) -> Result<FlybackSpec> {
             transformer_loss_fraction: s.number("transformer_loss_fraction")?,
         },
         light_load_fraction: s.number("light_load_fraction")?,
+        light_load_control: match s.text("light_load_control")?.as_str() {
+            "fixed" => crate::flyback::LightLoadControl::FixedFrequency,
+            "foldback" => crate::flyback::LightLoadControl::FrequencyFoldback {
+                minimum_peak_fraction: s.number("minimum_peak_fraction")?,
+                minimum_frequency: s.quantity("minimum_frequency")?,
+            },
+            "burst" => crate::flyback::LightLoadControl::Burst {
+                minimum_peak_fraction: s.number("minimum_peak_fraction")?,
+            },
+            other => {
+                return Err(Error::unknown(format!(
+                    "flyback_design: `light_load_control` must be \"fixed\", \"foldback\" or \"burst\", got \"{other}\""
+                )))
+            }
+        },
         ambient_temperature: s.quantity("ambient_temperature")?,
         switch_thermal: crate::flyback::ThermalPath {
             junction_to_case: s.quantity("switch_junction_to_case")?,
