@@ -1,11 +1,17 @@
 //! The whole design: primary inductance and bulk capacitor chosen at low line and full load,
 //! current limit, clamp, every corner, overload power across line, bias estimate and rules.
 
-use super::clamp::{design_clamp, ClampDesign};
+use super::clamp::{design_clamp, ClampDesign, ZenerSpread, CLAMP_CAPACITOR_RIPPLE};
 use super::operating_point::{show, Context, OperatingPoint};
 use super::output::{post_filter, PostFilter};
 use super::rules::flyback_rule_book;
-use super::spec::{BulkChoice, ClampKind, FlybackSpec, InputRange, Leakage, ModeTarget};
+use super::rules::DRAIN_DERATING;
+use super::short_circuit::{short_circuit_at, ShortCircuitPoint};
+use super::spec::{
+    BulkChoice, ClampKind, FlybackSpec, InputRange, Leakage, LightLoadControl, ModeTarget,
+    DEFAULT_CLAMP_OVERSHOOT_FRACTION, DEFAULT_VALLEY_FRACTION, MIN_CLAMP_OVERSHOOT_FRACTION,
+};
+use super::thermal::{junction_temperatures, JunctionTemperature};
 use super::waveform::{boundary_duty, boundary_inductance_si, ConductionMode};
 use crate::error::{Error, ErrorKind, Result};
 use crate::mains::{bulk_capacitance_for_valley, hold_up_time};
@@ -22,6 +28,9 @@ use std::f64::consts::SQRT_2;
 /// Headroom of the chosen current limit over the peak current at low line, full load, at the
 /// low end of its tolerance (common practice, no published source).
 pub const CURRENT_LIMIT_HEADROOM: f64 = 0.1;
+/// The load of the no-load points as a fraction of full load: what the feedback network and a
+/// small pre-load draw (common practice, no published source).
+pub const NO_LOAD_FRACTION: f64 = 1e-3;
 /// Change of a rectifier's forward drop per e-fold of its current, used by the bias estimate
 /// (common practice, no published source).
 pub const RECTIFIER_DROP_PER_EFOLD: f64 = 0.05;
@@ -73,6 +82,17 @@ pub struct BiasEstimate {
     /// (an estimate: leakage-spike peak charging, which raises the bias at heavy load, is not
     /// modelled; common practice, no published source).
     pub voltage_light_load: ElectricPotential,
+}
+
+/// A value the specification left open that the design derived from the rest of it.
+#[derive(Clone, Debug, PartialEq)]
+pub struct DerivedDefault {
+    /// The specification key (script name), e.g. `target_valley_voltage`.
+    pub key: &'static str,
+    /// The value used.
+    pub value: Quantity,
+    /// How it was derived, with the numbers.
+    pub derivation: String,
 }
 
 /// A complete flyback power-stage design.
@@ -127,6 +147,16 @@ pub struct FlybackDesign {
     pub rules: RuleBook,
     /// Rule results.
     pub checks: Vec<CheckResult>,
+    /// The values the specification left open and the design derived, with how.
+    pub defaults: Vec<DerivedDefault>,
+    /// The regulated output shorted, at low and high line, at the highest current limit
+    /// (empty when its rectifier has no drop: nothing would demagnetise the inductance).
+    pub short_circuit: Vec<ShortCircuitPoint>,
+    /// Junction temperature of the switch and of each output rectifier at its worst corner.
+    pub junctions: Vec<JunctionTemperature>,
+    /// No load at low and high line ([`NO_LOAD_FRACTION`] of full load), with the
+    /// controller's light-load behaviour: the no-load input power estimate.
+    pub no_load: Vec<OperatingPoint>,
 }
 
 fn leakage_of(spec: &FlybackSpec, l: f64) -> f64 {
@@ -153,14 +183,17 @@ fn choose_inductance(mode: ModeTarget, vin: f64, p: f64, vr: f64, f: f64) -> f64
 /// L = 2·L_b/r, where L_b = (V·D_b)²/(2·P·f) and D_b = V_r/(V + V_r). (2) The current limit
 /// (given, or 10 % above the low-line full-load peak at its low tolerance) is checked against
 /// that peak. (3) The clamp is sized at the highest limit plus the sense-delay overshoot at
-/// high line. (4) Each corner (low/high line × full/light load) is evaluated at its bulk
+/// high line and built from preferred parts (RCD: resistor rounded down to E24, capacitor up
+/// to E12; see [`ClampDesign`]); the drain peak adds its highest voltage, the clamp diode's
+/// forward recovery and the ringing allowance. (4) Each corner (low/high line × full/light load) is evaluated at its bulk
 /// valley; the current-limit corners find the load at which the peak current reaches the
 /// highest limit. (5) Overload power is found at both ends of the limit's tolerance at low
 /// and high line, or at the load where the duty reaches `max_duty_cycle` if that comes first
 /// (the current-limit corners stay at the current limit, the peak a start-up or a short
 /// reaches, and may show a duty above the limit). (6) Rules from [`flyback_rule_book`] are checked.
-/// Assumptions: fixed frequency, ideal coupling between secondaries (each rectifier's
-/// current is the pulse shape scaled to its load current), constant-power load on the bulk
+/// Assumptions: fixed frequency, ideal coupling between secondaries (at turn-off the
+/// magnetising ampere-turns N_p·I_pk move to the secondaries, each winding taking the share of
+/// its power, and fall at the off-time volt-seconds; see [`super::SecondaryPoint`]), constant-power load on the bulk
 /// capacitor, operating point at the bulk valley, drain peak at the bulk peak, light load
 /// without burst or frequency foldback. Valid for the 5–75 W class; inputs are checked.
 /// Errors: a duty limit no bulk capacitor can meet (`max_duty_cycle`), a bulk capacitor too
@@ -170,6 +203,41 @@ fn choose_inductance(mode: ModeTarget, vin: f64, p: f64, vr: f64, f: f64) -> f64
 /// Electronics* (2011), section 7.2 (flyback CCM relations).
 pub fn flyback_design(spec: &FlybackSpec) -> Result<FlybackDesign> {
     spec.validate()?;
+    design(spec).map_err(|e| blame_deep_valley(spec, e))
+}
+
+/// A given bulk valley target below this fraction of the lowest rectified line peak is named
+/// as the cause when the losses run away (common practice, no published source).
+const DEEP_VALLEY_FRACTION: f64 = 0.5;
+
+/// Names a deep valley target as the cause of a runaway: a valley far below the line peak
+/// means a small bulk capacitor, deep ripple and the highest currents at the valley, which is
+/// where the losses (the clamp first) run away.
+#[cold]
+fn blame_deep_valley(spec: &FlybackSpec, e: Error) -> Error {
+    let (InputRange::Ac { min_rms, .. }, BulkChoice::TargetValley(v)) = (spec.input, spec.bulk)
+    else {
+        return e;
+    };
+    let peak = SQRT_2 * min_rms.value - 2.0 * spec.bridge_diode_drop.value;
+    let runaway = e.message().contains("losses run away") || e.message().contains("did not settle");
+    if e.kind() != ErrorKind::Infeasible || !runaway || v.value >= DEEP_VALLEY_FRACTION * peak {
+        return e;
+    }
+    Error::infeasible(format!(
+        "`target_valley_voltage` {} is only {:.0} % of the lowest rectified line peak {}: the bulk \
+         capacitor is sized for a deep ripple, and at that valley {}; raise \
+         `target_valley_voltage`, or leave it out to derive {} × the peak = {}",
+        show(v),
+        v.value / peak * 100.0,
+        Quantity::new(peak, Dimension::VOLTAGE),
+        e.message(),
+        DEFAULT_VALLEY_FRACTION,
+        Quantity::new(DEFAULT_VALLEY_FRACTION * peak, Dimension::VOLTAGE)
+    ))
+}
+
+fn design(spec: &FlybackSpec) -> Result<FlybackDesign> {
     let f = spec.switching_frequency.value;
     let vr = spec.reflected_voltage.value;
     let vf_bridge = spec.bridge_diode_drop.value;
@@ -224,6 +292,35 @@ pub fn flyback_design(spec: &FlybackSpec) -> Result<FlybackDesign> {
             d_at_peak,
         )));
     }
+    let mut defaults = Vec::new();
+    let bulk = match (spec.input, spec.bulk) {
+        (InputRange::Ac { .. }, BulkChoice::DerivedValley) => {
+            let v = DEFAULT_VALLEY_FRACTION * vpk_lo;
+            defaults.push(DerivedDefault {
+                key: "target_valley_voltage",
+                value: Quantity::new(v, Dimension::VOLTAGE),
+                derivation: format!(
+                    "{DEFAULT_VALLEY_FRACTION} × the lowest rectified line peak {} \
+                     (√2·min_line_voltage − 2·bridge_diode_drop)",
+                    Quantity::new(vpk_lo, Dimension::VOLTAGE)
+                ),
+            });
+            BulkChoice::TargetValley(si(v))
+        }
+        (_, b) => b,
+    };
+    let overshoot = match spec.clamp_voltage_above_reflected {
+        Some(v) => v.value,
+        None => {
+            let (v, how) = derived_clamp_overshoot(spec, vr, vpk_hi)?;
+            defaults.push(DerivedDefault {
+                key: "clamp_voltage_above_reflected",
+                value: Quantity::new(v, Dimension::VOLTAGE),
+                derivation: how,
+            });
+            v
+        }
+    };
     let reg = &spec.outputs[spec.regulated_output];
     let turns: Vec<f64> = spec
         .outputs
@@ -261,8 +358,11 @@ pub fn flyback_design(spec: &FlybackSpec) -> Result<FlybackDesign> {
         )
         .collect::<Result<_>>()?;
     let filter_gain: Vec<Option<f64>> = post_filters.iter().map(|p| p.map(|p| p.gain)).collect();
-    let overshoot = spec.clamp_voltage_above_reflected.value;
-    let fixed_clamp = design_clamp(ClampKind::Zener, vr, overshoot, 0.0, 0.0, f);
+    let spread = ZenerSpread {
+        tolerance: spec.zener_tolerance,
+        rise_hot: spec.zener_rise_hot,
+    };
+    let fixed_clamp = design_clamp(ClampKind::Zener, vr, overshoot, 0.0, 0.0, f, spread, false)?;
 
     // (1) inductance and bulk capacitor at low line, full load
     let start_eta = match spec.efficiency {
@@ -273,7 +373,7 @@ pub fn flyback_design(spec: &FlybackSpec) -> Result<FlybackDesign> {
     let p0 = pout / start_eta;
     let is_ac = matches!(spec.input, InputRange::Ac { .. });
     let size_bulk = |p: f64| -> Result<f64> {
-        match (spec.input, spec.bulk) {
+        match (spec.input, bulk) {
             (InputRange::Ac { line_frequency, .. }, BulkChoice::TargetValley(v)) => {
                 bulk_capacitance_for_valley(
                     si(line_lo),
@@ -285,14 +385,14 @@ pub fn flyback_design(spec: &FlybackSpec) -> Result<FlybackDesign> {
                 .map(|c| c.value)
             }
             (_, BulkChoice::Capacitance(c)) => Ok(c.value),
-            (InputRange::Dc { .. }, _) => Ok(1.0),
+            (InputRange::Dc { .. }, _) | (_, BulkChoice::DerivedValley) => Ok(1.0),
         }
     };
     let mut c_bulk = size_bulk(p0)?;
     let mut l = match (spec.primary_inductance, spec.mode) {
         (Some(l), _) => l.value,
         (None, Some(m)) => {
-            let vin = match spec.bulk {
+            let vin = match bulk {
                 BulkChoice::TargetValley(v) if is_ac => v.value,
                 _ => 0.8 * vpk_lo,
             };
@@ -322,6 +422,7 @@ pub fn flyback_design(spec: &FlybackSpec) -> Result<FlybackDesign> {
             clamp,
             turns: turns.clone(),
             filter_gain: filter_gain.clone(),
+            min_peak: 0.0,
         };
         let op = match ctx.evaluate("low_line_full_load", line_lo, 1.0) {
             Ok(op) => op,
@@ -331,7 +432,7 @@ pub fn flyback_design(spec: &FlybackSpec) -> Result<FlybackDesign> {
                 if e.kind() == ErrorKind::Infeasible
                     && e.message().contains("`bulk_capacitance`")
                     && is_ac
-                    && matches!(spec.bulk, BulkChoice::TargetValley(_))
+                    && matches!(bulk, BulkChoice::TargetValley(_))
                     && design_iterations < 100 =>
             {
                 c_bulk *= 2.0;
@@ -344,7 +445,7 @@ pub fn flyback_design(spec: &FlybackSpec) -> Result<FlybackDesign> {
         // the rounded capacitor really gives; after a few steps the capacitor only grows, so the
         // discrete choice cannot oscillate between two values
         let mut new_c = size_bulk(p_dc)?;
-        if is_ac && matches!(spec.bulk, BulkChoice::TargetValley(_)) {
+        if is_ac && matches!(bulk, BulkChoice::TargetValley(_)) {
             new_c = at_or_above_value(new_c, ESeries::E12)?;
             if design_iterations > 3 {
                 new_c = new_c.max(c_bulk);
@@ -352,20 +453,33 @@ pub fn flyback_design(spec: &FlybackSpec) -> Result<FlybackDesign> {
         }
         let vin = op.bulk_valley_voltage.value;
         let new_l = match (spec.primary_inductance, spec.mode) {
-            (None, Some(m)) => choose_inductance(m, vin, p_dc, vr, f),
+            // the inductance stores the magnetising power (the cycle moves that power)
+            (None, Some(m)) => choose_inductance(m, vin, op.magnetising_power.value, vr, f),
             _ => l,
         };
         let ilim = spec.current_limit.map(|i| i.value).unwrap_or(
             (1.0 + CURRENT_LIMIT_HEADROOM) * op.primary_current_peak.value / (1.0 - tol),
         );
-        let new_clamp = design_clamp(
+        let ipk_worst = ilim * (1.0 + tol) + vpk_hi * delay / new_l;
+        let mut new_clamp = design_clamp(
             spec.clamp,
             vr,
             overshoot,
             leakage_of(spec, new_l),
-            ilim * (1.0 + tol) + vpk_hi * delay / new_l,
+            ipk_worst,
             f,
-        );
+            spread,
+            true,
+        )?;
+        // the resistor is a preferred value: after a few steps it may only fall (a lower
+        // resistor holds a lower clamp voltage), so the discrete choice cannot oscillate
+        if design_iterations > 3 {
+            if let (Some(rn), Some(ro)) = (new_clamp.resistor, clamp.resistor) {
+                if rn > ro {
+                    new_clamp = clamp.with_parts(vr, leakage_of(spec, new_l), ipk_worst, f);
+                }
+            }
+        }
         let clamp_change = if clamp.power.value > 0.0 {
             (new_clamp.power.value / clamp.power.value - 1.0).abs()
         } else {
@@ -395,6 +509,7 @@ pub fn flyback_design(spec: &FlybackSpec) -> Result<FlybackDesign> {
         clamp,
         turns: turns.clone(),
         filter_gain,
+        min_peak: 0.0,
     };
 
     // (2) current limit
@@ -425,16 +540,44 @@ pub fn flyback_design(spec: &FlybackSpec) -> Result<FlybackDesign> {
             }
             i.value
         }
-        None => (1.0 + CURRENT_LIMIT_HEADROOM) * ipk_design / (1.0 - tol),
+        None => {
+            let i = (1.0 + CURRENT_LIMIT_HEADROOM) * ipk_design / (1.0 - tol);
+            defaults.push(DerivedDefault {
+                key: "current_limit",
+                value: Quantity::new(i, Dimension::CURRENT),
+                derivation: format!(
+                    "{} % above the low-line full-load peak {} at the low end of its ±{} % \
+                     tolerance",
+                    CURRENT_LIMIT_HEADROOM * 100.0,
+                    Quantity::new(ipk_design, Dimension::CURRENT),
+                    tol * 100.0
+                ),
+            });
+            i
+        }
     };
     let ilim_min = ilim * (1.0 - tol);
     let ilim_max = ilim * (1.0 + tol);
 
     // (3) clamp at the worst case
     let ipk_worst = ilim_max + vpk_hi * delay / l;
-    ctx.clamp = design_clamp(spec.clamp, vr, overshoot, llk, ipk_worst, f);
+    // the clamp as built: the preferred parts the iteration settled on, at the worst case
+    ctx.clamp = match ctx.clamp.resistor {
+        Some(_) => ctx.clamp.with_parts(vr, llk, ipk_worst, f),
+        None => design_clamp(spec.clamp, vr, overshoot, llk, ipk_worst, f, spread, true)?,
+    };
 
-    // (4) corners
+    // (4) corners; a foldback or burst controller holds its least peak below full load
+    ctx.min_peak = match spec.light_load_control {
+        LightLoadControl::FixedFrequency => 0.0,
+        LightLoadControl::FrequencyFoldback {
+            minimum_peak_fraction,
+            ..
+        }
+        | LightLoadControl::Burst {
+            minimum_peak_fraction,
+        } => minimum_peak_fraction * ilim,
+    };
     let light = spec.light_load_fraction;
     let mut corners = vec![
         ctx.evaluate("low_line_full_load", line_lo, 1.0)?,
@@ -477,7 +620,7 @@ pub fn flyback_design(spec: &FlybackSpec) -> Result<FlybackDesign> {
     let p_dc = design_op.converter_input_power.value;
     let dmax = spec.max_duty_cycle;
     let v_needed_ccm = vr * (1.0 - dmax) / dmax;
-    let v_needed_dcm = (2.0 * p_dc * l * f).sqrt() / dmax;
+    let v_needed_dcm = (2.0 * design_op.magnetising_power.value * l * f).sqrt() / dmax;
     let bulk_valley_needed = v_needed_ccm.min(v_needed_dcm);
     let hold_up_end = spec
         .hold_up_end_voltage
@@ -511,9 +654,58 @@ pub fn flyback_design(spec: &FlybackSpec) -> Result<FlybackDesign> {
         }
     });
 
-    // (6) rules
+    // no load: the feedback network and a pre-load, NO_LOAD_FRACTION of full load
+    let no_load = vec![
+        ctx.evaluate("no_load_low_line", line_lo, NO_LOAD_FRACTION)?,
+        ctx.evaluate("no_load_high_line", line_hi, NO_LOAD_FRACTION)?,
+    ];
+    // (6) short circuit at both lines, at the highest limit
+    // (an ideal rectifier without drop leaves nothing to demagnetise a shorted output: no
+    // short-circuit analysis then)
+    let short_circuit = if reg.rectifier_drop.value > 0.0 {
+        vec![
+            short_circuit_at(
+                spec,
+                line_lo,
+                vpk_lo,
+                l,
+                ilim_max,
+                turns[spec.regulated_output],
+            ),
+            short_circuit_at(
+                spec,
+                line_hi,
+                vpk_hi,
+                l,
+                ilim_max,
+                turns[spec.regulated_output],
+            ),
+        ]
+    } else {
+        Vec::new()
+    };
+    // (7) rules
     let rules = flyback_rule_book(spec, si(bulk_valley_needed))?;
-    let checks = evaluate_rules(spec, &rules, &corners, hold)?;
+    let mut checks = evaluate_rules(spec, &rules, &corners, hold)?;
+    let junctions = junction_temperatures(spec, &corners);
+    for j in &junctions {
+        let id = if j.part == "switch" {
+            "switch_junction_temperature"
+        } else {
+            "rectifier_junction_temperature"
+        };
+        let mut c = rules.check(id, Quantity::from_typed(j.junction_temperature))?;
+        if j.part != "switch" {
+            c.description = format!("{} ({})", c.description, j.part.replace('_', " "));
+        }
+        checks.push(c);
+    }
+    if !short_circuit.is_empty() {
+        checks.push(rules.check(
+            "short_circuit_settles",
+            Quantity::number(fold_max(short_circuit.iter().map(|p| p.on_time_ratio))),
+        )?);
+    }
     let efficiency_residual = corners
         .iter()
         .map(|c| c.efficiency_residual)
@@ -543,6 +735,85 @@ pub fn flyback_design(spec: &FlybackSpec) -> Result<FlybackDesign> {
         rules,
         checks,
         corners,
+        defaults,
+        short_circuit,
+        junctions,
+        no_load,
+    })
+}
+
+/// The drain voltage the `drain_voltage_derating` rule allows: its overridden limit, or
+/// [`DRAIN_DERATING`] × the switch rating.
+fn drain_voltage_limit(spec: &FlybackSpec) -> Result<f64> {
+    for (id, q) in &spec.rule_limits {
+        if id == "drain_voltage_derating" {
+            return Ok(q
+                .to_typed::<ElectricPotential>("rule_limits.drain_voltage_derating")?
+                .value);
+        }
+    }
+    Ok(DRAIN_DERATING * spec.switch_voltage_rating.value)
+}
+
+/// The clamp voltage above the reflected voltage when none is given: the smaller of
+/// [`DEFAULT_CLAMP_OVERSHOOT_FRACTION`]·V_r and what the drain limit leaves above the highest
+/// bulk peak and V_r, V_ds,limit − V_bulk,pk,max − V_r; an error naming the reflected voltage
+/// and the switch rating when that is below [`MIN_CLAMP_OVERSHOOT_FRACTION`]·V_r.
+fn derived_clamp_overshoot(spec: &FlybackSpec, vr: f64, vpk_hi: f64) -> Result<(f64, String)> {
+    let limit = drain_voltage_limit(spec)?;
+    // the drain reaches bulk peak + highest clamp voltage + forward recovery + ringing; the
+    // highest clamp voltage is the top of the RCD ripple or the Zener's highest
+    let top = match spec.clamp {
+        ClampKind::Rcd => 1.0 + CLAMP_CAPACITOR_RIPPLE / 2.0,
+        ClampKind::Zener => (1.0 + spec.zener_tolerance) * (1.0 + spec.zener_rise_hot.max(0.0)),
+    };
+    let allowances = spec.clamp_diode_forward_recovery.value + spec.drain_ringing_allowance.value;
+    let room = (limit - vpk_hi - allowances) / top - vr;
+    let wanted = DEFAULT_CLAMP_OVERSHOOT_FRACTION * vr;
+    let least = MIN_CLAMP_OVERSHOOT_FRACTION * vr;
+    let v = |x: f64| Quantity::new(x, Dimension::VOLTAGE);
+    if room < least {
+        return Err(Error::infeasible(format!(
+            "`reflected_voltage` {} with `switch_voltage_rating` {} leaves {} for the clamp above \
+             the reflected voltage (drain limit {} less the highest bulk peak {}, the forward \
+             recovery and ringing allowances and the clamp's spread, less the reflected voltage), \
+             less than the {} % of the reflected voltage a clamp needs ({}); lower \
+             `reflected_voltage`, choose a higher `switch_voltage_rating`, or give \
+             `clamp_voltage_above_reflected`",
+            v(vr),
+            show(spec.switch_voltage_rating),
+            v(room),
+            v(limit),
+            v(vpk_hi),
+            MIN_CLAMP_OVERSHOOT_FRACTION * 100.0,
+            v(least)
+        )));
+    }
+    Ok(if room < wanted {
+        (
+            room,
+            format!(
+                "what the drain limit {} leaves above the highest bulk peak {}, the reflected \
+                 voltage {}, the forward-recovery and ringing allowances and the clamp's spread \
+                 (less than {} × the reflected voltage)",
+                v(limit),
+                v(vpk_hi),
+                v(vr),
+                DEFAULT_CLAMP_OVERSHOOT_FRACTION
+            ),
+        )
+    } else {
+        (
+            wanted,
+            format!(
+                "{} × the reflected voltage {} (the drain limit {} leaves {} above the highest \
+                 bulk peak, the reflected voltage, the allowances and the clamp's spread)",
+                DEFAULT_CLAMP_OVERSHOOT_FRACTION,
+                v(vr),
+                v(limit),
+                v(room)
+            ),
+        )
     })
 }
 
@@ -780,6 +1051,37 @@ impl FlybackDesign {
             self.corners.iter().map(|c| c.primary_current_peak.value),
         ))
     }
+    /// The values the specification left open and the design derived: one row per value,
+    /// with `key`, `value` (text with its unit: the rows differ in dimension) and `derivation`
+    /// (no calculation).
+    pub fn defaults_table(&self) -> Table {
+        let mut t = Table::new();
+        for d in &self.defaults {
+            t.push_row(vec![
+                Field::new("key", d.key),
+                // the values differ in dimension, so each is written with its own unit
+                Field::new("value", d.value.to_string()),
+                Field::new("derivation", d.derivation.as_str()),
+            ]);
+        }
+        t
+    }
+    /// Junction temperatures, one row per part (see [`JunctionTemperature`]).
+    pub fn junction_table(&self) -> Table {
+        let mut t = Table::new();
+        for j in &self.junctions {
+            t.push_row(j.fields());
+        }
+        t
+    }
+    /// The shorted output at low and high line, one row per line (see [`ShortCircuitPoint`]).
+    pub fn short_circuit_table(&self) -> Table {
+        let mut t = Table::new();
+        for p in &self.short_circuit {
+            t.push_row(p.fields());
+        }
+        t
+    }
     /// The worst rule status of [`FlybackDesign::checks`] (fail over warn over pass).
     pub fn worst_status(&self) -> Status {
         worst_status(&self.checks)
@@ -826,11 +1128,11 @@ impl Record for FlybackDesign {
             // 1 or more: DCM at every load (converter input power ratio, an approximation of load)
             Field::new(
                 "dcm_below_load_low_line",
-                c0.boundary_power.value / c0.converter_input_power.value,
+                c0.boundary_power.value / c0.magnetising_power.value,
             ),
             Field::new(
                 "dcm_below_load_high_line",
-                c2.boundary_power.value / c2.converter_input_power.value,
+                c2.boundary_power.value / c2.magnetising_power.value,
             ),
             Field::new("duty_cycle_max", max_of(&|c: &OperatingPoint| c.duty_cycle)),
             Field::quantity("current_limit", self.current_limit),
@@ -932,6 +1234,46 @@ impl Record for FlybackDesign {
                 b.voltage_light_load,
             ));
         }
+        if !self.short_circuit.is_empty() {
+            v.push(Field::quantity(
+                "short_circuit_current_peak",
+                si::<ElectricCurrent>(fold_max(
+                    self.short_circuit
+                        .iter()
+                        .map(|p| p.primary_current_peak.value),
+                )),
+            ));
+            v.push(Field::quantity(
+                "short_circuit_power_average",
+                si::<Power>(fold_max(
+                    self.short_circuit.iter().map(|p| p.power_average.value),
+                )),
+            ));
+            v.push(Field::new(
+                "short_circuit_settles",
+                self.short_circuit.iter().all(|p| p.settles),
+            ));
+        }
+        if !self.no_load.is_empty() {
+            v.push(Field::quantity(
+                "no_load_input_power",
+                si::<Power>(fold_max(self.no_load.iter().map(|c| c.input_power.value))),
+            ));
+        }
+        if let Some(c) = self.corner("high_line_light_load") {
+            v.push(Field::quantity(
+                "light_load_switching_frequency",
+                c.switching_frequency,
+            ));
+        }
+        v.push(Field::new(
+            "derived_defaults",
+            self.defaults
+                .iter()
+                .map(|d| d.key)
+                .collect::<Vec<_>>()
+                .join(", "),
+        ));
         v.push(Field::new("worst_status", self.worst_status().to_string()));
         v.push(Field::new("failed_checks", self.failed_checks() as i64));
         v

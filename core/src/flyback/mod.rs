@@ -22,21 +22,26 @@ mod operating_point;
 mod output;
 mod report;
 mod rules;
+mod short_circuit;
 mod spec;
+mod thermal;
 mod waveform;
 
 pub use clamp::{clamp_dissipation, ClampDesign, CLAMP_CAPACITOR_RIPPLE};
 pub use design::{
-    flyback_design, BiasEstimate, FlybackDesign, OverloadPoint, CURRENT_LIMIT_HEADROOM,
-    RECTIFIER_DROP_PER_EFOLD,
+    flyback_design, BiasEstimate, DerivedDefault, FlybackDesign, OverloadPoint,
+    CURRENT_LIMIT_HEADROOM, NO_LOAD_FRACTION, RECTIFIER_DROP_PER_EFOLD,
 };
 pub use losses::LossBudget;
 pub use operating_point::{OperatingPoint, EFFICIENCY_TOLERANCE, MAX_EFFICIENCY_ITERATIONS};
 pub use output::{post_filter, PostFilter, SecondaryPoint};
 pub use report::design_report_markdown;
 pub use rules::{flyback_rule_book, DRAIN_DERATING, RECTIFIER_DERATING};
+pub use short_circuit::ShortCircuitPoint;
 pub use spec::{
     BiasWinding, BulkChoice, ClampKind, EfficiencyModel, FlybackSpec, InputRange, Leakage,
-    LossParameters, ModeTarget, OutputWinding,
+    LightLoadControl, LossParameters, ModeTarget, OutputWinding, DEFAULT_CLAMP_OVERSHOOT_FRACTION,
+    DEFAULT_VALLEY_FRACTION, MIN_CLAMP_OVERSHOOT_FRACTION,
 };
+pub use thermal::{JunctionTemperature, ThermalPath};
 pub use waveform::{boundary_inductance, ConductionMode};

@@ -3,13 +3,13 @@
 
 use super::clamp::{clamp_at, ClampDesign};
 use super::losses::LossBudget;
-use super::output::{secondary_point, SecondaryPoint};
+use super::output::{secondary_point, SecondaryPoint, SecondaryWave};
 use super::spec::{EfficiencyModel, FlybackSpec, InputRange};
 use super::waveform::{cycle_for_power, trapezoid_avg, trapezoid_rms, ConductionMode, Cycle};
 use crate::error::{Error, Result};
 use crate::mains::{bulk_capacitor, BulkCapacitorSpec};
 use crate::report::{Field, Record};
-use crate::units::{si, ElectricCurrent, ElectricPotential, Power, Quantity, Time};
+use crate::units::{si, ElectricCurrent, ElectricPotential, Frequency, Power, Quantity, Time};
 
 /// Largest number of efficiency iterations before giving up.
 pub const MAX_EFFICIENCY_ITERATIONS: usize = 200;
@@ -29,8 +29,15 @@ pub struct OperatingPoint {
     pub output_power: Power,
     /// Power drawn from the line.
     pub input_power: Power,
-    /// Power drawn from the bulk capacitor by the converter (stored in the primary inductance).
+    /// Power drawn from the bulk capacitor by the converter.
     pub converter_input_power: Power,
+    /// Power stored in and released by the magnetising inductance each second, ½·L·(I_pk² −
+    /// I_v²)·f: the converter input power less the losses drawn from the input outside it
+    /// (switch conduction, capacitive and overlap losses, the leakage inductance's own energy
+    /// ½·L_lk·I_pk²·f, and the controller supply when there is no bias winding). With a fixed
+    /// efficiency estimate the losses are unknown and the whole converter input power is taken.
+    /// The cycle (duty, currents) is the one that moves this power.
+    pub magnetising_power: Power,
     /// Bulk capacitor peak voltage.
     pub bulk_peak_voltage: ElectricPotential,
     /// Bulk capacitor valley voltage; the operating point is computed here (worst duty and current).
@@ -50,9 +57,12 @@ pub struct OperatingPoint {
     pub demagnetising_duty: f64,
     /// Switch on-time.
     pub on_time: Time,
+    /// Switching frequency here: the fixed one, or where a foldback controller has lowered it,
+    /// or in burst the average pulse rate.
+    pub switching_frequency: Frequency,
     /// Primary inductance over the boundary inductance at this point: < 1 DCM, > 1 CCM.
     pub inductance_ratio: f64,
-    /// Converter input power at which the mode changes between CCM and DCM at this line.
+    /// Magnetising power at which the mode changes between CCM and DCM at this line.
     pub boundary_power: Power,
     /// Primary (switch) current, peak.
     pub primary_current_peak: ElectricCurrent,
@@ -65,9 +75,13 @@ pub struct OperatingPoint {
     pub primary_current_avg: ElectricCurrent,
     /// Each output winding, in the order of the spec.
     pub secondaries: Vec<SecondaryPoint>,
-    /// Clamp voltage here.
+    /// Clamp voltage here (RCD: average; Zener: nominal).
     pub clamp_voltage: ElectricPotential,
-    /// Drain voltage peak: bulk peak + clamp voltage (reflected voltage + overshoot).
+    /// Highest clamp voltage here: RCD the top of the capacitor ripple, Zener the highest of
+    /// its tolerance and heating.
+    pub clamp_voltage_max: ElectricPotential,
+    /// Drain voltage peak: bulk peak + highest clamp voltage + the clamp diode's forward
+    /// recovery + the ringing allowance.
     pub drain_voltage_peak: ElectricPotential,
     /// Loss budget; sums to `input_power`.
     pub losses: LossBudget,
@@ -92,9 +106,35 @@ pub(crate) struct Context<'a> {
     pub turns: Vec<f64>,
     /// Post filter gain at f per output.
     pub filter_gain: Vec<Option<f64>>,
+    /// Least peak current of a foldback or burst controller (zero: none, or not yet known).
+    pub min_peak: f64,
 }
 
 impl Context<'_> {
+    /// The switching frequency (the average pulse rate in burst) at which the controller
+    /// moves `p` at input voltage `vin`: the fixed frequency unless a foldback or burst
+    /// controller holds its least peak current I_min, where DCM needs ½·L·I_min²·f = P, so
+    /// f = 2·P/(L·I_min²) (foldback: at least its minimum frequency).
+    pub fn operating_frequency(&self, vin: f64, p: f64) -> f64 {
+        use super::spec::LightLoadControl as C;
+        let floor = match self.spec.light_load_control {
+            C::FixedFrequency => return self.f,
+            C::FrequencyFoldback {
+                minimum_frequency, ..
+            } => minimum_frequency.value,
+            C::Burst { .. } => 0.0,
+        };
+        let imin = self.min_peak;
+        if imin <= 0.0 || p <= 0.0 {
+            return self.f;
+        }
+        let c = cycle_for_power(self.l, vin, p, self.vr, self.f);
+        if c.mode == ConductionMode::Continuous || c.i_peak >= imin {
+            return self.f;
+        }
+        (2.0 * p / (self.l * imin * imin)).clamp(floor.min(self.f), self.f)
+    }
+
     /// Load power (without bias) at a load fraction.
     pub fn output_power(&self, load: f64) -> f64 {
         load * self
@@ -130,6 +170,9 @@ impl Context<'_> {
         let mut last: Option<OperatingPoint> = None;
         let mut last_step = f64::INFINITY;
         let mut first_p_line = None;
+        // losses drawn from the input outside the magnetising inductance (from the last step)
+        let mut direct = 0.0;
+        let bias_supplies_controller = s.bias.is_some();
         while iterations < MAX_EFFICIENCY_ITERATIONS {
             iterations += 1;
             let p_line = pout / eta;
@@ -169,9 +212,15 @@ impl Context<'_> {
                 }
                 InputRange::Dc { .. } => (line, line, 0.0, 0.0, 0.0),
             };
-            let cyc = cycle_for_power(self.l, vval, p_dc, self.vr, self.f);
+            let p_mag = if fixed {
+                p_dc
+            } else {
+                (p_dc - direct).max(1e-6 * p_dc)
+            };
+            let f_op = self.operating_frequency(vval, p_mag);
+            let cyc = cycle_for_power(self.l, vval, p_mag, self.vr, f_op);
             let point = self.assemble(
-                corner, line, load, pout, p_line, p_dc, vpk, vval, tc, i_lf, &cyc,
+                corner, line, load, pout, p_line, p_dc, p_mag, vpk, vval, tc, i_lf, &cyc, f_op,
             );
             let (mut op, bridge_avg) = (point, i_bridge_avg);
             let b = &mut op.losses;
@@ -181,6 +230,16 @@ impl Context<'_> {
             b.bridge = si(2.0 * s.bridge_diode_drop.value * bridge_avg);
             b.bulk_capacitor = si(op.bulk_ripple_current_rms.value.powi(2) * lp.bulk_esr.value);
             let front_new = b.bridge.value + b.bulk_capacitor.value;
+            let ipk = op.primary_current_peak.value;
+            let direct_new = b.switch_conduction.value
+                + b.switch_capacitive.value
+                + b.switch_overlap.value
+                + 0.5 * self.llk * ipk * ipk * op.switching_frequency.value
+                + if bias_supplies_controller {
+                    0.0
+                } else {
+                    controller
+                };
             let total = b.modelled_losses().value;
             let eta_new = if fixed { eta } else { pout / (pout + total) };
             // a converging iteration shrinks its steps; growing steps mean the losses rise
@@ -190,9 +249,16 @@ impl Context<'_> {
                 return Err(runaway(corner, b, pout));
             }
             last_step = step;
-            residual = (eta_new - eta).abs() + (front_new - front).abs() / p_line;
+            residual = (eta_new - eta).abs()
+                + (front_new - front).abs() / p_line
+                + if fixed {
+                    0.0
+                } else {
+                    (direct_new - direct).abs() / p_line
+                };
             eta = eta_new;
             front = front_new;
+            direct = direct_new;
             last = Some(op);
             if residual < EFFICIENCY_TOLERANCE {
                 break;
@@ -226,11 +292,13 @@ impl Context<'_> {
         pout: f64,
         p_line: f64,
         p_dc: f64,
+        p_mag: f64,
         vpk: f64,
         vval: f64,
         tc: f64,
         i_lf: f64,
         cyc: &Cycle,
+        f: f64,
     ) -> OperatingPoint {
         let s = self.spec;
         let lp = &s.losses;
@@ -238,6 +306,34 @@ impl Context<'_> {
         let i_avg = trapezoid_avg(ipk, iv, d);
         let i_rms = trapezoid_rms(ipk, iv, d).max(i_avg);
         let i_hf = (i_rms * i_rms - i_avg * i_avg).max(0.0).sqrt();
+        // ampere-turn shares by winding power (equal volts per turn with ideal coupling)
+        let winding_power = |o: &super::spec::OutputWinding| {
+            load * ((o.voltage + o.rectifier_drop) * o.current).value
+        };
+        let bias_power = s
+            .bias
+            .as_ref()
+            .map(|b| ((b.voltage + b.rectifier_drop) * b.current).value)
+            .unwrap_or(0.0);
+        let all_power = s.outputs.iter().map(winding_power).sum::<f64>() + bias_power;
+        let clamp = clamp_at(&self.clamp, self.vr, self.llk, ipk, f);
+        let (vc, p_clamp) = (clamp.voltage, clamp.power);
+        // leakage reset: the leakage current falls at (V_c − V_r)/L_lk while the secondaries
+        // take over; meanwhile the magnetising current falls at V_r/L (at most the whole
+        // demagnetising time)
+        let t_dem = cyc.demag_duty / f;
+        let t_reset = if self.llk > 0.0 && vc > self.vr {
+            (self.llk * ipk / (vc - self.vr)).min(t_dem)
+        } else {
+            0.0
+        };
+        let wave = SecondaryWave {
+            ipk,
+            iv,
+            t_reset,
+            i_after_reset: (ipk - self.vr * t_reset / self.l).max(0.0),
+            t_dem,
+        };
         let secondaries: Vec<SecondaryPoint> = s
             .outputs
             .iter()
@@ -245,10 +341,13 @@ impl Context<'_> {
             .map(|(k, o)| {
                 secondary_point(
                     load * o.current.value,
-                    ipk,
-                    iv,
-                    cyc.demag_duty,
-                    self.f,
+                    if all_power > 0.0 {
+                        winding_power(o) / all_power
+                    } else {
+                        0.0
+                    },
+                    &wave,
+                    f,
                     vpk,
                     self.turns[k],
                     o.voltage.value,
@@ -258,7 +357,6 @@ impl Context<'_> {
                 )
             })
             .collect();
-        let (vc, p_clamp) = clamp_at(&self.clamp, self.vr, self.llk, ipk, self.f);
         let rds = lp.switch_on_resistance.value * lp.on_resistance_hot_factor;
         let coss = lp.switch_output_capacitance.value;
         // CCM: the switch turns on at V_in + V_r. DCM: after demagnetisation the drain rings
@@ -268,7 +366,7 @@ impl Context<'_> {
         let v_turn_on = match cyc.mode {
             ConductionMode::Continuous => vval + self.vr,
             _ => {
-                let idle = (1.0 - d - cyc.demag_duty).max(0.0) / self.f;
+                let idle = (1.0 - d - cyc.demag_duty).max(0.0) / f;
                 let phase = if coss > 0.0 {
                     (idle / (self.l * coss).sqrt()).min(std::f64::consts::FRAC_PI_2)
                 } else {
@@ -278,8 +376,7 @@ impl Context<'_> {
             }
         };
         let tt = lp.transition_time.value;
-        let overlap =
-            0.5 * (vval + vc) * ipk * tt * self.f + 0.5 * (vval + self.vr) * iv * tt * self.f;
+        let overlap = 0.5 * (vval + vc) * ipk * tt * f + 0.5 * (vval + self.vr) * iv * tt * f;
         let out_caps: f64 = s
             .outputs
             .iter()
@@ -289,7 +386,7 @@ impl Context<'_> {
         let losses = LossBudget {
             output: si(pout),
             switch_conduction: si(i_rms * i_rms * rds),
-            switch_capacitive: si(0.5 * coss * v_turn_on * v_turn_on * self.f),
+            switch_capacitive: si(0.5 * coss * v_turn_on * v_turn_on * f),
             switch_overlap: si(overlap),
             clamp: si(p_clamp),
             output_capacitors: si(out_caps),
@@ -302,6 +399,7 @@ impl Context<'_> {
             output_power: si(pout),
             input_power: si(p_line),
             converter_input_power: si(p_dc),
+            magnetising_power: si(p_mag),
             bulk_peak_voltage: si(vpk),
             bulk_valley_voltage: si(vval),
             bulk_conduction_time: si(tc),
@@ -309,7 +407,8 @@ impl Context<'_> {
             mode: cyc.mode,
             duty_cycle: d,
             demagnetising_duty: cyc.demag_duty,
-            on_time: si(d / self.f),
+            on_time: si(d / f),
+            switching_frequency: si(f),
             inductance_ratio: cyc.inductance_ratio,
             boundary_power: si(cyc.boundary_power),
             primary_current_peak: si(ipk),
@@ -318,7 +417,11 @@ impl Context<'_> {
             primary_current_avg: si(i_avg),
             secondaries,
             clamp_voltage: si(vc),
-            drain_voltage_peak: si(vpk + vc),
+            clamp_voltage_max: si(clamp.voltage_max),
+            drain_voltage_peak: si(vpk
+                + clamp.voltage_max
+                + s.clamp_diode_forward_recovery.value
+                + s.drain_ringing_allowance.value),
             losses,
             efficiency: pout / p_line,
             efficiency_iterations: 0,
@@ -344,12 +447,14 @@ impl Record for OperatingPoint {
             Field::new("mode", self.mode.as_str()),
             Field::new("duty_cycle", self.duty_cycle),
             Field::quantity("on_time", self.on_time),
+            Field::quantity("switching_frequency", self.switching_frequency),
             Field::quantity("primary_current_peak", self.primary_current_peak),
             Field::quantity("primary_current_valley", self.primary_current_valley),
             Field::quantity("primary_current_rms", self.primary_current_rms),
             Field::quantity("primary_current_avg", self.primary_current_avg),
             Field::quantity("boundary_power", self.boundary_power),
             Field::quantity("clamp_voltage", self.clamp_voltage),
+            Field::quantity("clamp_voltage_max", self.clamp_voltage_max),
             Field::quantity("drain_voltage_peak", self.drain_voltage_peak),
         ];
         for (k, sp) in self.secondaries.iter().enumerate() {

@@ -1,5 +1,5 @@
-//! A design report as Markdown: summary, corner table, loss budget, overload and rules, with
-//! the safety caution.
+//! A design report as Markdown: summary, corner table, loss budget, overload, derived defaults,
+//! no load, short circuit, junction temperatures and rules, with the safety caution.
 
 use super::design::FlybackDesign;
 use crate::report::{Record, Table, SAFETY_CAUTION};
@@ -23,7 +23,8 @@ fn markdown_table(t: &Table) -> String {
 /// The design as a Markdown report with the safety caution; `title` heads it.
 ///
 /// No calculation: the summary fields, the corner table, the loss budget at low line and full
-/// load, the overload table and the rule results of the design, each as a Markdown table, and
+/// load, the overload table, the derived defaults, the no-load points, the shorted output, the
+/// junction temperatures and the rule results of the design, each as a Markdown table, and
 /// [`crate::SAFETY_CAUTION`] under the title (the results touch mains isolation and are design
 /// aids only).
 pub fn design_report_markdown(design: &FlybackDesign, title: &str) -> String {
@@ -43,6 +44,26 @@ pub fn design_report_markdown(design: &FlybackDesign, title: &str) -> String {
     }
     let _ = writeln!(s, "\n## Output power at the current limit\n");
     s.push_str(&markdown_table(&design.overload_table()));
+    if !design.defaults.is_empty() {
+        let _ = writeln!(s, "\n## Values derived from the specification\n");
+        s.push_str(&markdown_table(&design.defaults_table()));
+    }
+    if !design.no_load.is_empty() {
+        let _ = writeln!(s, "\n## No load\n");
+        let mut t = Table::new();
+        for c in &design.no_load {
+            t.push_row(c.fields());
+        }
+        s.push_str(&markdown_table(&t));
+    }
+    if !design.short_circuit.is_empty() {
+        let _ = writeln!(s, "\n## Output shorted\n");
+        s.push_str(&markdown_table(&design.short_circuit_table()));
+    }
+    if !design.junctions.is_empty() {
+        let _ = writeln!(s, "\n## Junction temperatures\n");
+        s.push_str(&markdown_table(&design.junction_table()));
+    }
     let _ = writeln!(s, "\n## Design rules\n");
     s.push_str(&markdown_table(&crate::rules::checks_table(&design.checks)));
     let _ = writeln!(

@@ -24,6 +24,9 @@ pub const RECTIFIER_DERATING: f64 = 0.8;
 /// | `mode_target` | L / L_boundary at low line, full load, if a mode target is given | DCM and boundary: at most 1; CCM: at least 1 | Erickson & Maksimović 3rd ed., ch. 5 |
 /// | `bulk_valley_minimum` | bulk valley at low line, full load | at least the voltage at which the duty limit is reached | volt-second balance |
 /// | `hold_up_time` | hold-up time from the low-line valley, if required | at least `hold_up_time` | spec |
+/// | `switch_junction_temperature` | switch junction at its worst corner | at most `switch_max_junction_temperature` | series thermal resistance |
+/// | `rectifier_junction_temperature` | each output rectifier's junction at its worst corner | at most `rectifier_max_junction_temperature` | series thermal resistance |
+/// | `short_circuit_settles` | output shorted: shortest on-time over the balance on-time V_rs/(f·(V + V_rs)), worst line | at most 1 (above, the current climbs every cycle) | volt-second balance |
 ///
 /// `bulk_valley_needed` is the design's own minimum for `bulk_valley_minimum`.
 pub fn flyback_rule_book(
@@ -118,6 +121,30 @@ pub fn flyback_rule_book(
             0.05,
         )?);
     }
+    b.add(Rule::new(
+        "switch_junction_temperature",
+        "switch junction temperature at its worst corner, T_a + P·(R_θjc + R_θca)",
+        "series thermal resistance (Hart 2011, heat sinks); the limit is the spec's house limit",
+        Comparison::AtMost,
+        Quantity::from_typed(spec.switch_thermal.max_junction_temperature),
+        0.05,
+    )?);
+    b.add(Rule::new(
+        "rectifier_junction_temperature",
+        "output rectifier junction temperature at its worst corner, T_a + P·(R_θjc + R_θca)",
+        "series thermal resistance (Hart 2011, heat sinks); the limit is the spec's house limit",
+        Comparison::AtMost,
+        Quantity::from_typed(spec.rectifier_thermal.max_junction_temperature),
+        0.05,
+    )?);
+    b.add(Rule::new(
+        "short_circuit_settles",
+        "with the output shorted the shortest on-time lets the current settle at the limit",
+        "volt-second balance of the magnetising inductance (Erickson & Maksimović 3rd ed., ch. 2)",
+        Comparison::AtMost,
+        n(1.0),
+        0.1,
+    )?);
     for (id, limit) in &spec.rule_limits {
         b.set_limit(id, *limit)?;
     }

@@ -1,10 +1,11 @@
 //! What a flyback must do: input range, outputs, switching, mode target, stresses, losses.
 
+use super::thermal::ThermalPath;
 use crate::error::{Error, Result};
 use crate::units::validate::{non_negative, number_within, positive};
 use crate::units::{
     si, Capacitance, ElectricCurrent, ElectricPotential, ElectricalResistance, Frequency,
-    Inductance, Power, Quantity, Time,
+    Inductance, Power, Quantity, ThermodynamicTemperature, Time,
 };
 
 /// The supply's input.
@@ -36,7 +37,24 @@ pub enum BulkChoice {
     /// Size it (rounded up to the E12 series) so that the valley at low line and full load is
     /// at least this voltage.
     TargetValley(ElectricPotential),
+    /// Size it for a valley derived from the specification:
+    /// [`DEFAULT_VALLEY_FRACTION`] × the lowest rectified line peak (√2·V_min − 2·V_bridge),
+    /// so that a narrow-range supply gets a valley that fits its line.
+    DerivedValley,
 }
+
+/// Bulk valley target over the lowest rectified line peak when none is given: 0.64, i.e.
+/// about 80 V at 90 V RMS, the usual 2–3 µF/W of universal input, and about 160 V at 180 V
+/// RMS (common practice, no published source).
+pub const DEFAULT_VALLEY_FRACTION: f64 = 0.64;
+/// Clamp voltage above the reflected voltage when none is given, as a fraction of the
+/// reflected voltage (V_c = 1.5·V_r), unless the switch rating leaves less (common practice,
+/// no published source).
+pub const DEFAULT_CLAMP_OVERSHOOT_FRACTION: f64 = 0.5;
+/// Least clamp voltage above the reflected voltage the derived default accepts, as a fraction
+/// of the reflected voltage: below it the clamp takes most of the magnetising energy
+/// (P ∝ V_c/(V_c − V_r)) (common practice, no published source).
+pub const MIN_CLAMP_OVERSHOOT_FRACTION: f64 = 0.25;
 
 /// One output winding with its rectifier and capacitor.
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -109,6 +127,29 @@ pub enum ModeTarget {
     },
     /// Boundary (critical) conduction at low line, full load.
     Boundary,
+}
+
+/// What the controller does at light load (a description of its behaviour by parameters).
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub enum LightLoadControl {
+    /// Fixed frequency at every load: the peak current falls with the load.
+    FixedFrequency,
+    /// The peak current is held at `minimum_peak_fraction` × the nominal current limit while
+    /// the frequency falls with the load (DCM, ½·L·I_min²·f = P), down to `minimum_frequency`;
+    /// below that the peak falls again at the minimum frequency.
+    FrequencyFoldback {
+        /// Least peak current over the nominal current limit (0.05 … 0.9).
+        minimum_peak_fraction: f64,
+        /// Lowest switching frequency.
+        minimum_frequency: Frequency,
+    },
+    /// Burst (skip) mode: pulses of `minimum_peak_fraction` × the nominal limit at the
+    /// switching frequency, in bursts whose average pulse rate carries the load,
+    /// f_avg = P/(½·L·I_min²).
+    Burst {
+        /// Pulse peak current over the nominal current limit (0.05 … 0.9).
+        minimum_peak_fraction: f64,
+    },
 }
 
 /// The primary clamp against the leakage spike.
@@ -204,6 +245,17 @@ pub struct FlybackSpec {
     pub current_sense_delay: Time,
     /// Largest duty cycle the controller can give.
     pub max_duty_cycle: f64,
+    /// Shortest on-time the controller gives (leading-edge blanking and its own delay): with
+    /// the output shorted it decides whether the current settles at the limit.
+    pub minimum_on_time: Time,
+    /// How long the controller runs at the current limit before its fault timer stops it
+    /// (auto-restart).
+    pub fault_time: Time,
+    /// How long the controller stays off before it tries again (auto-restart).
+    pub restart_off_time: Time,
+    /// Switching frequency while the output is shorted, where the controller folds its
+    /// frequency back; None: the switching frequency.
+    pub short_circuit_frequency: Option<Frequency>,
     /// Mode target for choosing the primary inductance; with `primary_inductance` given, it
     /// becomes a check.
     pub mode: Option<ModeTarget>,
@@ -215,16 +267,37 @@ pub struct FlybackSpec {
     pub switch_voltage_rating: ElectricPotential,
     /// Clamp type.
     pub clamp: ClampKind,
-    /// Clamp voltage above the reflected voltage, at the worst case (current limit).
-    pub clamp_voltage_above_reflected: ElectricPotential,
+    /// Clamp voltage above the reflected voltage, at the worst case (current limit); None:
+    /// derived from the reflected voltage and the switch rating (see
+    /// [`DEFAULT_CLAMP_OVERSHOOT_FRACTION`] and the design's `defaults`).
+    pub clamp_voltage_above_reflected: Option<ElectricPotential>,
+    /// Overshoot of the clamp diode's forward recovery on top of the clamp voltage, added to
+    /// the drain peak.
+    pub clamp_diode_forward_recovery: ElectricPotential,
+    /// Allowance for the ringing of the leakage inductance with the drain capacitance on top
+    /// of the clamp, added to the drain peak (a stated allowance, not a model).
+    pub drain_ringing_allowance: ElectricPotential,
+    /// Relative tolerance of a Zener clamp's voltage (0.05 = ±5 %).
+    pub zener_tolerance: f64,
+    /// Relative rise of a Zener clamp's voltage from 25 °C to its hot junction: temperature
+    /// coefficient × temperature rise (0.1 %/K × 75 K = 0.075); negative for a falling one.
+    pub zener_rise_hot: f64,
     /// Leakage inductance.
     pub leakage: Leakage,
     /// Efficiency estimate or loss model.
     pub efficiency: EfficiencyModel,
     /// Loss model parameters.
     pub losses: LossParameters,
+    /// Air temperature around the switch and rectifiers (inside the enclosure).
+    pub ambient_temperature: ThermodynamicTemperature,
+    /// The switch's thermal path and junction limit.
+    pub switch_thermal: ThermalPath,
+    /// Every output rectifier's thermal path and junction limit (one description for all).
+    pub rectifier_thermal: ThermalPath,
     /// Light load as a fraction of full load on every output (0 < x < 1).
     pub light_load_fraction: f64,
+    /// The controller's light-load behaviour.
+    pub light_load_control: LightLoadControl,
     /// Bulk voltage down to which the supply must keep regulating after the line drops
     /// (for the hold-up time); None: the lowest voltage at which the duty limit is met.
     pub hold_up_end_voltage: Option<ElectricPotential>,
@@ -237,7 +310,8 @@ pub struct FlybackSpec {
 impl FlybackSpec {
     /// A universal-input (90–264 V AC, 50 Hz) spec at 65 kHz with a 650 V switch, one output,
     /// reflected voltage 100 V, CCM with ripple ratio 0.8 … every default as documented on the
-    /// fields' script keys (`help flyback_design`).
+    /// fields' script keys (`help flyback_design`); the bulk valley target and the clamp
+    /// voltage are derived from the specification when the design is made.
     pub fn universal(output: OutputWinding) -> Self {
         Self {
             input: InputRange::Ac {
@@ -245,7 +319,7 @@ impl FlybackSpec {
                 max_rms: si(264.0),
                 line_frequency: si(50.0),
             },
-            bulk: BulkChoice::TargetValley(si(80.0)),
+            bulk: BulkChoice::DerivedValley,
             bridge_diode_drop: si(1.0),
             bulk_ripple_current_rating: None,
             outputs: vec![output],
@@ -256,16 +330,38 @@ impl FlybackSpec {
             current_limit_tolerance: 0.1,
             current_sense_delay: si(100e-9),
             max_duty_cycle: 0.7,
+            minimum_on_time: si(150e-9),
+            fault_time: si(50e-3),
+            restart_off_time: si(450e-3),
+            short_circuit_frequency: None,
             mode: Some(ModeTarget::Continuous { ripple_ratio: 0.8 }),
             primary_inductance: None,
             reflected_voltage: si(100.0),
             switch_voltage_rating: si(650.0),
             clamp: ClampKind::Rcd,
-            clamp_voltage_above_reflected: si(50.0),
+            clamp_voltage_above_reflected: None,
+            clamp_diode_forward_recovery: si(5.0),
+            drain_ringing_allowance: si(10.0),
+            zener_tolerance: 0.05,
+            zener_rise_hot: 0.075,
             leakage: Leakage::Fraction(0.02),
             efficiency: EfficiencyModel::Computed { start: 0.85 },
             losses: LossParameters::default(),
+            ambient_temperature: si(273.15 + 50.0),
+            // a through-hole power package in free air: about 2.5 K/W junction to case and
+            // 60 K/W case to ambient (common practice, no published source); 125 °C house limit
+            switch_thermal: ThermalPath {
+                junction_to_case: si(2.5),
+                case_to_ambient: si(60.0),
+                max_junction_temperature: si(273.15 + 125.0),
+            },
+            rectifier_thermal: ThermalPath {
+                junction_to_case: si(3.0),
+                case_to_ambient: si(60.0),
+                max_junction_temperature: si(273.15 + 125.0),
+            },
             light_load_fraction: 0.1,
+            light_load_control: LightLoadControl::FixedFrequency,
             hold_up_end_voltage: None,
             hold_up_time: None,
             rule_limits: Vec::new(),
@@ -321,7 +417,20 @@ impl FlybackSpec {
             }
             BulkChoice::TargetValley(v) => {
                 positive("target_valley_voltage", v)?;
+                if let InputRange::Ac { min_rms, .. } = self.input {
+                    let peak = std::f64::consts::SQRT_2 * min_rms.value
+                        - 2.0 * self.bridge_diode_drop.value;
+                    if v.value >= peak {
+                        return Err(Error::invalid(format!(
+                            "`target_valley_voltage` ({}) must be below the lowest rectified line \
+                             peak, √2·`min_line_voltage` − 2·`bridge_diode_drop` = {}",
+                            Quantity::from_typed(v),
+                            Quantity::new(peak, crate::units::Dimension::VOLTAGE)
+                        )));
+                    }
+                }
             }
+            BulkChoice::DerivedValley => {}
         }
         non_negative("bridge_diode_drop", self.bridge_diode_drop)?;
         if let Some(r) = self.bulk_ripple_current_rating {
@@ -394,6 +503,38 @@ impl FlybackSpec {
                 Quantity::new(longest_on, crate::units::Dimension::TIME)
             )));
         }
+        non_negative("minimum_on_time", self.minimum_on_time)?;
+        if self.minimum_on_time.value >= longest_on {
+            return Err(Error::invalid(format!(
+                "`minimum_on_time` ({}) must be shorter than the longest on-time, \
+                 `max_duty_cycle`/`switching_frequency` = {}",
+                Quantity::from_typed(self.minimum_on_time),
+                Quantity::new(longest_on, crate::units::Dimension::TIME)
+            )));
+        }
+        positive("fault_time", self.fault_time)?;
+        non_negative("restart_off_time", self.restart_off_time)?;
+        let f_short = match self.short_circuit_frequency {
+            Some(fs) => {
+                positive("short_circuit_frequency", fs)?;
+                if fs > self.switching_frequency {
+                    return Err(Error::invalid(format!(
+                        "`short_circuit_frequency` ({}) must be at most `switching_frequency` ({}): \
+                         a controller folds its frequency back, not up",
+                        Quantity::from_typed(fs),
+                        Quantity::from_typed(self.switching_frequency)
+                    )));
+                }
+                fs.value
+            }
+            None => self.switching_frequency.value,
+        };
+        if self.fault_time.value * f_short > 1e7 {
+            return Err(Error::out_of_range(format!(
+                "`fault_time` ({}) spans more than 10 million switching cycles",
+                Quantity::from_typed(self.fault_time)
+            )));
+        }
         let half_period = 0.5 / self.switching_frequency.value;
         if self.losses.transition_time.value >= half_period {
             return Err(Error::invalid(format!(
@@ -420,10 +561,16 @@ impl FlybackSpec {
         }
         positive("reflected_voltage", self.reflected_voltage)?;
         positive("switch_voltage_rating", self.switch_voltage_rating)?;
-        positive(
-            "clamp_voltage_above_reflected",
-            self.clamp_voltage_above_reflected,
+        if let Some(v) = self.clamp_voltage_above_reflected {
+            positive("clamp_voltage_above_reflected", v)?;
+        }
+        non_negative(
+            "clamp_diode_forward_recovery",
+            self.clamp_diode_forward_recovery,
         )?;
+        non_negative("drain_ringing_allowance", self.drain_ringing_allowance)?;
+        number_within("zener_tolerance", self.zener_tolerance, 0.0, 0.3)?;
+        number_within("zener_rise_hot", self.zener_rise_hot, -0.3, 0.3)?;
         match self.leakage {
             Leakage::Fraction(x) => {
                 number_within("leakage_fraction", x, 0.0, 0.2)?;
@@ -456,6 +603,47 @@ impl FlybackSpec {
             0.3,
         )?;
         number_within("light_load_fraction", self.light_load_fraction, 0.01, 0.99)?;
+        match self.light_load_control {
+            LightLoadControl::FixedFrequency => {}
+            LightLoadControl::Burst {
+                minimum_peak_fraction,
+            } => {
+                number_within("minimum_peak_fraction", minimum_peak_fraction, 0.05, 0.9)?;
+            }
+            LightLoadControl::FrequencyFoldback {
+                minimum_peak_fraction,
+                minimum_frequency,
+            } => {
+                number_within("minimum_peak_fraction", minimum_peak_fraction, 0.05, 0.9)?;
+                positive("minimum_frequency", minimum_frequency)?;
+                if minimum_frequency > self.switching_frequency {
+                    return Err(Error::invalid(format!(
+                        "`minimum_frequency` ({}) must be at most `switching_frequency` ({})",
+                        Quantity::from_typed(minimum_frequency),
+                        Quantity::from_typed(self.switching_frequency)
+                    )));
+                }
+            }
+        }
+        for (name, p) in [
+            ("switch", &self.switch_thermal),
+            ("rectifier", &self.rectifier_thermal),
+        ] {
+            non_negative(&format!("{name}_junction_to_case"), p.junction_to_case)?;
+            non_negative(&format!("{name}_case_to_ambient"), p.case_to_ambient)?;
+            positive(
+                &format!("{name}_max_junction_temperature"),
+                p.max_junction_temperature,
+            )?;
+            if p.max_junction_temperature <= self.ambient_temperature {
+                return Err(Error::invalid(format!(
+                    "`{name}_max_junction_temperature` ({}) must be above `ambient_temperature` ({})",
+                    Quantity::from_typed(p.max_junction_temperature),
+                    Quantity::from_typed(self.ambient_temperature)
+                )));
+            }
+        }
+        positive("ambient_temperature", self.ambient_temperature)?;
         if let Some(v) = self.hold_up_end_voltage {
             positive("hold_up_end_voltage", v)?;
         }

@@ -29,6 +29,12 @@ pub struct TransformerOperatingPoint {
     pub current_limit: ElectricCurrent,
     /// Its relative tolerance.
     pub current_limit_tolerance: f64,
+    /// Rise past the highest limit during the sense delay: the design's highest peak at the
+    /// current limit less I_lim·(1 + tol).
+    pub current_limit_overshoot: ElectricCurrent,
+    /// Highest primary peak with the regulated output shorted (the design's short circuit;
+    /// None when the design has none).
+    pub short_circuit_peak_current: Option<ElectricCurrent>,
     /// Reflected voltage.
     pub reflected_voltage: ElectricPotential,
     /// Regulated output voltage.
@@ -94,6 +100,16 @@ pub fn transformer_operating_point(
         secondary_conduction_fraction: conduction,
         current_limit: design.current_limit,
         current_limit_tolerance: design.current_limit_tolerance,
+        current_limit_overshoot: crate::units::si(
+            (design.primary_current_peak_at_limit().value
+                - design.current_limit.value * (1.0 + design.current_limit_tolerance))
+                .max(0.0),
+        ),
+        short_circuit_peak_current: design
+            .short_circuit
+            .iter()
+            .map(|p| p.primary_current_peak)
+            .reduce(|a, b| if b > a { b } else { a }),
         reflected_voltage: design.reflected_voltage,
         output_voltage: output.voltage,
         rectifier_drop: output.rectifier_drop,
@@ -125,6 +141,8 @@ impl TransformerOperatingPoint {
         spec.secondary_conduction_fraction = self.secondary_conduction_fraction;
         spec.current_limit = self.current_limit;
         spec.current_limit_tolerance = self.current_limit_tolerance;
+        spec.current_limit_overshoot = self.current_limit_overshoot;
+        spec.short_circuit_peak_current = self.short_circuit_peak_current;
         spec.reflected_voltage = self.reflected_voltage;
         spec.output_voltage = self.output_voltage;
         spec.rectifier_drop = self.rectifier_drop;
@@ -153,11 +171,15 @@ impl Record for TransformerOperatingPoint {
             ),
             Field::quantity("current_limit", self.current_limit),
             Field::new("current_limit_tolerance", self.current_limit_tolerance),
+            Field::quantity("current_limit_overshoot", self.current_limit_overshoot),
             Field::quantity("reflected_voltage", self.reflected_voltage),
             Field::quantity("output_voltage", self.output_voltage),
             Field::quantity("rectifier_drop", self.rectifier_drop),
             Field::quantity("output_current", self.output_current),
         ];
+        if let Some(i) = self.short_circuit_peak_current {
+            f.push(Field::quantity("short_circuit_peak_current", i));
+        }
         if let Some(b) = self.bias {
             f.push(Field::quantity("bias_voltage", b.voltage));
             f.push(Field::quantity("bias_rectifier_drop", b.rectifier_drop));

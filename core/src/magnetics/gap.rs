@@ -204,6 +204,28 @@ fn gap_result(
     })
 }
 
+/// The gap record of a given gap length with N turns (the inductance it gives, AL, µe,
+/// fringing), as [`inductance_for_air_gap`].
+pub(crate) fn gap_for_given_length(
+    core: &Core,
+    turns: f64,
+    gap: Length,
+    placement: GapPlacement,
+    relative_permeability: f64,
+) -> Result<GapResult> {
+    let n = positive_number("turns", turns)?;
+    let g = non_negative("gap", gap)?.value;
+    if g > 0.5 * window_height(core) {
+        return Err(Error::out_of_range(format!(
+            "`gap` {:.3} mm is above half the window height ({:.3} mm)",
+            g * 1e3,
+            0.5 * window_height(core) * 1e3
+        )));
+    }
+    let rc = core_reluctance(core, relative_permeability)?;
+    gap_result(core, n, g, placement, rc)
+}
+
 /// The air gap for a target inductance with N turns: solves
 /// N²/L = le/(µ0·µr·Ae) + R_gap(lg) for lg, where R_gap includes McLyman's fringing factor,
 /// which itself depends on lg — so the solution is iterated (bisection to 1 pm).

@@ -33,8 +33,9 @@ pub use gap::{
 pub use material::{ferrite_material, ferrite_materials, FerriteMaterial, SteinmetzBand};
 pub use thermal::{insulation_class_limit, temperature_rise, temperature_rise_thermal_resistance};
 pub use transformer::{
-    build_sheet, core_selection, transformer_checks, transformer_design, AdditionalOutput,
-    AdditionalOutputResult, BiasWinding, CoreCandidate, CoreSelectionSpec, TransformerDesign,
+    build_sheet, core_selection, transformer_check, transformer_check_rules, transformer_checks,
+    transformer_design, AdditionalOutput, AdditionalOutputResult, BiasWinding, CoreCandidate,
+    CoreSelectionSpec, GivenMagnetising, GivenTransformer, TransformerCheck, TransformerDesign,
     TransformerSpec, WindingOrder, WindingSection,
 };
 pub use winding::{

@@ -101,6 +101,13 @@ pub struct TransformerSpec {
     pub current_limit: ElectricCurrent,
     /// Relative tolerance of the current limit (0.1 = +10 % worst case).
     pub current_limit_tolerance: f64,
+    /// Rise of the primary current past the highest current limit during the controller's
+    /// sense delay, V_bulk·t_d/L (`flyback_design` computes it); added to I_lim·(1 + tol) for
+    /// the flux at the current limit. Zero: no delay.
+    pub current_limit_overshoot: ElectricCurrent,
+    /// Highest primary peak with the output shorted (`flyback_design`'s short-circuit
+    /// staircase); checked against saturation hot, not used for the turns. None: not checked.
+    pub short_circuit_peak_current: Option<ElectricCurrent>,
     /// Reflected voltage target.
     pub reflected_voltage: ElectricPotential,
     /// Regulated output voltage.
@@ -169,6 +176,107 @@ pub struct TransformerSpec {
     pub insulation_class: String,
 }
 
+/// How the magnetising inductance of an existing transformer is known.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub enum GivenMagnetising {
+    /// The gap as built (ground centre leg or spacer, per `gap_placement`); the inductance
+    /// follows from [`super::inductance_for_air_gap`].
+    Gap(Length),
+    /// The primary inductance measured on the bench; the effective gap follows from
+    /// [`super::effective_gap_from_inductance`] with the material's working permeability.
+    MeasuredInductance(Inductance),
+}
+
+/// The turns and magnetising path of a transformer that already exists (a sample to audit
+/// or rewind), for [`transformer_check`].
+#[derive(Clone, Debug, PartialEq)]
+pub struct GivenTransformer {
+    /// Primary turns in all (both halves of a split primary together).
+    pub primary_turns: u32,
+    /// Turns of the first half of a split primary (the one next to the centre leg); None:
+    /// half the primary turns, rounded up. Ignored for the `primary_secondary_bias` order.
+    pub primary_first_half_turns: Option<u32>,
+    /// Turns of the regulated secondary.
+    pub secondary_turns: u32,
+    /// Turns of each additional output, in the order of the specification's
+    /// `additional_outputs`.
+    pub additional_output_turns: Vec<u32>,
+    /// Bias turns (needed when the specification has a bias winding).
+    pub bias_turns: Option<u32>,
+    /// The gap, or the measured inductance.
+    pub magnetising: GivenMagnetising,
+}
+
+/// An existing transformer checked at the specification's operating point.
+#[derive(Clone, Debug, PartialEq)]
+pub struct TransformerCheck {
+    /// Everything [`transformer_design`] reports, for the given turns and gap: flux at full
+    /// load and at the worst-case current limit, saturation margin hot, fill, losses, rise.
+    pub design: TransformerDesign,
+    /// Primary inductance of the transformer (from the gap, or as measured).
+    pub inductance: Inductance,
+    /// (inductance − specified)/specified: a transformer far from the inductance the power
+    /// stage was designed for moves its currents.
+    pub inductance_error: f64,
+}
+
+impl Record for TransformerCheck {
+    fn fields(&self) -> Vec<Field> {
+        let mut v = vec![
+            Field::quantity("inductance", self.inductance),
+            Field::new("inductance_error", self.inductance_error),
+        ];
+        v.extend(self.design.fields());
+        v
+    }
+}
+
+/// Checks a transformer that already exists: the given turns for every winding and the gap
+/// (or a measured inductance) on the given core, at the operating point of `spec`.
+///
+/// Same formulas and assumptions as [`transformer_design`], with the turns taken as given
+/// instead of chosen and the inductance L from the gap (or measured): B_pk = L·I_pk/(Np·Ae),
+/// B_limit = L·(1 + tol_L)·(I_lim·(1 + tol_I) + overshoot)/(Np·min(Amin, Ae)) (McLyman 2011,
+/// chapter 8: B = L·I/(N·A)), the reflected and output voltages from the turns ratios. The
+/// currents are those of `spec` (the power stage's operating point): when L differs from
+/// `spec.primary_inductance` by more than its tolerance they no longer describe this
+/// transformer, which [`transformer_check_rules`] reports. Fed the turns and gap that
+/// [`transformer_design`] chose, it returns the same design.
+pub fn transformer_check(
+    spec: &TransformerSpec,
+    given: &GivenTransformer,
+) -> Result<TransformerCheck> {
+    let design = transformer_build(spec, Some(given))?;
+    let l_spec = spec.primary_inductance.value;
+    let l = match given.magnetising {
+        GivenMagnetising::MeasuredInductance(lm) => lm,
+        GivenMagnetising::Gap(_) => design.gap.inductance,
+    };
+    Ok(TransformerCheck {
+        inductance: l,
+        inductance_error: (l.value - l_spec) / l_spec,
+        design,
+    })
+}
+
+/// The rules of [`transformer_checks`] for a checked transformer, and one more:
+/// `inductance_within_tolerance`, |L − L_spec|/L_spec at most `inductance_tolerance`.
+pub fn transformer_check_rules(
+    spec: &TransformerSpec,
+    c: &TransformerCheck,
+) -> Result<Vec<CheckResult>> {
+    let mut out = transformer_checks(spec, &c.design)?;
+    out.push(rule(
+        "inductance_within_tolerance",
+        "primary inductance of the transformer against the one the power stage was designed for",
+        "the specification's inductance tolerance",
+        Comparison::AtMost,
+        Quantity::number(spec.inductance_tolerance),
+        Quantity::number(c.inductance_error.abs()),
+    )?);
+    Ok(out)
+}
+
 /// One winding section of the build.
 #[derive(Clone, Debug, PartialEq)]
 pub struct WindingSection {
@@ -232,13 +340,16 @@ pub struct TransformerDesign {
     pub flux_density_peak: MagneticFluxDensity,
     /// Peak-to-peak flux swing at the nominal design point.
     pub flux_density_swing_pp: MagneticFluxDensity,
-    /// Peak flux density at the worst-case current limit with the inductance at its upper
-    /// tolerance, in the smallest core section.
+    /// Peak flux density at the worst-case current limit (highest limit plus the sense-delay
+    /// overshoot) with the inductance at its upper tolerance, in the smallest core section.
     pub flux_density_limit_peak: MagneticFluxDensity,
     /// Saturation flux density at 100 °C.
     pub saturation_hot: MagneticFluxDensity,
     /// 1 − B_limit/Bsat(100 °C).
     pub saturation_margin: f64,
+    /// Peak flux density with the output shorted, L·(1 + tol_L)·I_sc/(Np·min(Amin, Ae)) (None
+    /// when no short-circuit peak is given).
+    pub flux_density_short_circuit_peak: Option<MagneticFluxDensity>,
     /// Core loss (iGSE).
     pub core_loss: Power,
     /// Copper loss, all windings.
@@ -270,7 +381,8 @@ fn q<T: crate::units::TypedQuantity>(x: T) -> Quantity {
 
 /// Designs the transformer.
 ///
-/// Steps and formulas: Np,min = L·(1 + tol_L)·I_lim·(1 + tol_I)/(B_max·min(Amin, Ae)); Ns is the
+/// Steps and formulas: Np,min = L·(1 + tol_L)·(I_lim·(1 + tol_I) + overshoot)/(B_max·min(Amin, Ae))
+/// (overshoot: `current_limit_overshoot`, the rise during the sense delay); Ns is the
 /// smallest integer with Np = round(Ns·V_or/(Vo + Vf)) ≥ Np,min; V_or = (Np/Ns)·(Vo + Vf);
 /// Nb = round(Ns·(Vb + Vfb)/(Vo + Vf)); the gap by [`air_gap_for_inductance`] (McLyman
 /// fringing, iterated); B_pk = L·I_pk/(Np·Ae); ΔB = L·(I_pk − I_valley)/(Np·Ae); core loss
@@ -289,6 +401,14 @@ fn q<T: crate::units::TypedQuantity>(x: T) -> Quantity {
 /// secondary conduction time; all windings have the same direction and the layer
 /// structure fills the bobbin width (Dowell's one-dimensional field).
 pub fn transformer_design(spec: &TransformerSpec) -> Result<TransformerDesign> {
+    transformer_build(spec, None)
+}
+
+/// The design with the turns chosen (`given` None) or given.
+fn transformer_build(
+    spec: &TransformerSpec,
+    given: Option<&GivenTransformer>,
+) -> Result<TransformerDesign> {
     let core = &spec.core;
     let mat = &spec.material;
     mat.validate()?;
@@ -346,28 +466,81 @@ pub fn transformer_design(spec: &TransformerSpec) -> Result<TransformerDesign> {
     // turns
     let ae = core.effective_area.value;
     let amin = core.minimum_area.value.min(ae);
-    let l_max = l * (1.0 + tol_l);
-    let ilim_max = ilim * (1.0 + tol_i);
-    let np_min = l_max * ilim_max / (bmax * amin);
-    if !(np_min.is_finite() && np_min <= 100_000.0) {
-        return Err(Error::infeasible(format!(
-            "the flux limit needs {np_min:.4e} primary turns; raise `max_flux_density` or choose a larger core"
-        )));
-    }
+    let overshoot = non_negative("current_limit_overshoot", spec.current_limit_overshoot)?.value;
+    let ilim_max = ilim * (1.0 + tol_i) + overshoot;
+    let np_min_at = |l_max: f64| l_max * ilim_max / (bmax * amin);
+    let np_min = np_min_at(l * (1.0 + tol_l));
     let ratio = vor_target / (vo + vf);
-    let mut ns = 1u32;
-    let np = loop {
-        let np = (ns as f64 * ratio).round().max(1.0);
-        if np >= np_min.ceil() {
-            break np as u32;
+    let (np, ns) = match given {
+        None => {
+            if !(np_min.is_finite() && np_min <= 100_000.0) {
+                return Err(Error::infeasible(format!(
+                    "the flux limit needs {np_min:.4e} primary turns; raise `max_flux_density` or choose a larger core"
+                )));
+            }
+            let mut ns = 1u32;
+            let np = loop {
+                let np = (ns as f64 * ratio).round().max(1.0);
+                if np >= np_min.ceil() {
+                    break np as u32;
+                }
+                ns += 1;
+                if ns > 10_000 {
+                    return Err(Error::infeasible(
+                        "no integer turns found below 10 000 secondary turns",
+                    ));
+                }
+            };
+            (np, ns)
         }
-        ns += 1;
-        if ns > 10_000 {
-            return Err(Error::infeasible(
-                "no integer turns found below 10 000 secondary turns",
-            ));
+        Some(g) => {
+            for (name, t) in [
+                ("primary_turns", g.primary_turns),
+                ("secondary_turns", g.secondary_turns),
+            ] {
+                if t == 0 || t > 100_000 {
+                    return Err(Error::out_of_range(format!(
+                        "`{name}` = {t} must be 1 … 100000 turns"
+                    )));
+                }
+            }
+            (g.primary_turns, g.secondary_turns)
         }
     };
+    // the gap, and the inductance it gives (as designed, from the given gap, or measured)
+    let gap = match given.map(|g| g.magnetising) {
+        None => air_gap_for_inductance(
+            core,
+            np as f64,
+            spec.primary_inductance,
+            spec.gap_placement,
+            mat.working_permeability,
+        )?,
+        Some(GivenMagnetising::Gap(g)) => super::gap::gap_for_given_length(
+            core,
+            np as f64,
+            non_negative("gap", g)?,
+            spec.gap_placement,
+            mat.working_permeability,
+        )?,
+        Some(GivenMagnetising::MeasuredInductance(lm)) => {
+            super::gap::effective_gap_from_inductance(
+                core,
+                np as f64,
+                positive("measured_inductance", lm)?,
+                None,
+                spec.gap_placement,
+                mat.working_permeability,
+            )?
+        }
+    };
+    // a measured inductance is taken as measured (the gap solver returns it to 1 pm of gap)
+    let l = match given.map(|g| g.magnetising) {
+        None => l,
+        Some(GivenMagnetising::Gap(_)) => gap.inductance.value,
+        Some(GivenMagnetising::MeasuredInductance(lm)) => lm.value,
+    };
+    let l_max = l * (1.0 + tol_l);
     let n = np as f64 / ns as f64;
     let vor = n * (vo + vf);
     let (nb, vb_actual, vb_err) = match &spec.bias {
@@ -375,7 +548,15 @@ pub fn transformer_design(spec: &TransformerSpec) -> Result<TransformerDesign> {
             let vb = positive("bias voltage", b.voltage)?.value;
             let vfb = non_negative("bias rectifier_drop", b.rectifier_drop)?.value;
             positive("bias current", b.current)?;
-            let nb = (ns as f64 * (vb + vfb) / (vo + vf)).round().max(1.0) as u32;
+            let nb = match given {
+                None => (ns as f64 * (vb + vfb) / (vo + vf)).round().max(1.0) as u32,
+                Some(g) => match g.bias_turns {
+                    Some(t) if t > 0 => t,
+                    _ => return Err(Error::missing(
+                        "`bias_turns` (at least 1) is needed: the specification has a bias winding",
+                    )),
+                },
+            };
             let actual = nb as f64 / ns as f64 * (vo + vf) - vfb;
             (nb, actual, (actual - vb) / vb)
         }
@@ -385,6 +566,15 @@ pub fn transformer_design(spec: &TransformerSpec) -> Result<TransformerDesign> {
     // additional outputs: turns, voltages and ampere-turn shares
     let mut extras = Vec::with_capacity(spec.additional_outputs.len());
     let mut weights = Vec::with_capacity(spec.additional_outputs.len());
+    if let Some(g) = given {
+        if g.additional_output_turns.len() != spec.additional_outputs.len() {
+            return Err(Error::invalid(format!(
+                "`additional_output_turns` lists {} windings, `additional_outputs` {}",
+                g.additional_output_turns.len(),
+                spec.additional_outputs.len()
+            )));
+        }
+    }
     if !spec.additional_outputs.is_empty() {
         let io = match spec.output_current {
             Some(i) => positive("output_current", i)?.value,
@@ -402,7 +592,15 @@ pub fn transformer_design(spec: &TransformerSpec) -> Result<TransformerDesign> {
                 .map_err(ctx)?
                 .value;
             let ik = positive("current", o.current).map_err(ctx)?.value;
-            let nk = (ns as f64 * (v + vfk) / (vo + vf)).round().max(1.0) as u32;
+            let nk = match given {
+                None => (ns as f64 * (v + vfk) / (vo + vf)).round().max(1.0) as u32,
+                Some(g) if g.additional_output_turns[k] > 0 => g.additional_output_turns[k],
+                Some(_) => {
+                    return Err(Error::out_of_range(format!(
+                        "`additional_output_turns[{k}]` must be at least 1 turn"
+                    )))
+                }
+            };
             let actual = nk as f64 / ns as f64 * (vo + vf) - vfk;
             weights.push(nk as f64 * ik);
             extras.push(AdditionalOutputResult {
@@ -423,19 +621,18 @@ pub fn transformer_design(spec: &TransformerSpec) -> Result<TransformerDesign> {
         x.current_share = w / weight_sum;
     }
 
-    // gap and flux
-    let gap = air_gap_for_inductance(
-        core,
-        np as f64,
-        spec.primary_inductance,
-        spec.gap_placement,
-        mat.working_permeability,
-    )?;
+    // flux
     let b_pk = l * ip / (np as f64 * ae);
     let b_swing = l * (ip - iv) / (np as f64 * ae);
     let b_lim = l_max * ilim_max / (np as f64 * amin);
     let bsat = mat.saturation_100c.value;
     let sat_margin = 1.0 - b_lim / bsat;
+    let b_short = match spec.short_circuit_peak_current {
+        Some(i) => {
+            Some(l_max * non_negative("short_circuit_peak_current", i)?.value / (np as f64 * amin))
+        }
+        None => None,
+    };
 
     // core loss
     let period = 1.0 / fsw.value;
@@ -597,7 +794,15 @@ pub fn transformer_design(spec: &TransformerSpec) -> Result<TransformerDesign> {
             }
         }
         WindingOrder::SplitPrimary => {
-            let first = np.div_ceil(2);
+            let first = match given.and_then(|g| g.primary_first_half_turns) {
+                Some(t) if t >= 1 && t <= np => t,
+                Some(t) => {
+                    return Err(Error::out_of_range(format!(
+                        "`primary_first_half_turns` = {t} must be 1 … `primary_turns` ({np})"
+                    )))
+                }
+                None => np.div_ceil(2),
+            };
             let second = np - first;
             plans.push(primary_plan(
                 "primary, first half",
@@ -720,7 +925,7 @@ pub fn transformer_design(spec: &TransformerSpec) -> Result<TransformerDesign> {
     Ok(TransformerDesign {
         core_name: core.name.clone(),
         material_name: mat.name.clone(),
-        minimum_primary_turns: np_min,
+        minimum_primary_turns: np_min_at(l_max),
         primary_turns: np,
         secondary_turns: ns,
         bias_turns: nb,
@@ -737,6 +942,7 @@ pub fn transformer_design(spec: &TransformerSpec) -> Result<TransformerDesign> {
         flux_density_limit_peak: si(b_lim),
         saturation_hot: si(bsat),
         saturation_margin: sat_margin,
+        flux_density_short_circuit_peak: b_short.map(si),
         core_loss: si(core_loss),
         copper_loss: si(copper_total),
         total_loss: si(total),
@@ -791,6 +997,9 @@ impl Record for TransformerDesign {
             ),
             Field::quantity("skin_depth", self.skin_depth),
         ];
+        if let Some(b) = self.flux_density_short_circuit_peak {
+            v.push(Field::quantity("flux_density_short_circuit_peak", b));
+        }
         for (k, x) in self.additional_outputs.iter().enumerate() {
             let key = format!("output_{}", k + 2);
             v.push(Field::new(format!("{key}.turns"), x.turns as i64));
@@ -902,6 +1111,16 @@ pub fn transformer_checks(
             num(d.insulation_layers_present as f64),
         )?,
     ];
+    if let Some(b) = d.flux_density_short_circuit_peak {
+        out.push(rule(
+            "saturation_in_short_circuit",
+            "peak flux density with the output shorted, upper inductance tolerance, smallest section, against saturation at 100 °C",
+            "B = L·I/(N·A), McLyman 2011, chapter 8; the limit is the material's hot saturation",
+            Comparison::AtMost,
+            q(d.saturation_hot),
+            q(b),
+        )?);
+    }
     if let (Some(c), false) = (spec.required_creepage, spec.secondary_triple_insulated) {
         let c = positive("required_creepage", c)?;
         out.push(rule(

@@ -49,7 +49,10 @@ pub use clearance::{
     ClearanceSpec, WorkingClearanceSpec,
 };
 pub use creepage::{creepage_distance, minimum_groove_width, Creepage, CreepageSpec, GrooveWidth};
-pub use from_flyback::{flyback_design_working_voltage, primary_swing_peak};
+pub use from_flyback::{
+    flyback_design_working_voltage, flyback_waveform_working_voltage, primary_swing_peak,
+    BarrierVoltageEstimates, WorkingVoltageMethod,
+};
 pub use high_frequency::{high_frequency_clearance, high_frequency_creepage, HighFrequencySpec};
 pub use impulse::{altitude_correction, rated_impulse_voltage, AltitudeCorrection, RatedImpulse};
 pub use report::{

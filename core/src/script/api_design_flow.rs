@@ -10,7 +10,7 @@ use super::record::ScriptRecord;
 use super::{def, overload, Api};
 use crate::emi::{emi_source_from_flyback, FlybackEmiSource, DEFAULT_DRAIN_RISE_TIME_S};
 use crate::report::{Field, Record, Value};
-use crate::safety::{flyback_working_voltage, FlybackBarrierSpec};
+use crate::safety::FlybackBarrierSpec;
 use crate::units::{si, Time};
 use rhai::{Dynamic, ImmutableString, Map};
 
@@ -31,10 +31,13 @@ static EMI_SOURCE: FunctionDoc = FunctionDoc {
 static BARRIER_VOLTAGE: FunctionDoc = FunctionDoc {
     name: "flyback_barrier_voltage",
     domain: Domain::Safety,
-    summary: "Primary–secondary working voltage (peak and RMS) of a flyback design: bulk peak at high line + reflected voltage + clamp overshoot + the secondary's largest swing (conservative sum; RMS with the secondary's square-wave RMS); its fields feed barrier_requirements.",
-    params: &[ParamDoc::required("design", ParamKind::Any, "a FlybackDesign")],
+    summary: "Primary–secondary working voltage (peak and RMS) of a flyback design, two ways: the conservative sum (bulk peak at high line + reflected voltage + clamp overshoot + the secondary's largest swing; the default) and from the waveforms (the worst pair of primary and secondary nodes over a period, peak and true RMS); working_voltage_peak/rms are the chosen one's, and both are shown. Its fields feed barrier_requirements.",
+    params: &[
+        ParamDoc::required("design", ParamKind::Any, "a FlybackDesign"),
+        ParamDoc::with_default("method", ParamKind::Text, "conservative_sum", "\"conservative_sum\" or \"waveform\": which estimate the barrier uses"),
+    ],
     keys: &[],
-    returns: "record: bulk_voltage_peak, reflected_voltage, clamp_overshoot, secondary_voltage_peak, secondary_voltage_rms, duty_cycle, working_voltage_peak, working_voltage_rms, working_frequency, rule",
+    returns: "record: bulk_voltage_peak, reflected_voltage, clamp_overshoot, secondary_voltage_peak, secondary_voltage_rms, duty_cycle, working_voltage_peak, working_voltage_rms, working_frequency, rule (of the chosen estimate), method, conservative_sum_peak, conservative_sum_rms, waveform_peak, waveform_rms",
     example: "flyback_barrier_voltage(flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A})).working_voltage_peak",
 };
 
@@ -120,32 +123,43 @@ pub(crate) fn register(api: &mut Api) {
         let rise: Time = lift(dynamic_to_typed(&rise, "rise_time"))?;
         emi_source(&d, &corner, rise)
     });
+    fn barrier_voltage(d: &ScriptFlyback, method: &str) -> ScriptResult<ScriptRecord> {
+        let (spec, w) = lift(
+            (|| {
+                let spec = FlybackBarrierSpec::from_flyback(d.design())?;
+                let m = crate::safety::WorkingVoltageMethod::parse(method)?;
+                let w = crate::safety::BarrierVoltageEstimates::of(d.design(), m)?;
+                Ok((spec, w))
+            })()
+            .map_err(|e: crate::error::Error| e.context("flyback_barrier_voltage")),
+        )?;
+        let mut fields = vec![
+            Field::quantity("bulk_voltage_peak", spec.bulk_voltage_peak),
+            Field::quantity("reflected_voltage", spec.reflected_voltage),
+            Field::quantity("clamp_overshoot", spec.clamp_overshoot),
+            Field::quantity("secondary_voltage_peak", spec.secondary_voltage_peak),
+        ];
+        if let Some(rms) = spec.secondary_voltage_rms {
+            fields.push(Field::quantity("secondary_voltage_rms", rms));
+        }
+        fields.push(Field::new("duty_cycle", spec.duty_cycle));
+        fields.extend(w.fields());
+        Ok(ScriptRecord::new("flyback_barrier_voltage", fields))
+    }
     def!(
         api,
         &BARRIER_VOLTAGE,
         |d: ScriptFlyback| -> ScriptResult<ScriptRecord> {
-            let (spec, w) = lift(
-                (|| {
-                    let spec = FlybackBarrierSpec::from_flyback(d.design())?;
-                    let w = flyback_working_voltage(&spec)?;
-                    Ok((spec, w))
-                })()
-                .map_err(|e: crate::error::Error| e.context("flyback_barrier_voltage")),
-            )?;
-            let mut fields = vec![
-                Field::quantity("bulk_voltage_peak", spec.bulk_voltage_peak),
-                Field::quantity("reflected_voltage", spec.reflected_voltage),
-                Field::quantity("clamp_overshoot", spec.clamp_overshoot),
-                Field::quantity("secondary_voltage_peak", spec.secondary_voltage_peak),
-            ];
-            if let Some(rms) = spec.secondary_voltage_rms {
-                fields.push(Field::quantity("secondary_voltage_rms", rms));
-            }
-            fields.push(Field::new("duty_cycle", spec.duty_cycle));
-            fields.extend(w.fields());
-            Ok(ScriptRecord::new("flyback_barrier_voltage", fields))
+            barrier_voltage(&d, "conservative_sum")
         }
     );
+    overload!(api, "flyback_barrier_voltage", |d: ScriptFlyback,
+                                               method: ImmutableString|
+     -> ScriptResult<
+        ScriptRecord,
+    > {
+        barrier_voltage(&d, &method)
+    });
     def!(api, &BUILD_INPUTS, |d: Dynamic| -> ScriptResult<Map> {
         lift(build_inputs(&d))
     });

@@ -34,7 +34,7 @@ static DESIGN: FunctionDoc = FunctionDoc {
         ParamDoc::with_default("max_line_voltage", Q("V"), "264 V", "highest line (RMS) or bus voltage"),
         ParamDoc::with_default("line_frequency", Q("Hz"), "50 Hz", "lowest line frequency"),
         ParamDoc::optional("bulk_capacitance", Q("F"), "bulk capacitance; else sized for target_valley_voltage"),
-        ParamDoc::with_default("target_valley_voltage", Q("V"), "80 V", "bulk valley at low line, full load when sizing the bulk capacitor (rounded up to E12)"),
+        ParamDoc::optional("target_valley_voltage", Q("V"), "bulk valley at low line, full load when sizing the bulk capacitor (rounded up to E12); else 0.64 × the lowest rectified line peak (about 80 V at 90 V, 160 V at 180 V), listed in derived_defaults"),
         ParamDoc::with_default("bridge_diode_drop", Q("V"), "1 V", "drop of one bridge diode"),
         ParamDoc::with_default("bulk_esr", Q("Ω"), "1 ohm", "bulk capacitor ESR"),
         ParamDoc::optional("bulk_ripple_current_rating", Q("A"), "bulk capacitor ripple current rating (adds its rule)"),
@@ -56,6 +56,10 @@ static DESIGN: FunctionDoc = FunctionDoc {
         ParamDoc::with_default("current_limit_tolerance", Number, "0.1", "relative tolerance of the current limit"),
         ParamDoc::with_default("current_sense_delay", Q("s"), "100 ns", "delay from limit to turn-off"),
         ParamDoc::with_default("max_duty_cycle", Number, "0.7", "controller's largest duty cycle"),
+        ParamDoc::with_default("minimum_on_time", Q("s"), "150 ns", "controller's shortest on-time (blanking and delay); decides whether a shorted output's current settles"),
+        ParamDoc::with_default("fault_time", Q("s"), "50 ms", "auto-restart: time at the current limit before the controller stops"),
+        ParamDoc::with_default("restart_off_time", Q("s"), "450 ms", "auto-restart: time off before it tries again"),
+        ParamDoc::optional("short_circuit_frequency", Q("Hz"), "switching frequency with the output shorted (frequency foldback); else switching_frequency"),
         ParamDoc::with_default("mode", Text, "ccm", "inductance target at low line, full load: \"ccm\", \"dcm\" or \"boundary\"; with primary_inductance it is checked instead"),
         ParamDoc::with_default("ripple_ratio", Number, "0.8", "CCM: ΔI / I_mid at low line, full load (0.05 … 1.99)"),
         ParamDoc::with_default("dcm_margin", Number, "0.1", "DCM: relative margin below the boundary inductance"),
@@ -64,7 +68,11 @@ static DESIGN: FunctionDoc = FunctionDoc {
         ParamDoc::optional("turns_ratio", Number, "primary to regulated-secondary turns ratio N_p/N_s (instead of reflected_voltage)"),
         ParamDoc::with_default("switch_voltage_rating", Q("V"), "650 V", "switch drain-source rating"),
         ParamDoc::with_default("clamp", Text, "rcd", "\"rcd\" or \"zener\""),
-        ParamDoc::with_default("clamp_voltage_above_reflected", Q("V"), "50 V", "clamp overshoot above the reflected voltage at the worst case"),
+        ParamDoc::optional("clamp_voltage_above_reflected", Q("V"), "clamp overshoot above the reflected voltage at the worst case; else 0.5 × reflected_voltage, or what the drain limit (85 % of switch_voltage_rating) leaves above the highest bulk peak, the allowances and the clamp's spread if less (an error below 0.25 × reflected_voltage), listed in derived_defaults"),
+        ParamDoc::with_default("clamp_diode_forward_recovery", Q("V"), "5 V", "clamp diode forward-recovery overshoot, added to the drain peak"),
+        ParamDoc::with_default("drain_ringing_allowance", Q("V"), "10 V", "stated allowance for leakage ringing above the clamp, added to the drain peak"),
+        ParamDoc::with_default("zener_tolerance", Number, "0.05", "zener clamp: relative voltage tolerance"),
+        ParamDoc::with_default("zener_rise_hot", Number, "0.075", "zener clamp: relative voltage rise from 25 °C to its hot junction, temperature coefficient × rise (0.1 %/K × 75 K)"),
         ParamDoc::with_default("leakage_fraction", Number, "0.02", "leakage inductance as a fraction of the primary"),
         ParamDoc::optional("leakage_inductance", Q("H"), "leakage inductance (instead of the fraction)"),
         ParamDoc::with_default("efficiency", Number, "0.85", "efficiency estimate (starting value when computed)"),
@@ -76,9 +84,19 @@ static DESIGN: FunctionDoc = FunctionDoc {
         ParamDoc::with_default("controller_power", Q("W"), "0.1 W", "controller supply power without a bias winding"),
         ParamDoc::with_default("transformer_loss_fraction", Number, "0.02", "transformer loss estimate as a fraction of output power"),
         ParamDoc::with_default("light_load_fraction", Number, "0.1", "light load as a fraction of full load"),
+        ParamDoc::with_default("light_load_control", Text, "fixed", "controller at light load: \"fixed\" frequency, \"foldback\" (peak held at minimum_peak_fraction of the limit, frequency falling to minimum_frequency) or \"burst\" (pulses of that peak, average rate carrying the load)"),
+        ParamDoc::with_default("minimum_peak_fraction", Number, "0.25", "foldback and burst: least peak current over the nominal current limit"),
+        ParamDoc::with_default("minimum_frequency", Q("Hz"), "20 kHz", "foldback: lowest switching frequency"),
+        ParamDoc::with_default("ambient_temperature", Q("°C"), "50 °C", "air around the switch and rectifiers"),
+        ParamDoc::with_default("switch_junction_to_case", Q("K/W"), "2.5 K/W", "switch junction-to-case thermal resistance"),
+        ParamDoc::with_default("switch_case_to_ambient", Q("K/W"), "60 K/W", "switch case to ambient: heat sink and interface, or the package in free air"),
+        ParamDoc::with_default("switch_max_junction_temperature", Q("°C"), "125 °C", "house limit of the switch junction"),
+        ParamDoc::with_default("rectifier_junction_to_case", Q("K/W"), "3 K/W", "output rectifier junction-to-case thermal resistance (every output)"),
+        ParamDoc::with_default("rectifier_case_to_ambient", Q("K/W"), "60 K/W", "output rectifier case to ambient (every output)"),
+        ParamDoc::with_default("rectifier_max_junction_temperature", Q("°C"), "125 °C", "house limit of the rectifier junctions"),
         ParamDoc::optional("hold_up_end_voltage", Q("V"), "bulk voltage ending hold-up; else where the duty limit is reached"),
         ParamDoc::optional("hold_up_time", Q("s"), "required hold-up time (adds its rule)"),
-        ParamDoc::optional("rule_limits", ParamKind::Map, "rule id → limit, overriding the default rule book: duty_cycle_limit (number), drain_voltage_derating (V), rectifier_voltage_derating (reverse voltage over rating), output_capacitor_ripple_current and bulk_capacitor_ripple_current (ripple over rating), mode_target (L over the boundary inductance), bulk_valley_minimum (V), hold_up_time (s)"),
+        ParamDoc::optional("rule_limits", ParamKind::Map, "rule id → limit, overriding the default rule book: duty_cycle_limit (number), drain_voltage_derating (V), rectifier_voltage_derating (reverse voltage over rating), output_capacitor_ripple_current and bulk_capacitor_ripple_current (ripple over rating), mode_target (L over the boundary inductance), bulk_valley_minimum (V), hold_up_time (s), short_circuit_settles (shortest over balance on-time), switch_junction_temperature and rectifier_junction_temperature (°C)"),
     ],
     returns: "a FlybackDesign; its summary fields read as properties (d.primary_inductance)",
     example: DESIGN_EXAMPLE,
@@ -168,6 +186,33 @@ static OVERLOAD: FunctionDoc = FunctionDoc {
     keys: &[],
     returns: "a Table, one row per line and tolerance end, with duty_cycle and limited_by (current_limit or max_duty_cycle)",
     example: "overload_table(flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A}))",
+};
+static DEFAULTS: FunctionDoc = FunctionDoc {
+    name: "flyback_defaults",
+    domain: Domain::Flyback,
+    summary: "The values the specification left open and the design derived from it (bulk valley target, clamp voltage, current limit), with how each was derived.",
+    params: &[ParamDoc::required("design", ParamKind::Any, "a FlybackDesign")],
+    keys: &[],
+    returns: "a Table with key, value and derivation",
+    example: "flyback_defaults(flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A, min_line_voltage: 180 * V, max_line_voltage: 265 * V}))",
+};
+static SHORT: FunctionDoc = FunctionDoc {
+    name: "short_circuit_table",
+    domain: Domain::Flyback,
+    summary: "The regulated output shorted, at low and high line: the primary current's staircase to the highest limit plus the sense-delay overshoot (or its runaway when the shortest on-time exceeds the volt-second balance), and the power and rectifier current the auto-restart lets through.",
+    params: &[ParamDoc::required("design", ParamKind::Any, "a FlybackDesign")],
+    keys: &[],
+    returns: "a Table, one row per line: bus_voltage, balance_on_time, shortest_on_time, on_time_ratio, settles, cycles_to_limit, primary_current_peak, power_during_fault, power_average, rectifier currents",
+    example: "short_circuit_table(flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A}))",
+};
+static JUNCTIONS: FunctionDoc = FunctionDoc {
+    name: "junction_table",
+    domain: Domain::Flyback,
+    summary: "Junction temperature of the switch and each output rectifier at its worst corner, T_a + P·(R_θjc + R_θca), with the case-to-ambient thermal resistance (heat sink) that holds the junction limit.",
+    params: &[ParamDoc::required("design", ParamKind::Any, "a FlybackDesign")],
+    keys: &[],
+    returns: "a Table, one row per part: part, corner, loss, junction_temperature, max_junction_temperature, case_to_ambient_needed",
+    example: "junction_table(flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A}))",
 };
 static CHECKS: FunctionDoc = FunctionDoc {
     name: "flyback_checks",
@@ -293,7 +338,10 @@ fn spec_from_map(m: &Map) -> Result<FlybackSpec> {
             }
             BulkChoice::Capacitance(c)
         }
-        None => BulkChoice::TargetValley(s.quantity("target_valley_voltage")?),
+        None => match s.optional_quantity("target_valley_voltage")? {
+            Some(v) => BulkChoice::TargetValley(v),
+            None => BulkChoice::DerivedValley,
+        },
     };
     let mut outputs = Vec::new();
     let mut regulated_output = 0;
@@ -411,12 +459,20 @@ fn spec_from_map(m: &Map) -> Result<FlybackSpec> {
         current_limit_tolerance: s.number("current_limit_tolerance")?,
         current_sense_delay: s.quantity("current_sense_delay")?,
         max_duty_cycle: s.number("max_duty_cycle")?,
+        minimum_on_time: s.quantity("minimum_on_time")?,
+        fault_time: s.quantity("fault_time")?,
+        restart_off_time: s.quantity("restart_off_time")?,
+        short_circuit_frequency: s.optional_quantity("short_circuit_frequency")?,
         mode,
         primary_inductance,
         reflected_voltage,
         switch_voltage_rating: s.quantity("switch_voltage_rating")?,
         clamp,
-        clamp_voltage_above_reflected: s.quantity("clamp_voltage_above_reflected")?,
+        clamp_voltage_above_reflected: s.optional_quantity("clamp_voltage_above_reflected")?,
+        clamp_diode_forward_recovery: s.quantity("clamp_diode_forward_recovery")?,
+        drain_ringing_allowance: s.quantity("drain_ringing_allowance")?,
+        zener_tolerance: s.number("zener_tolerance")?,
+        zener_rise_hot: s.number("zener_rise_hot")?,
         leakage,
         efficiency,
         losses: LossParameters {
@@ -429,6 +485,32 @@ fn spec_from_map(m: &Map) -> Result<FlybackSpec> {
             transformer_loss_fraction: s.number("transformer_loss_fraction")?,
         },
         light_load_fraction: s.number("light_load_fraction")?,
+        light_load_control: match s.text("light_load_control")?.as_str() {
+            "fixed" => crate::flyback::LightLoadControl::FixedFrequency,
+            "foldback" => crate::flyback::LightLoadControl::FrequencyFoldback {
+                minimum_peak_fraction: s.number("minimum_peak_fraction")?,
+                minimum_frequency: s.quantity("minimum_frequency")?,
+            },
+            "burst" => crate::flyback::LightLoadControl::Burst {
+                minimum_peak_fraction: s.number("minimum_peak_fraction")?,
+            },
+            other => {
+                return Err(Error::unknown(format!(
+                    "flyback_design: `light_load_control` must be \"fixed\", \"foldback\" or \"burst\", got \"{other}\""
+                )))
+            }
+        },
+        ambient_temperature: s.quantity("ambient_temperature")?,
+        switch_thermal: crate::flyback::ThermalPath {
+            junction_to_case: s.quantity("switch_junction_to_case")?,
+            case_to_ambient: s.quantity("switch_case_to_ambient")?,
+            max_junction_temperature: s.quantity("switch_max_junction_temperature")?,
+        },
+        rectifier_thermal: crate::flyback::ThermalPath {
+            junction_to_case: s.quantity("rectifier_junction_to_case")?,
+            case_to_ambient: s.quantity("rectifier_case_to_ambient")?,
+            max_junction_temperature: s.quantity("rectifier_max_junction_temperature")?,
+        },
         hold_up_end_voltage: s.optional_quantity("hold_up_end_voltage")?,
         hold_up_time: s.optional_quantity("hold_up_time")?,
         rule_limits,
@@ -514,6 +596,13 @@ pub(crate) fn register(api: &mut Api, state: &Arc<HostState>) {
         Ok(corner_of(&d, &name)?.losses.table())
     });
     def!(api, &OVERLOAD, |d: ScriptFlyback| d.design.overload_table());
+    def!(api, &DEFAULTS, |d: ScriptFlyback| d.design.defaults_table());
+    def!(api, &SHORT, |d: ScriptFlyback| d
+        .design
+        .short_circuit_table());
+    def!(api, &JUNCTIONS, |d: ScriptFlyback| d
+        .design
+        .junction_table());
     def!(api, &CHECKS, move |d: ScriptFlyback| {
         checks_to_array(d.design.checks.clone())
     });

@@ -2,7 +2,9 @@
 //! Dowell factor, temperature rise, core selection and the transformer design.
 
 use super::super::api_rules::checks_to_array;
-use super::super::convert::{dynamic_to_number, dynamic_to_typed, lift, ScriptResult};
+use super::super::convert::{
+    dynamic_to_integer, dynamic_to_number, dynamic_to_typed, lift, ScriptResult,
+};
 use super::super::docs::{Domain, FunctionDoc, ParamDoc, ParamKind};
 use super::super::record::ScriptRecord;
 use super::super::spec::Spec;
@@ -312,6 +314,8 @@ static DESIGN: FunctionDoc = FunctionDoc {
         ParamDoc::optional("secondary_conduction_fraction", ParamKind::Number, "secondary conduction over the period (default 1 − duty_cycle: CCM)"),
         ParamDoc::optional("current_limit", ParamKind::Quantity("A"), "controller peak-current limit (default: primary_peak_current)"),
         ParamDoc::with_default("current_limit_tolerance", ParamKind::Number, "0.1", "relative tolerance of the current limit"),
+        ParamDoc::with_default("current_limit_overshoot", ParamKind::Quantity("A"), "0 A", "rise of the primary current past the highest limit during the sense delay, V·t_d/L (from the flyback design)"),
+        ParamDoc::optional("short_circuit_peak_current", ParamKind::Quantity("A"), "highest primary peak with the output shorted (from the flyback design); adds the saturation_in_short_circuit rule"),
         ParamDoc::required("reflected_voltage", ParamKind::Quantity("V"), "reflected voltage target"),
         ParamDoc::required("output_voltage", ParamKind::Quantity("V"), "regulated output voltage"),
         ParamDoc::with_default("rectifier_drop", ParamKind::Quantity("V"), "0.5 V", "output rectifier forward drop"),
@@ -349,6 +353,78 @@ static DESIGN: FunctionDoc = FunctionDoc {
     returns: "map: design (record), build_sheet (text, with the safety caution), checks (array of CheckResult)",
     example: "transformer_design(#{core: \"EF25\", primary_inductance: 1.2 * mH, switching_frequency: 65 * kHz, primary_peak_current: 0.5 * A, duty_cycle: 0.4, secondary_conduction_fraction: 0.45, reflected_voltage: 90 * V, output_voltage: 12 * V, margin_width: 2 * mm}).design",
 };
+
+static CHECK: FunctionDoc = FunctionDoc {
+    name: "transformer_check",
+    domain: Domain::Magnetics,
+    summary: "Checks a transformer that already exists (given turns on a given core, with its gap or a measured inductance) at an operating point: flux at full load and at the worst-case current limit with the sense-delay overshoot, saturation margin hot, window fill, losses, temperature rise and the rules of transformer_design, plus the inductance against the design's. Takes every key of transformer_design and these.",
+    params: &[ParamDoc::required("spec", ParamKind::Map, "the keys of transformer_design, and these")],
+    keys: &[
+        ParamDoc::required("primary_turns", ParamKind::Integer, "primary turns in all (both halves of a split primary)"),
+        ParamDoc::optional("primary_first_half_turns", ParamKind::Integer, "split primary: turns of the half next to the centre leg (default half, rounded up)"),
+        ParamDoc::required("secondary_turns", ParamKind::Integer, "turns of the regulated secondary"),
+        ParamDoc::optional("additional_output_turns", ParamKind::List, "turns of each additional output, in the order of additional_outputs"),
+        ParamDoc::optional("bias_turns", ParamKind::Integer, "bias turns (needed with bias_voltage)"),
+        ParamDoc::optional("gap", ParamKind::Quantity("m"), "the gap as built (per gap_placement); or give measured_inductance"),
+        ParamDoc::optional("measured_inductance", ParamKind::Quantity("H"), "the primary inductance measured on the bench; or give gap"),
+    ],
+    returns: "map: check (record: inductance, inductance_error and every transformer_design field), build_sheet (text, with the safety caution), checks (array of CheckResult)",
+    example: "transformer_check(#{core: \"EF25\", primary_inductance: 1.2 * mH, switching_frequency: 65 * kHz, primary_peak_current: 0.5 * A, duty_cycle: 0.4, secondary_conduction_fraction: 0.45, reflected_voltage: 90 * V, output_voltage: 12 * V, margin_width: 2 * mm, primary_turns: 50, secondary_turns: 7, gap: 0.13 * mm}).check.flux_density_limit_peak",
+};
+
+/// The given transformer from the check keys of a `transformer_check` map.
+fn given_transformer(s: &Spec) -> Result<magnetics::GivenTransformer> {
+    let turns = |k: &str, v: i64| -> Result<u32> {
+        u32::try_from(v)
+            .ok()
+            .filter(|t| *t >= 1)
+            .ok_or_else(|| Error::out_of_range(format!("`{k}` = {v} must be at least 1 turn")))
+    };
+    let optional_turns = |k: &str| -> Result<Option<u32>> {
+        match s.value(k)? {
+            Some(v) => {
+                let n = dynamic_to_integer(&v, k)?;
+                Ok(Some(turns(k, n)?))
+            }
+            None => Ok(None),
+        }
+    };
+    let mut additional = Vec::new();
+    if let Some(v) = s.value("additional_output_turns")? {
+        let arr = v.try_cast::<rhai::Array>().ok_or_else(|| {
+            Error::invalid("`additional_output_turns` must be an array of turn counts")
+        })?;
+        for (i, t) in arr.iter().enumerate() {
+            let k = format!("additional_output_turns[{i}]");
+            additional.push(turns(&k, dynamic_to_integer(t, &k)?)?);
+        }
+    }
+    let magnetising = match (
+        s.optional_quantity("gap")?,
+        s.optional_quantity("measured_inductance")?,
+    ) {
+        (Some(g), None) => magnetics::GivenMagnetising::Gap(g),
+        (None, Some(l)) => magnetics::GivenMagnetising::MeasuredInductance(l),
+        (Some(_), Some(_)) => {
+            return Err(Error::invalid(
+                "give `gap` (m) or `measured_inductance` (H), not both",
+            ))
+        }
+        (None, None) => {
+            return Err(Error::missing(
+                "give the transformer's `gap` (m) or its `measured_inductance` (H)",
+            ))
+        }
+    };
+    Ok(magnetics::GivenTransformer {
+        primary_turns: turns("primary_turns", s.integer("primary_turns")?)?,
+        primary_first_half_turns: optional_turns("primary_first_half_turns")?,
+        secondary_turns: turns("secondary_turns", s.integer("secondary_turns")?)?,
+        additional_output_turns: additional,
+        bias_turns: optional_turns("bias_turns")?,
+        magnetising,
+    })
+}
 
 fn rec_quantity(r: &ScriptRecord, name: &str) -> Result<f64> {
     match r.get(name) {
@@ -594,6 +670,8 @@ fn transformer_spec(s: &Spec) -> Result<TransformerSpec> {
             .unwrap_or(1.0 - duty),
         current_limit: s.optional_quantity("current_limit")?.unwrap_or(peak),
         current_limit_tolerance: s.number("current_limit_tolerance")?,
+        current_limit_overshoot: s.quantity("current_limit_overshoot")?,
+        short_circuit_peak_current: s.optional_quantity("short_circuit_peak_current")?,
         reflected_voltage: s.quantity("reflected_voltage")?,
         output_voltage: s.quantity("output_voltage")?,
         rectifier_drop: s.quantity("rectifier_drop")?,
@@ -985,6 +1063,35 @@ pub(crate) fn register(api: &mut Api) {
     def!(api, &SELECT, |m: Map| -> ScriptResult<Table> {
         let s = lift(Spec::new(&SELECT, &m))?;
         lift(selection(&s))
+    });
+    def!(api, &CHECK, |m: Map| -> ScriptResult<Map> {
+        // the check keys go to CHECK's doc, the rest to transformer_design's, so an unknown
+        // key is reported against the design's keys
+        let (mut own, mut rest) = (Map::new(), Map::new());
+        for (k, v) in m {
+            if CHECK.keys.iter().any(|p| p.name == k.as_str()) {
+                own.insert(k, v);
+            } else {
+                rest.insert(k, v);
+            }
+        }
+        let given = lift(Spec::new(&CHECK, &own).and_then(|s| given_transformer(&s)))?;
+        let s = lift(Spec::new(&DESIGN, &rest))?;
+        let spec = lift(transformer_spec(&s))?;
+        let c = lift(magnetics::transformer_check(&spec, &given))?;
+        let checks = lift(magnetics::transformer_check_rules(&spec, &c))?;
+        let sheet = magnetics::build_sheet(&spec, &c.design);
+        let mut out = Map::new();
+        out.insert(
+            "check".into(),
+            Dynamic::from(ScriptRecord::from_record("transformer_check", &c)),
+        );
+        out.insert("build_sheet".into(), Dynamic::from(sheet));
+        out.insert(
+            "checks".into(),
+            Dynamic::from_array(checks_to_array(checks)),
+        );
+        Ok(out)
     });
     def!(api, &DESIGN, move |m: Map| -> ScriptResult<Map> {
         let s = lift(Spec::new(&DESIGN, &m))?;
