@@ -5,21 +5,6 @@ use super::regulation::Regulation;
 use crate::report::{Record, Table, SAFETY_CAUTION};
 use std::fmt::Write;
 
-fn markdown_table(t: &Table) -> String {
-    let cols = t.column_names().to_vec();
-    let mut s = String::new();
-    let _ = writeln!(s, "| {} |", cols.join(" | "));
-    let _ = writeln!(s, "|{}", "---|".repeat(cols.len()));
-    for r in 0..t.len() {
-        let cells: Vec<String> = cols
-            .iter()
-            .map(|c| t.get(r, c).map(|v| v.to_string()).unwrap_or_default())
-            .collect();
-        let _ = writeln!(s, "| {} |", cells.join(" | "));
-    }
-    s
-}
-
 fn record_table(s: &mut String, r: &dyn Record) {
     let _ = writeln!(s, "| quantity | value |\n|---|---|");
     for f in r.fields() {
@@ -43,13 +28,13 @@ pub fn regulation_report_markdown(regulation: &Regulation, title: &str) -> Strin
     let _ = writeln!(s, "\n## Shunt reference and optocoupler bias\n");
     record_table(&mut s, &regulation.bias);
     s.push('\n');
-    s.push_str(&markdown_table(&regulation.bias.table()));
+    s.push_str(&Table::to_markdown(&regulation.bias.table()));
     let _ = writeln!(s, "\n## Compensation\n");
     record_table(&mut s, &regulation.compensation);
     let _ = writeln!(s, "\n## Loop margins at every corner and CTR extreme\n");
-    s.push_str(&markdown_table(&regulation.margins_table()));
+    s.push_str(&Table::to_markdown(&regulation.margins_table()));
     let _ = writeln!(s, "\n## Regulation rules\n");
-    s.push_str(&markdown_table(&crate::rules::checks_table(
+    s.push_str(&Table::to_markdown(&crate::rules::checks_table(
         &regulation.checks,
     )));
     let _ = writeln!(

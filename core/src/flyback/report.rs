@@ -5,21 +5,6 @@ use super::design::FlybackDesign;
 use crate::report::{Record, Table, SAFETY_CAUTION};
 use std::fmt::Write;
 
-fn markdown_table(t: &Table) -> String {
-    let cols = t.column_names().to_vec();
-    let mut s = String::new();
-    let _ = writeln!(s, "| {} |", cols.join(" | "));
-    let _ = writeln!(s, "|{}", "---|".repeat(cols.len()));
-    for r in 0..t.len() {
-        let cells: Vec<String> = cols
-            .iter()
-            .map(|c| t.get(r, c).map(|v| v.to_string()).unwrap_or_default())
-            .collect();
-        let _ = writeln!(s, "| {} |", cells.join(" | "));
-    }
-    s
-}
-
 /// The design as a Markdown report with the safety caution; `title` heads it.
 ///
 /// No calculation: the summary fields, the corner table, the loss budget at low line and full
@@ -37,16 +22,16 @@ pub fn design_report_markdown(design: &FlybackDesign, title: &str) -> String {
         let _ = writeln!(s, "| {} | {} |", f.name, f.value);
     }
     let _ = writeln!(s, "\n## Corners\n");
-    s.push_str(&markdown_table(&design.corner_table()));
+    s.push_str(&Table::to_markdown(&design.corner_table()));
     if let Some(c) = design.corners.first() {
         let _ = writeln!(s, "\n## Loss budget at {}\n", c.corner.replace('_', " "));
-        s.push_str(&markdown_table(&c.losses.table()));
+        s.push_str(&Table::to_markdown(&c.losses.table()));
     }
     let _ = writeln!(s, "\n## Output power at the current limit\n");
-    s.push_str(&markdown_table(&design.overload_table()));
+    s.push_str(&Table::to_markdown(&design.overload_table()));
     if !design.defaults.is_empty() {
         let _ = writeln!(s, "\n## Values derived from the specification\n");
-        s.push_str(&markdown_table(&design.defaults_table()));
+        s.push_str(&Table::to_markdown(&design.defaults_table()));
     }
     if !design.no_load.is_empty() {
         let _ = writeln!(s, "\n## No load\n");
@@ -54,18 +39,20 @@ pub fn design_report_markdown(design: &FlybackDesign, title: &str) -> String {
         for c in &design.no_load {
             t.push_row(c.fields());
         }
-        s.push_str(&markdown_table(&t));
+        s.push_str(&Table::to_markdown(&t));
     }
     if !design.short_circuit.is_empty() {
         let _ = writeln!(s, "\n## Output shorted\n");
-        s.push_str(&markdown_table(&design.short_circuit_table()));
+        s.push_str(&Table::to_markdown(&design.short_circuit_table()));
     }
     if !design.junctions.is_empty() {
         let _ = writeln!(s, "\n## Junction temperatures\n");
-        s.push_str(&markdown_table(&design.junction_table()));
+        s.push_str(&Table::to_markdown(&design.junction_table()));
     }
     let _ = writeln!(s, "\n## Design rules\n");
-    s.push_str(&markdown_table(&crate::rules::checks_table(&design.checks)));
+    s.push_str(&Table::to_markdown(&crate::rules::checks_table(
+        &design.checks,
+    )));
     let _ = writeln!(
         s,
         "\nThe bias winding voltage is an estimate from rectifier drops only; leakage spikes \

@@ -280,6 +280,25 @@ impl Table {
         }
     }
 
+    /// The table as a Markdown pipe table: a header row of the column names, then one row per
+    /// variant with each value as it prints (units with the values); empty cells where a row
+    /// has no value. No calculation; used by the domains' Markdown reports.
+    pub fn to_markdown(&self) -> String {
+        use std::fmt::Write;
+        let cols = self.column_names().to_vec();
+        let mut s = String::new();
+        let _ = writeln!(s, "| {} |", cols.join(" | "));
+        let _ = writeln!(s, "|{}", "---|".repeat(cols.len()));
+        for r in 0..self.len() {
+            let cells: Vec<String> = cols
+                .iter()
+                .map(|c| self.get(r, c).map(|v| v.to_string()).unwrap_or_default())
+                .collect();
+            let _ = writeln!(s, "| {} |", cells.join(" | "));
+        }
+        s
+    }
+
     /// Aligned text: a header with units, numbers right-aligned, an `error` column when
     /// any variant failed. Units are the fixed column units; a column that mixes
     /// dimensions shows each cell with its own unit.
