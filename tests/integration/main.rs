@@ -8,6 +8,7 @@ mod flyback;
 mod magnetics;
 mod mains;
 mod passives;
+mod pinned;
 mod readme;
 mod recipes;
 mod safety;
