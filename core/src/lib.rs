@@ -31,6 +31,7 @@ mod error;
 pub mod flyback;
 pub mod magnetics;
 pub mod mains;
+pub(crate) mod numeric;
 pub mod passives;
 pub mod report;
 pub mod rules;

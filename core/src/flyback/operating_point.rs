@@ -7,14 +7,15 @@ use super::output::{secondary_point, SecondaryPoint};
 use super::spec::{EfficiencyModel, FlybackSpec, InputRange};
 use super::waveform::{cycle_for_power, trapezoid_avg, trapezoid_rms, ConductionMode, Cycle};
 use crate::error::{Error, Result};
-use crate::mains::{bulk_capacitor, BulkCapacitorSpec};
+use crate::mains::{bulk_capacitor_near, BulkCapacitorSpec};
 use crate::report::{Field, Record};
 use crate::units::{si, ElectricCurrent, ElectricPotential, Power, Quantity, Time};
 
 /// Largest number of efficiency iterations before giving up.
 pub const MAX_EFFICIENCY_ITERATIONS: usize = 200;
-/// The efficiency iteration stops when the change per step falls below this.
-pub const EFFICIENCY_TOLERANCE: f64 = 1e-10;
+/// The efficiency iteration stops when the converter input power changes by less than this
+/// fraction in a step (about the precision results are reported and pinned to, with margin).
+pub const EFFICIENCY_TOLERANCE: f64 = 1e-9;
 
 /// The flyback at one corner of line and load.
 #[derive(Clone, Debug, PartialEq)]
@@ -75,7 +76,7 @@ pub struct OperatingPoint {
     pub efficiency: f64,
     /// Iterations the efficiency took to settle.
     pub efficiency_iterations: usize,
-    /// Change of efficiency in the last iteration.
+    /// Relative change of the converter input power in the last efficiency iteration.
     pub efficiency_residual: f64,
 }
 
@@ -107,6 +108,29 @@ impl Context<'_> {
 
     /// Evaluates a corner at a line voltage (RMS for AC, bus for DC) and a load fraction.
     pub fn evaluate(&self, corner: &str, line: f64, load: f64) -> Result<OperatingPoint> {
+        self.evaluate_near(corner, line, load, None)
+    }
+
+    /// [`Context::evaluate`] started from `warm`, the converter input power per watt of output
+    /// an earlier, nearby evaluation settled at (see [`OperatingPoint::warm_start`]). The result
+    /// is the same to the iteration's tolerance; only the number of iterations changes.
+    ///
+    /// Method: the loss model closes on one unknown, the converter input power x = P_dc. One
+    /// evaluation at x gives the losses and with them G(x) = P_out + P_losses(x) − P_front(x)
+    /// (computed efficiency) or P_line − P_front(x) (a fixed efficiency estimate), where
+    /// P_front are the bridge and bulk-capacitor losses ahead of the converter. The fixed point
+    /// x = G(x) is found by Wegstein's acceleration of the plain iteration x ← G(x): with the
+    /// secant slope s of G over the last two points, x ← (G − s·x)/(1 − s). A slope of
+    /// magnitude one or more means the plain iteration cannot settle (the losses rise as fast
+    /// as the power): that is reported as losses running away, as before. An accelerated step
+    /// that lands where the bulk capacitor gives out is retried as a plain step.
+    pub fn evaluate_near(
+        &self,
+        corner: &str,
+        line: f64,
+        load: f64,
+        warm: Option<f64>,
+    ) -> Result<OperatingPoint> {
         let s = self.spec;
         let lp = &s.losses;
         let pout = self.output_power(load);
@@ -120,45 +144,46 @@ impl Context<'_> {
             None => lp.controller_power.value,
         };
         let transformer = lp.transformer_loss_fraction * pout;
-        let (mut eta, fixed) = match s.efficiency {
+        let (eta_start, fixed) = match s.efficiency {
             EfficiencyModel::Estimate(x) => (x, true),
             EfficiencyModel::Computed { start } => (start, false),
         };
+        let p_line_fixed = pout / eta_start;
+        // the plain iteration's first point, P_out/η_start with no input-side losses yet
+        let x_first = pout / eta_start;
+        let mut x = warm
+            .map(|r| r * pout)
+            .filter(|x| *x > 0.0 && x.is_finite() && !fixed)
+            .unwrap_or(x_first);
         let mut front = 0.0;
         let mut iterations = 0;
         let mut residual = f64::INFINITY;
         let mut last: Option<OperatingPoint> = None;
-        let mut last_step = f64::INFINITY;
-        let mut first_p_line = None;
+        // the last point of the iteration, (x, G(x)), and whether x was an accelerated step
+        let mut previous: Option<(f64, f64)> = None;
+        let mut accelerated = false;
+        let mut valley_hint = None;
         while iterations < MAX_EFFICIENCY_ITERATIONS {
             iterations += 1;
-            let p_line = pout / eta;
-            first_p_line.get_or_insert(p_line);
-            let p_dc = p_line - front;
+            let p_line = if fixed { p_line_fixed } else { x + front };
+            let p_dc = x;
             if !(p_dc > 0.0 && p_dc.is_finite()) {
                 return Err(Error::infeasible(format!(
                     "corner {corner}: the input-side losses exceed the input power; check `bridge_diode_drop` and `bulk_esr`"
                 )));
             }
-            let (vpk, vval, tc, i_lf, i_bridge_avg) = match s.input {
-                InputRange::Ac { line_frequency, .. } => {
-                    let b = bulk_capacitor(&BulkCapacitorSpec {
+            let bulk = match s.input {
+                InputRange::Ac { line_frequency, .. } => bulk_capacitor_near(
+                    &BulkCapacitorSpec {
                         line_voltage_rms: si(line),
                         line_frequency,
                         input_power: si(p_dc),
                         capacitance: si(self.bulk_capacitance),
                         bridge_diode_drop: s.bridge_diode_drop,
-                    })
-                    .map_err(|e| {
-                        // the bulk capacitor gave out while the iteration was pushing the
-                        // input power up: that is the losses running away
-                        match (&last, first_p_line) {
-                            (Some(op), Some(p0)) if !fixed && p_line > 1.5 * p0 => {
-                                runaway(corner, &op.losses, pout)
-                            }
-                            _ => e.context(&format!("corner {corner}")),
-                        }
-                    })?;
+                    },
+                    valley_hint,
+                )
+                .map(|b| {
                     (
                         b.peak_voltage.value,
                         b.valley_voltage.value,
@@ -166,36 +191,81 @@ impl Context<'_> {
                         b.ripple_current_rms.value,
                         b.bridge_current_avg.value,
                     )
-                }
-                InputRange::Dc { .. } => (line, line, 0.0, 0.0, 0.0),
+                }),
+                InputRange::Dc { .. } => Ok((line, line, 0.0, 0.0, 0.0)),
             };
+            let (vpk, vval, tc, i_lf, i_bridge_avg) = match bulk {
+                Ok(b) => b,
+                // an accelerated step overshot where the capacitor gives out: step plainly
+                Err(_) if accelerated => {
+                    if let Some((_, g)) = previous {
+                        x = g;
+                    }
+                    accelerated = false;
+                    continue;
+                }
+                // the bulk capacitor gave out while the iteration was pushing the input power
+                // up: that is the losses running away
+                Err(e) => {
+                    return Err(match &last {
+                        Some(op) if !fixed && p_dc > 1.5 * x_first => {
+                            runaway(corner, &op.losses, pout)
+                        }
+                        _ => e.context(&format!("corner {corner}")),
+                    })
+                }
+            };
+            valley_hint = Some(vval);
             let cyc = cycle_for_power(self.l, vval, p_dc, self.vr, self.f);
-            let point = self.assemble(
-                corner, line, load, pout, p_line, p_dc, vpk, vval, tc, i_lf, &cyc,
+            // the secondaries' vector of the last point is reused: no allocation per step
+            let spare = last
+                .as_mut()
+                .map(|op| std::mem::take(&mut op.secondaries))
+                .unwrap_or_default();
+            let mut op = self.assemble(
+                spare, line, load, pout, p_line, p_dc, vpk, vval, tc, i_lf, &cyc,
             );
-            let (mut op, bridge_avg) = (point, i_bridge_avg);
             let b = &mut op.losses;
             b.output_rectifiers = si(rect_loss);
             b.controller = si(controller);
             b.transformer = si(transformer);
-            b.bridge = si(2.0 * s.bridge_diode_drop.value * bridge_avg);
+            b.bridge = si(2.0 * s.bridge_diode_drop.value * i_bridge_avg);
             b.bulk_capacitor = si(op.bulk_ripple_current_rms.value.powi(2) * lp.bulk_esr.value);
-            let front_new = b.bridge.value + b.bulk_capacitor.value;
-            let total = b.modelled_losses().value;
-            let eta_new = if fixed { eta } else { pout / (pout + total) };
-            // a converging iteration shrinks its steps; growing steps mean the losses rise
-            // faster than the power (no efficiency satisfies the model)
-            let step = (eta_new - eta).abs();
-            if !fixed && iterations >= 4 && step > 1.2 * last_step && step > 1e-6 {
-                return Err(runaway(corner, b, pout));
+            front = b.bridge.value + b.bulk_capacitor.value;
+            let g = if fixed {
+                p_line_fixed - front
+            } else {
+                pout + b.modelled_losses().value - front
+            };
+            residual = (g - x).abs() / x;
+            let converged = residual < EFFICIENCY_TOLERANCE;
+            let slope = previous.and_then(|(x0, g0)| {
+                // a secant over a step below 1e-7 relative is round-off, not slope
+                ((x - x0).abs() > 1e-7 * x).then(|| (g - g0) / (x - x0))
+            });
+            if !fixed && !converged {
+                if let Some(sl) = slope {
+                    // |G′| ≥ 1: the plain iteration's steps grow, no efficiency satisfies
+                    // the model
+                    if sl.abs() >= 1.0 && (g - x).abs() > 1e-6 * x {
+                        return Err(runaway(corner, b, pout));
+                    }
+                }
             }
-            last_step = step;
-            residual = (eta_new - eta).abs() + (front_new - front).abs() / p_line;
-            eta = eta_new;
-            front = front_new;
             last = Some(op);
-            if residual < EFFICIENCY_TOLERANCE {
+            if converged {
                 break;
+            }
+            previous = Some((x, g));
+            match slope.filter(|sl| sl.is_finite() && sl.abs() < 0.95) {
+                Some(sl) => {
+                    x = (g - sl * x) / (1.0 - sl);
+                    accelerated = true;
+                }
+                None => {
+                    x = g;
+                    accelerated = false;
+                }
             }
         }
         let mut op = last.ok_or_else(|| Error::infeasible("no efficiency iteration ran"))?;
@@ -204,6 +274,7 @@ impl Context<'_> {
                 "corner {corner}: the efficiency did not settle in {MAX_EFFICIENCY_ITERATIONS} iterations (residual {residual:.2e})"
             )));
         }
+        op.corner = corner.to_string();
         let b = &mut op.losses;
         b.unaccounted = si(op.input_power.value - pout - b.modelled_losses().value);
         if !fixed {
@@ -220,7 +291,7 @@ impl Context<'_> {
     #[allow(clippy::too_many_arguments)]
     fn assemble(
         &self,
-        corner: &str,
+        spare: Vec<SecondaryPoint>,
         line: f64,
         load: f64,
         pout: f64,
@@ -238,7 +309,9 @@ impl Context<'_> {
         let i_avg = trapezoid_avg(ipk, iv, d);
         let i_rms = trapezoid_rms(ipk, iv, d).max(i_avg);
         let i_hf = (i_rms * i_rms - i_avg * i_avg).max(0.0).sqrt();
-        let secondaries: Vec<SecondaryPoint> = s
+        let mut secondaries = spare;
+        secondaries.clear();
+        secondaries.extend(s
             .outputs
             .iter()
             .enumerate()
@@ -257,7 +330,7 @@ impl Context<'_> {
                     self.filter_gain[k],
                 )
             })
-            .collect();
+        );
         let (vc, p_clamp) = clamp_at(&self.clamp, self.vr, self.llk, ipk, self.f);
         let rds = lp.switch_on_resistance.value * lp.on_resistance_hot_factor;
         let coss = lp.switch_output_capacitance.value;
@@ -296,7 +369,8 @@ impl Context<'_> {
             ..LossBudget::default()
         };
         OperatingPoint {
-            corner: corner.to_string(),
+            // named once the iteration has settled (no allocation per step)
+            corner: String::new(),
             line_voltage: si(line),
             load_fraction: load,
             output_power: si(pout),
@@ -324,6 +398,14 @@ impl Context<'_> {
             efficiency_iterations: 0,
             efficiency_residual: 0.0,
         }
+    }
+}
+
+impl OperatingPoint {
+    /// Converter input power per watt of output at this point: the warm start for
+    /// `Context::evaluate_near` at a nearby corner or load.
+    pub(crate) fn warm_start(&self) -> f64 {
+        self.converter_input_power.value / self.output_power.value
     }
 }
 

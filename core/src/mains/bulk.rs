@@ -2,6 +2,7 @@
 //! bridge conduction time, ripple current, hold-up time at constant power, and sizing.
 
 use crate::error::{Error, Result};
+use crate::numeric::{newton_bracketed, Sample, Tolerance};
 use crate::report::{Field, Record};
 use crate::units::validate::{non_negative, positive};
 use crate::units::{
@@ -61,7 +62,7 @@ fn peak_of(line_rms: f64, bridge: f64) -> f64 {
 /// Formula: the capacitor gives up ½·C·(V_pk² − V_min²) while the converter draws
 /// P·(1/(2·f_line) − t_c), with the conduction time t_c = arccos(V_min/V_pk)/(2π·f_line) —
 /// the time from the valley, on the rising rectified sine, back up to the peak. The equation is
-/// solved for V_min by bisection (it is monotonic). The ripple current is that of a
+/// solved for V_min by a bracketed Newton method (it is monotonic), to 1e-11 relative. The ripple current is that of a
 /// triangular bridge-current pulse of width t_c carrying the charge of a half cycle, minus the
 /// converter's (constant) average current: I_C,rms = I_avg·√(4/(3·2·f_line·t_c) − 1).
 /// Assumes constant power, an ideal sine line, an ideal bridge with a fixed drop, and no
@@ -74,6 +75,24 @@ fn peak_of(line_rms: f64, bridge: f64) -> f64 {
 /// µF/W comparison (2–3 µF/W universal input, about 1 µF/W for 230 V only) is
 /// common practice, no published source.
 pub fn bulk_capacitor(spec: &BulkCapacitorSpec) -> Result<BulkCapacitor> {
+    bulk_capacitor_near(spec, None)
+}
+
+/// Relative tolerance of the valley voltage (the solver's last step; the error after it is of
+/// the order of its square).
+const VALLEY_TOLERANCE: Tolerance = Tolerance::relative(1e-11);
+/// Most evaluations of the energy balance one valley solve may take (a cold start takes about
+/// five, a warm one two or three).
+const VALLEY_MAX_EVALUATIONS: usize = 100;
+
+/// [`bulk_capacitor`] with a starting point for the valley solve: the valley an earlier,
+/// nearby solution found (another efficiency iteration of the same corner), in volts. The
+/// result is the same to the solver's tolerance; only the number of steps changes. A guess
+/// outside (0, V_pk) is ignored.
+pub(crate) fn bulk_capacitor_near(
+    spec: &BulkCapacitorSpec,
+    valley_guess: Option<f64>,
+) -> Result<BulkCapacitor> {
     let vrms = positive("line_voltage_rms", spec.line_voltage_rms)?.value;
     let fl = positive("line_frequency", spec.line_frequency)?.value;
     let p = positive("input_power", spec.input_power)?.value;
@@ -104,19 +123,27 @@ pub fn bulk_capacitor(spec: &BulkCapacitorSpec) -> Result<BulkCapacitor> {
             )
         )));
     }
-    let (mut lo, mut hi) = (0.0, vpk);
-    for _ in 0..100 {
-        let mid = 0.5 * (lo + hi);
-        if g(mid) > 0.0 {
-            lo = mid;
-        } else {
-            hi = mid;
-        }
-        if hi - lo <= 1e-12 * vpk {
-            break;
-        }
-    }
-    let vmin = 0.5 * (lo + hi);
+    // g falls monotonically from g(0) > 0 to g(V_pk) = −P/(2·f_line) < 0; its derivative is
+    // −C·V − P/(ω·V_pk·√(1 − (V/V_pk)²))
+    let dg = |v: f64| {
+        let x = (v / vpk).clamp(-1.0, 1.0);
+        -c * v - p / (w * vpk * (1.0 - x * x).sqrt().max(1e-300))
+    };
+    // cold start: the valley without conduction time, V_pk² − P/(C·f_line), is a little low
+    let cold = vpk * vpk - p / (c * fl);
+    let guess = valley_guess
+        .filter(|v| *v > 0.0 && *v < vpk)
+        .or_else(|| (cold > 0.0).then(|| cold.sqrt()));
+    let root = newton_bracketed(
+        "the bulk capacitor's valley voltage",
+        |v| Ok((g(v), dg(v))),
+        Sample::new(0.0, g(0.0)),
+        Sample::new(vpk, -p * half),
+        guess,
+        VALLEY_TOLERANCE,
+        VALLEY_MAX_EVALUATIONS,
+    )?;
+    let vmin = root.x;
     let tc = tc_of(vmin).max(1e-9);
     let vavg = 0.5 * (vpk + vmin);
     let iavg = p / vavg;
