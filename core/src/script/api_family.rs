@@ -165,9 +165,13 @@ fn run_family(
     let results: Vec<Result<Dynamic, String>> = variants
         .par_iter()
         .map(|v| {
-            let r = f
-                .call::<Dynamic>(engine, &ast, (v.clone(),))
-                .map_err(|e| ScriptError::from_eval(&e, "", "", limits).message);
+            // a panic in native code (a bug, or an embedder's function) fails this variant
+            // only: it becomes the variant's error row and the others go on
+            let call = std::panic::AssertUnwindSafe(|| f.call::<Dynamic>(engine, &ast, (v.clone(),)));
+            let r = match std::panic::catch_unwind(call) {
+                Ok(r) => r.map_err(|e| ScriptError::from_eval(&e, "", "", limits).message),
+                Err(payload) => Err(panic_message(payload.as_ref())),
+            };
             if let Some(p) = &progress {
                 p(done.fetch_add(1, Ordering::Relaxed) + 1, total);
             }
@@ -186,6 +190,16 @@ fn run_family(
         }
     }
     table
+}
+
+#[cold]
+fn panic_message(payload: &(dyn std::any::Any + Send)) -> String {
+    let what = payload
+        .downcast_ref::<&str>()
+        .map(|s| s.to_string())
+        .or_else(|| payload.downcast_ref::<String>().cloned())
+        .unwrap_or_else(|| "no message".to_string());
+    format!("internal error: native code panicked in this variant ({what}); please report it")
 }
 
 fn grid(axes: &Map, max_rows: usize) -> crate::error::Result<Array> {
