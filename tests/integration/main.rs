@@ -1,6 +1,7 @@
 //! Integration tests of gapwise, one binary with a module per area.
 //! Each check of a computed value names its source beside it.
 
+mod bad_input;
 mod common;
 mod design_flow;
 mod emi;
