@@ -4,7 +4,7 @@
 use crate::error::{Error, Result};
 use crate::numeric::{newton_bracketed, Sample, Tolerance};
 use crate::report::{Field, Record};
-use crate::units::validate::{non_negative, positive};
+use crate::units::validate::{finite_result, non_negative, positive};
 use crate::units::{
     si, Capacitance, Dimension, ElectricCurrent, ElectricPotential, Frequency, Power, Quantity,
     Time,
@@ -222,7 +222,11 @@ pub fn hold_up_time(
             Quantity::from_typed(start_voltage)
         )));
     }
-    Ok(si(c * (v0 * v0 - v1 * v1) / (2.0 * p)))
+    finite_result(
+        "hold-up time",
+        si(c * (v0 * v0 - v1 * v1) / (2.0 * p)),
+        "`capacitance`, `start_voltage` or `power` are",
+    )
 }
 
 impl Record for BulkCapacitor {
