@@ -205,11 +205,7 @@ pub(crate) fn brent(
         }
         a = b;
         fa = fb;
-        b += if d.abs() > tol1 {
-            d
-        } else {
-            tol1.copysign(xm)
-        };
+        b += if d.abs() > tol1 { d } else { tol1.copysign(xm) };
         fb = finite(what, b, f(b)?)?;
         evaluations += 1;
     }
@@ -229,6 +225,7 @@ pub(crate) fn brent(
 /// or more than `max_evaluations` evaluations.
 /// Reference: Newton's method safeguarded by bisection, common practice in numerical analysis
 /// (no single published source); checked against closed-form roots in the tests.
+#[inline]
 pub(crate) fn newton_bracketed(
     what: &str,
     mut f: impl FnMut(f64) -> Result<(f64, f64)>,
@@ -331,7 +328,11 @@ mod tests {
         .unwrap();
         assert!((r.x - 2f64.sqrt()).abs() < 1e-11, "{r:?}");
         assert!(r.lo.f <= 0.0 && r.hi.f >= 0.0);
-        assert!(r.evaluations < 12, "superlinear: {} evaluations", r.evaluations);
+        assert!(
+            r.evaluations < 12,
+            "superlinear: {} evaluations",
+            r.evaluations
+        );
     }
 
     #[test]
@@ -380,7 +381,10 @@ mod tests {
             0,
         )
         .unwrap_err();
-        assert!(e.message().contains("no convergence in 0 evaluations"), "{e}");
+        assert!(
+            e.message().contains("no convergence in 0 evaluations"),
+            "{e}"
+        );
         let e = brent(
             "1/x",
             |x: f64| ok(if x > 0.5 { f64::INFINITY } else { -1.0 }),

@@ -190,7 +190,10 @@ fn cases_for(h: &ScriptHost, d: &gapwise::script::FunctionDoc) -> Vec<Case> {
     };
     let call = |args: &[String]| format!("{head}{}{tail}", args.join(", "));
     // positional arguments: a method call's receiver is before the name, not among the args
-    let offset = usize::from(head.trim_end_matches(&format!("{}(", d.name)).ends_with('.'));
+    let offset = usize::from(
+        head.trim_end_matches(&format!("{}(", d.name))
+            .ends_with('.'),
+    );
     for (i, arg) in args.iter().enumerate() {
         let parameter = d
             .params
@@ -309,7 +312,10 @@ fn every_registered_function_survives_the_bad_input_matrix() {
             }
         }
     }
-    assert!(covered > 50, "the matrix reaches most functions ({covered})");
+    assert!(
+        covered > 50,
+        "the matrix reaches most functions ({covered})"
+    );
     assert!(
         problems.is_empty(),
         "{} of {total} bad-input cases misbehave:\n{}",
@@ -349,7 +355,10 @@ fn a_panic_in_native_code_becomes_that_variants_error_row() {
         )
         .unwrap_or_else(|e| panic!("the family itself must not fail: {e}"));
     let shown = h.display(&v);
-    assert!(shown.starts_with("[4, 1, "), "four rows, one error: {shown}");
+    assert!(
+        shown.starts_with("[4, 1, "),
+        "four rows, one error: {shown}"
+    );
     let v = h
         .eval(
             "family(|v| #{ square: fragile_square(v) }, [3]).to_csv()",

@@ -194,6 +194,13 @@ fn the_comparison_can_fail() {
     assert!(!near(f64::NAN, f64::NAN));
     assert!(near(0.0, 0.0));
     let cells = current_results();
-    assert!(cells.len() > 100, "the pinned set covers the family and the corners");
-    assert_eq!(decode(&encode(&cells)), cells, "the reference file round-trips");
+    assert!(
+        cells.len() > 100,
+        "the pinned set covers the family and the corners"
+    );
+    assert_eq!(
+        decode(&encode(&cells)),
+        cells,
+        "the reference file round-trips"
+    );
 }

@@ -458,10 +458,7 @@ pub fn flyback_design(spec: &FlybackSpec) -> Result<FlybackDesign> {
             let op = at_current_limit(&ctx, &name, limit, delay, light, full)?;
             // the controller's duty limit may come first: the power then ends there
             let (at, limited_by) = if op.duty_cycle > spec.max_duty_cycle {
-                (
-                    at_duty_limit(&ctx, &name, light, &op)?,
-                    "max_duty_cycle",
-                )
+                (at_duty_limit(&ctx, &name, light, &op)?, "max_duty_cycle")
             } else {
                 (op.clone(), "current_limit")
             };
@@ -632,7 +629,10 @@ fn at_current_limit(
         }
     };
     // the bracket: [lo, hi] with the peak below the limit at lo and at or above it at hi
-    let (mut lo, mut hi) = (Sample::new(light.load_fraction, d_light), Sample::new(1.0, d_full));
+    let (mut lo, mut hi) = (
+        Sample::new(light.load_fraction, d_light),
+        Sample::new(1.0, d_full),
+    );
     while hi.f < 0.0 {
         if hi.x >= MAX_OVERLOAD_FACTOR {
             return Err(Error::infeasible(format!(

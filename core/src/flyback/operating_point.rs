@@ -120,7 +120,8 @@ impl Context<'_> {
     /// (computed efficiency) or P_line − P_front(x) (a fixed efficiency estimate), where
     /// P_front are the bridge and bulk-capacitor losses ahead of the converter. The fixed point
     /// x = G(x) is found by Wegstein's acceleration of the plain iteration x ← G(x): with the
-    /// secant slope s of G over the last two points, x ← (G − s·x)/(1 − s). A slope of
+    /// secant slope s of G over the last two points, x ← (G − s·x)/(1 − s) (the first step takes
+    /// the losses as proportional to the power, s = (G − G(0))/x). A secant slope of
     /// magnitude one or more means the plain iteration cannot settle (the losses rise as fast
     /// as the power): that is reported as losses running away, as before. An accelerated step
     /// that lands where the bulk capacitor gives out is retried as a plain step.
@@ -256,8 +257,16 @@ impl Context<'_> {
             if converged {
                 break;
             }
+            // before a secant exists, take the losses as proportional to the power drawn: the
+            // slope of G is then (G − G(0))/x, with G(0) = P_out, or P_line for a fixed estimate
+            let first_slope = previous
+                .is_none()
+                .then(|| (g - if fixed { p_line_fixed } else { pout }) / x);
             previous = Some((x, g));
-            match slope.filter(|sl| sl.is_finite() && sl.abs() < 0.95) {
+            match slope
+                .or(first_slope)
+                .filter(|sl| sl.is_finite() && sl.abs() < 0.95)
+            {
                 Some(sl) => {
                     x = (g - sl * x) / (1.0 - sl);
                     accelerated = true;
@@ -311,26 +320,21 @@ impl Context<'_> {
         let i_hf = (i_rms * i_rms - i_avg * i_avg).max(0.0).sqrt();
         let mut secondaries = spare;
         secondaries.clear();
-        secondaries.extend(s
-            .outputs
-            .iter()
-            .enumerate()
-            .map(|(k, o)| {
-                secondary_point(
-                    load * o.current.value,
-                    ipk,
-                    iv,
-                    cyc.demag_duty,
-                    self.f,
-                    vpk,
-                    self.turns[k],
-                    o.voltage.value,
-                    o.capacitance.value,
-                    o.esr.value,
-                    self.filter_gain[k],
-                )
-            })
-        );
+        secondaries.extend(s.outputs.iter().enumerate().map(|(k, o)| {
+            secondary_point(
+                load * o.current.value,
+                ipk,
+                iv,
+                cyc.demag_duty,
+                self.f,
+                vpk,
+                self.turns[k],
+                o.voltage.value,
+                o.capacitance.value,
+                o.esr.value,
+                self.filter_gain[k],
+            )
+        }));
         let (vc, p_clamp) = clamp_at(&self.clamp, self.vr, self.llk, ipk, self.f);
         let rds = lp.switch_on_resistance.value * lp.on_resistance_hot_factor;
         let coss = lp.switch_output_capacitance.value;

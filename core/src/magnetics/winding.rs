@@ -63,19 +63,32 @@ impl WindingCurrent {
         let t1 = t0 + c;
         let s = (i1 - i0) / c;
         let mut out = Vec::with_capacity(count);
+        // sin(nθ), cos(nθ) at both ends by the angle-addition recurrence from one sin_cos
+        // each (θ = 2πt): the rounding grows by about one unit per harmonic, some 1e-14 at
+        // the hundredth, far below the precision results are given to
+        let (sin_step0, cos_step0) = (2.0 * PI * t0).sin_cos();
+        let (sin_step1, cos_step1) = (2.0 * PI * t1).sin_cos();
+        let (mut sin0, mut cos0) = (0.0f64, 1.0f64);
+        let (mut sin1, mut cos1) = (0.0f64, 1.0f64);
+        let a0 = i0 - s * t0;
         for n in 1..=count {
             let k = 2.0 * PI * n as f64;
+            (sin0, cos0) = (
+                sin0 * cos_step0 + cos0 * sin_step0,
+                cos0 * cos_step0 - sin0 * sin_step0,
+            );
+            (sin1, cos1) = (
+                sin1 * cos_step1 + cos1 * sin_step1,
+                cos1 * cos_step1 - sin1 * sin_step1,
+            );
             // ∫ (i0 + s(t − t0))·cos(kt) dt and ·sin(kt) dt on [t0, t1]
-            let a0 = i0 - s * t0;
-            // both primitives at one point share sin(kt) and cos(kt): evaluate them once
-            let prims = |t: f64| {
-                let (sin, cos) = (k * t).sin_cos();
+            let prims = |t: f64, sin: f64, cos: f64| {
                 (
                     a0 * sin / k + s * (cos / (k * k) + t * sin / k),
                     -a0 * cos / k + s * (sin / (k * k) - t * cos / k),
                 )
             };
-            let ((c1, s1), (c0, s0)) = (prims(t1), prims(t0));
+            let ((c1, s1), (c0, s0)) = (prims(t1, sin1, cos1), prims(t0, sin0, cos0));
             let a = 2.0 * (c1 - c0);
             let b = 2.0 * (s1 - s0);
             out.push(si((a * a + b * b).sqrt() / 2f64.sqrt()));

@@ -167,7 +167,8 @@ fn run_family(
         .map(|v| {
             // a panic in native code (a bug, or an embedder's function) fails this variant
             // only: it becomes the variant's error row and the others go on
-            let call = std::panic::AssertUnwindSafe(|| f.call::<Dynamic>(engine, &ast, (v.clone(),)));
+            let call =
+                std::panic::AssertUnwindSafe(|| f.call::<Dynamic>(engine, &ast, (v.clone(),)));
             let r = match std::panic::catch_unwind(call) {
                 Ok(r) => r.map_err(|e| ScriptError::from_eval(&e, "", "", limits).message),
                 Err(payload) => Err(panic_message(payload.as_ref())),

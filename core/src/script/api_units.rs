@@ -450,7 +450,9 @@ pub(crate) fn register(api: &mut Api) {
      -> ScriptResult<FLOAT> {
         lift(q(&v, "value")?.value_in(unit.as_str()))
     });
-    def!(api, &SQRT, |v: Quantity| to_dyn(finite_in(v, "value")?.sqrt()));
+    def!(api, &SQRT, |v: Quantity| to_dyn(
+        finite_in(v, "value")?.sqrt()
+    ));
     def!(api, &ABS, |v: Quantity| -> ScriptResult<Dynamic> {
         Ok(quantity_to_dynamic(finite_in(v, "value")?.abs()))
     });

@@ -1,9 +1,9 @@
 //! Writing quantities: engineering prefixes, about four significant digits, derived units.
 
-use std::fmt::Write;
 use super::catalog::{display_unit, WRITE_PREFIXES};
 use super::dimension::Dimension;
 use super::quantity::CELSIUS_OFFSET;
+use std::fmt::Write;
 
 /// Significant digits used when writing numbers.
 pub const SIGNIFICANT_DIGITS: i32 = 4;
@@ -165,7 +165,10 @@ mod tests {
 
     #[test]
     fn fast_number_text_on_edges() {
-        for x in [0.001, 0.0015, 0.00999949, 1.0, 9.9995, 10.0, 0.1, 999.95, 1234.5, 123456.0, 999_949.0, -0.25, -4.7e3] {
+        for x in [
+            0.001, 0.0015, 0.00999949, 1.0, 9.9995, 10.0, 0.1, 999.95, 1234.5, 123456.0, 999_949.0,
+            -0.25, -4.7e3,
+        ] {
             assert_eq!(format_number(x), format_number_exact(x), "{x}");
         }
     }
