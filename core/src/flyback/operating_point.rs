@@ -163,6 +163,7 @@ impl Context<'_> {
         // the last point of the iteration, (x, G(x)), and whether x was an accelerated step
         let mut previous: Option<(f64, f64)> = None;
         let mut accelerated = false;
+        // the conduction time of the last step starts the next valley solve
         let mut valley_hint = None;
         while iterations < MAX_EFFICIENCY_ITERATIONS {
             iterations += 1;
@@ -216,7 +217,7 @@ impl Context<'_> {
                     })
                 }
             };
-            valley_hint = Some(vval);
+            valley_hint = Some(tc);
             let cyc = cycle_for_power(self.l, vval, p_dc, self.vr, self.f);
             // the secondaries' vector of the last point is reused: no allocation per step
             let spare = last

@@ -613,6 +613,19 @@ pub fn core_from_built_in_dimensions(name: &str) -> Result<Core> {
 
 /// Every built-in core, smallest effective volume first.
 pub fn core_shapes() -> Result<Vec<Core>> {
+    built_in_shapes().map(<[Core]>::to_vec)
+}
+
+/// The built-in cores, computed from their tables once per process (they are constants).
+fn built_in_shapes() -> Result<&'static [Core]> {
+    static SHAPES: std::sync::OnceLock<Result<Vec<Core>>> = std::sync::OnceLock::new();
+    match SHAPES.get_or_init(build_core_shapes) {
+        Ok(v) => Ok(v),
+        Err(e) => Err(e.clone()),
+    }
+}
+
+fn build_core_shapes() -> Result<Vec<Core>> {
     let mut out = Vec::new();
     for e in PAIRED {
         out.push(build_paired(e)?);
@@ -647,7 +660,7 @@ fn normalise(name: &str) -> String {
 /// name and lists them all.
 pub fn core_by_size(name: &str) -> Result<Core> {
     let want = normalise(name);
-    let all = core_shapes()?;
+    let all = built_in_shapes()?;
     if let Some(c) = all.iter().find(|c| normalise(&c.name) == want) {
         return Ok(c.clone());
     }

@@ -9,7 +9,7 @@ use crate::units::{
     si, Capacitance, Dimension, ElectricCurrent, ElectricPotential, Frequency, Power, Quantity,
     Time,
 };
-use std::f64::consts::{PI, SQRT_2};
+use std::f64::consts::{FRAC_PI_2, PI, SQRT_2};
 
 /// What the bulk capacitor sees at one line voltage and load.
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -62,7 +62,8 @@ fn peak_of(line_rms: f64, bridge: f64) -> f64 {
 /// Formula: the capacitor gives up ½·C·(V_pk² − V_min²) while the converter draws
 /// P·(1/(2·f_line) − t_c), with the conduction time t_c = arccos(V_min/V_pk)/(2π·f_line) —
 /// the time from the valley, on the rising rectified sine, back up to the peak. The equation is
-/// solved for V_min by a bracketed Newton method (it is monotonic), to 1e-11 relative. The ripple current is that of a
+/// solved for the conduction angle ω·t_c (V_min = V_pk·cos ω·t_c) by a bracketed Newton method
+/// (it is monotonic), to 1e-11 relative. The ripple current is that of a
 /// triangular bridge-current pulse of width t_c carrying the charge of a half cycle, minus the
 /// converter's (constant) average current: I_C,rms = I_avg·√(4/(3·2·f_line·t_c) − 1).
 /// Assumes constant power, an ideal sine line, an ideal bridge with a fixed drop, and no
@@ -78,20 +79,20 @@ pub fn bulk_capacitor(spec: &BulkCapacitorSpec) -> Result<BulkCapacitor> {
     bulk_capacitor_near(spec, None)
 }
 
-/// Relative tolerance of the valley voltage (the solver's last step; the error after it is of
-/// the order of its square).
+/// Relative tolerance of the conduction angle (the solver's last step; the error after it is
+/// of the order of its square).
 const VALLEY_TOLERANCE: Tolerance = Tolerance::relative(1e-11);
 /// Most evaluations of the energy balance one valley solve may take (a cold start takes about
 /// five, a warm one two or three).
 const VALLEY_MAX_EVALUATIONS: usize = 100;
 
-/// [`bulk_capacitor`] with a starting point for the valley solve: the valley an earlier,
-/// nearby solution found (another efficiency iteration of the same corner), in volts. The
-/// result is the same to the solver's tolerance; only the number of steps changes. A guess
-/// outside (0, V_pk) is ignored.
+/// [`bulk_capacitor`] with a starting point for the valley solve: the conduction time an
+/// earlier, nearby solution found (another efficiency iteration of the same corner), in
+/// seconds. The result is the same to the solver's tolerance; only the number of steps
+/// changes. A guess outside the quarter line cycle is ignored.
 pub(crate) fn bulk_capacitor_near(
     spec: &BulkCapacitorSpec,
-    valley_guess: Option<f64>,
+    conduction_guess: Option<f64>,
 ) -> Result<BulkCapacitor> {
     let vrms = positive("line_voltage_rms", spec.line_voltage_rms)?.value;
     let fl = positive("line_frequency", spec.line_frequency)?.value;
@@ -108,9 +109,12 @@ pub(crate) fn bulk_capacitor_near(
     }
     let half = 0.5 / fl;
     let w = 2.0 * PI * fl;
-    let tc_of = |v: f64| (v / vpk).clamp(-1.0, 1.0).acos() / w;
-    let g = |v: f64| 0.5 * c * (vpk * vpk - v * v) - p * (half - tc_of(v));
-    if g(0.0) <= 0.0 {
+    // the energy balance in the conduction angle θ = ω·t_c, V_min = V_pk·cos θ:
+    // g(θ) = ½·C·V_pk²·sin²θ − P·(1/(2·f_line) − θ/ω), rising from g(0) = −P/(2·f_line) to
+    // g(π/2) (the valley at zero), with g′(θ) = C·V_pk²·sin θ·cos θ + P/ω > 0
+    let e_pk = 0.5 * c * vpk * vpk;
+    let at_zero_valley = e_pk - p * (half - 0.25 / fl);
+    if at_zero_valley <= 0.0 {
         return Err(Error::infeasible(format!(
             "`bulk_capacitance` {} is too small for {} at {} RMS: the capacitor would discharge \
              to zero within a half line cycle; it needs more than {}",
@@ -123,28 +127,42 @@ pub(crate) fn bulk_capacitor_near(
             )
         )));
     }
-    // g falls monotonically from g(0) > 0 to g(V_pk) = −P/(2·f_line) < 0; its derivative is
-    // −C·V − P/(ω·V_pk·√(1 − (V/V_pk)²))
-    let dg = |v: f64| {
-        let x = (v / vpk).clamp(-1.0, 1.0);
-        -c * v - p / (w * vpk * (1.0 - x * x).sqrt().max(1e-300))
+    // the sine and cosine of the last angle evaluated, to finish without another one
+    let mut last = (f64::NAN, 0.0, 1.0);
+    let mut g = |theta: f64| -> Result<(f64, f64)> {
+        let (sin, cos) = theta.sin_cos();
+        last = (theta, sin, cos);
+        Ok((
+            e_pk * sin * sin - p * (half - theta / w),
+            2.0 * e_pk * sin * cos + p / w,
+        ))
     };
-    // cold start: the valley without conduction time, V_pk² − P/(C·f_line), is a little low
-    let cold = vpk * vpk - p / (c * fl);
-    let guess = valley_guess
-        .filter(|v| *v > 0.0 && *v < vpk)
-        .or_else(|| (cold > 0.0).then(|| cold.sqrt()));
+    // cold start: the valley without conduction time, sin²θ = P/(C·V_pk²·f_line), a little low
+    let cold = (p / (c * vpk * vpk * fl)).min(1.0).sqrt().asin();
+    let guess = conduction_guess
+        .map(|t| t * w)
+        .filter(|t| *t > 0.0 && *t < FRAC_PI_2)
+        .unwrap_or(cold);
     let root = newton_bracketed(
         "the bulk capacitor's valley voltage",
-        |v| Ok((g(v), dg(v))),
-        Sample::new(0.0, g(0.0)),
-        Sample::new(vpk, -p * half),
-        guess,
+        &mut g,
+        Sample::new(0.0, -p * half),
+        Sample::new(FRAC_PI_2, at_zero_valley),
+        Some(guess),
         VALLEY_TOLERANCE,
         VALLEY_MAX_EVALUATIONS,
     )?;
-    let vmin = root.x;
-    let tc = tc_of(vmin).max(1e-9);
+    // cos θ at the root from the last evaluation: the step δ is below the tolerance, so the
+    // second-order expansion is exact to round-off
+    let (theta_last, sin_last, cos_last) = last;
+    let cos_root = if theta_last.is_nan() {
+        root.x.cos()
+    } else {
+        let d = root.x - theta_last;
+        cos_last - sin_last * d - 0.5 * cos_last * d * d
+    };
+    let vmin = (vpk * cos_root).clamp(0.0, vpk);
+    let tc = (root.x / w).max(1e-9);
     let vavg = 0.5 * (vpk + vmin);
     let iavg = p / vavg;
     // a triangular pulse of width tc, repeated every half cycle, with mean iavg
