@@ -138,11 +138,10 @@ pub(crate) fn bulk_capacitor_near(
         ))
     };
     // cold start: the valley without conduction time, sin²θ = P/(C·V_pk²·f_line), a little low
-    let cold = (p / (c * vpk * vpk * fl)).min(1.0).sqrt().asin();
     let guess = conduction_guess
         .map(|t| t * w)
         .filter(|t| *t > 0.0 && *t < FRAC_PI_2)
-        .unwrap_or(cold);
+        .unwrap_or_else(|| (p / (c * vpk * vpk * fl)).min(1.0).sqrt().asin());
     let root = newton_bracketed(
         "the bulk capacitor's valley voltage",
         &mut g,
