@@ -1,7 +1,18 @@
-//! Benchmarks: native call vs the same call from a compiled script, families of 10,000
-//! variants on one core and on all cores, and one loop analysis of a regulated design. Run with `cargo bench`; the numbers go into the
-//! README. A small timing loop of our own keeps the build light: each case is warmed up,
-//! then timed in 7 samples of about 0.3 s, and the median is reported.
+//! Benchmarks: native call vs the same call from a compiled script vs the same design as one
+//! variant of a family (one thread and two), one loop analysis of a regulated design, the
+//! table writers, and the process time of `gapwise eval`. Run with
+//! `cargo bench`; the README table is copied from its output, ratios included. A small timing
+//! loop of our own keeps the build light: each case is warmed up, then timed in 7 samples of
+//! about 0.3 s, and the median is reported. Wall-clock times on a shared machine are noisy;
+//! the ratios are steadier, and instruction counts steadier still:
+//!
+//! ```text
+//! cargo bench --no-run
+//! valgrind --tool=callgrind target/release/deps/gapwise-<hash> --profile flyback 200
+//! ```
+//!
+//! `--profile CASE N` runs one case N times without timing (cases: flyback, transformer,
+//! barrier, family), for a profiler.
 
 use gapwise::passives::lc_resonant_frequency;
 use gapwise::script::{EngineLimits, ScriptHost};
@@ -12,7 +23,13 @@ use std::hint::black_box;
 use std::time::{Duration, Instant};
 
 /// Median time per iteration of `f`, which performs `per_call` iterations per call.
-fn time_per_iteration(name: &str, per_call: u64, mut f: impl FnMut()) -> f64 {
+fn time_per_iteration(name: &str, per_call: u64, f: impl FnMut()) -> f64 {
+    let median = measure(per_call, f);
+    row(name, &show(median), "");
+    median
+}
+
+fn measure(per_call: u64, mut f: impl FnMut()) -> f64 {
     let start = Instant::now();
     let mut calls = 0u64;
     while start.elapsed() < Duration::from_millis(200) {
@@ -29,9 +46,24 @@ fn time_per_iteration(name: &str, per_call: u64, mut f: impl FnMut()) -> f64 {
         samples.push(t.elapsed().as_secs_f64() / (calls_per_sample * per_call) as f64);
     }
     samples.sort_by(f64::total_cmp);
-    let median = samples[samples.len() / 2];
-    println!("{name:58} {:>12}", show(median));
-    median
+    samples[samples.len() / 2]
+}
+
+/// As [`time_per_iteration`], printing nothing (the caller prints a ratio).
+fn time_quiet(per_call: u64, f: impl FnMut()) -> f64 {
+    measure(per_call, f)
+}
+
+/// Every reported line, as Markdown rows for the README table.
+static ROWS: std::sync::Mutex<Vec<String>> = std::sync::Mutex::new(Vec::new());
+
+/// Prints one result aligned, and keeps it for the README table.
+fn row(name: &str, time: &str, ratio: &str) {
+    println!("{name:58} {time:>12} {ratio}");
+    let name = name.trim_start_matches("=> ");
+    ROWS.lock()
+        .expect("rows")
+        .push(format!("| {name} | {time} | {ratio} |"));
 }
 
 fn show(seconds: f64) -> String {
@@ -60,7 +92,7 @@ fn call_overhead(host: &ScriptHost) {
     println!("-- one calculation: native vs script");
     let l = Inductance::new::<microhenry>(1.0);
     let c = Capacitance::new::<microfarad>(100.0);
-    time_per_iteration("native lc_resonant_frequency", 1, || {
+    let t_native = time_per_iteration("native lc_resonant_frequency", 1, || {
         black_box(lc_resonant_frequency(black_box(l), black_box(c)).ok());
     });
     const N: u64 = 10_000;
@@ -79,10 +111,11 @@ fn call_overhead(host: &ScriptHost) {
     let t_empty = time_per_iteration("script loop without the call (per iteration)", N, || {
         run(host, &b, &empty)
     });
-    println!(
-        "{:58} {:>12}",
+    let call = (t_call - t_empty).max(0.0);
+    row(
         "=> cost of one call from a script",
-        show((t_call - t_empty).max(0.0))
+        &show(call),
+        &format!("{:.0} × native", call / t_native),
     );
 }
 
@@ -114,58 +147,73 @@ fn family(host: &ScriptHost) {
     let tn = time_per_iteration("family, all cores (per variant)", 10_000, || {
         run(host, &ast, source)
     });
-    println!(
-        "{:58} {:>12.0}",
-        "=> variants per second, 1 thread",
-        1.0 / t1
-    );
-    println!(
-        "{:58} {:>12.0}",
-        "=> variants per second, all cores",
-        1.0 / tn
+    row(
+        "=> variants per second, 1 thread / all cores",
+        &format!("{:.0} / {:.0}", 1.0 / t1, 1.0 / tn),
+        &format!("{:.2} × on all cores", t1 / tn),
     );
 }
 
-fn flyback(host: &ScriptHost) {
-    use gapwise::flyback::{flyback_design, FlybackSpec, OutputWinding};
+fn flyback_spec() -> gapwise::flyback::FlybackSpec {
+    use gapwise::flyback::{FlybackSpec, OutputWinding};
     use gapwise::units::si;
-    println!("-- one full flyback design (all corners, efficiency iterated)");
-    let spec = FlybackSpec::universal(OutputWinding::new(si(12.0), si(1.25)));
-    time_per_iteration("native flyback_design, 12 V / 1.25 A", 1, || {
+    FlybackSpec::universal(OutputWinding::new(si(12.0), si(1.25)))
+}
+
+/// The family of full designs: 10,000 variants, a grid of 100 output voltages (5–48 V) by 100
+/// output currents (0.5–2 A). The grid is built natively: a script loop pushing 10,000 maps
+/// into one array costs more than the designs, because the engine re-measures the whole
+/// array's size on every push (quadratic; see the README).
+const FLYBACK_FAMILY: &str = r#"
+    let volts = [];
+    let amps = [];
+    for i in 0..100 {
+        volts.push((5.0 + 43.0 * i / 99) * V);
+        amps.push((0.5 + 1.5 * i / 99) * A);
+    }
+    let variants = grid(#{output_voltage: volts, output_current: amps});
+    family(|v| flyback_summary(flyback_design(v)), variants)
+"#;
+
+fn ratio_line(name: &str, t: f64, base: f64, base_name: &str) {
+    row(name, &show(t), &format!("{:.2} × {base_name}", t / base));
+}
+
+fn flyback(host: &ScriptHost) {
+    use gapwise::flyback::flyback_design;
+    println!("-- one full flyback design (all corners, efficiency iterated), 12 V / 1.25 A");
+    let spec = flyback_spec();
+    let native = time_per_iteration("native flyback_design", 1, || {
         black_box(flyback_design(black_box(&spec)).ok());
     });
     let source = "flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A})";
     let ast = compile(host, source);
-    time_per_iteration("script flyback_design, 12 V / 1.25 A", 1, || {
-        run(host, &ast, source)
-    });
-    let family = r#"
-        let variants = [];
-        for i in 0..10000 {
-            variants.push(#{output_voltage: (5 + (i % 44)) * V, output_current: (0.5 + (i % 7) * 0.25) * A});
-        }
-        family(|v| flyback_summary(flyback_design(v)), variants)
-    "#;
-    let ast = compile(host, family);
-    time_per_iteration(
-        "flyback family of 10,000 variants, all cores (per variant)",
-        10_000,
-        || run(host, &ast, family),
-    );
+    let script = time_quiet(1, || run(host, &ast, source));
+    ratio_line("script flyback_design", script, native, "native");
+    let ast = compile(host, FLYBACK_FAMILY);
+    for threads in [1, 2] {
+        let pool = rayon::ThreadPoolBuilder::new()
+            .num_threads(threads)
+            .build()
+            .expect("pool");
+        let t = pool.install(|| time_quiet(10_000, || run(host, &ast, FLYBACK_FAMILY)));
+        ratio_line(
+            &format!("family of 10,000 designs, {threads} thread(s), per variant"),
+            t,
+            native,
+            "native",
+        );
+        row(
+            &format!("=> the 10,000-variant family, {threads} thread(s)"),
+            &show(t * 10_000.0),
+            "",
+        );
+    }
 }
 
 fn transformer(host: &ScriptHost) {
     println!("-- transformer design for one operating point, and core selection");
-    let design = r#"
-        let t = transformer_inputs_from_flyback(flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A}));
-        t.core = "EF25";
-        t
-    "#;
-    let inputs = host.eval(design, "<bench>").expect("inputs");
-    let mut scope = Scope::new();
-    scope.push("inputs", inputs);
-    let source = "transformer_design(inputs)";
-    let ast = compile(host, source);
+    let (scope, ast, source) = transformer_case(host);
     time_per_iteration("script transformer_design, EF25, 12 V / 1.25 A", 1, || {
         let mut s = scope.clone();
         drop(black_box(
@@ -181,12 +229,44 @@ fn transformer(host: &ScriptHost) {
 
 fn isolation(host: &ScriptHost) {
     println!("-- requirements of one isolation barrier (every rule, table and procedure)");
+    let spec = barrier_spec();
+    let native = time_per_iteration("native barrier_requirements, reinforced, 65 kHz", 1, || {
+        drop(black_box(
+            gapwise::safety::barrier_requirements(black_box(&spec)).expect("requirements"),
+        ));
+    });
+    let source = "barrier_requirements(#{barrier: \"primary_secondary\", insulation: \"reinforced\", altitude: 3000 * m, working_voltage_peak: 600 * V, working_voltage_rms: 450 * V, working_frequency: 65 * kHz})";
+    let ast = compile(host, source);
+    let script = time_quiet(1, || run(host, &ast, source));
+    ratio_line(
+        "script barrier_requirements, the same barrier",
+        script,
+        native,
+        "native",
+    );
+}
+
+/// The transformer case: its inputs (from the 12 V design, on an EF25) and the script call.
+fn transformer_case(host: &ScriptHost) -> (Scope<'static>, AST, &'static str) {
+    let design = r#"
+        let t = transformer_inputs_from_flyback(flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A}));
+        t.core = "EF25";
+        t
+    "#;
+    let inputs = host.eval(design, "<bench>").expect("inputs");
+    let mut scope = Scope::new();
+    scope.push("inputs", inputs);
+    let source = "transformer_design(inputs)";
+    (scope, compile(host, source), source)
+}
+
+fn barrier_spec() -> gapwise::safety::BarrierSpec {
     use gapwise::safety::{
-        barrier_requirements, Barrier, BarrierSpec, FieldCase, InsulationGrade, MaterialGroup,
-        OvervoltageCategory, PollutionDegree,
+        Barrier, BarrierSpec, FieldCase, InsulationGrade, MaterialGroup, OvervoltageCategory,
+        PollutionDegree,
     };
     use gapwise::units::si;
-    let spec = BarrierSpec {
+    BarrierSpec {
         barrier: Barrier::PrimarySecondary,
         grade: InsulationGrade::Reinforced,
         mains_voltage: si(230.0),
@@ -199,17 +279,104 @@ fn isolation(host: &ScriptHost) {
         working_voltage_rms: si(450.0),
         working_frequency: si(65e3),
         impulse_voltage: None,
+    }
+}
+
+/// Runs one case `n` times without timing, for a profiler (callgrind counts instructions,
+/// which stay repeatable while other work shares the machine).
+fn profile(host: &ScriptHost, case: &str, n: usize) {
+    match case {
+        "flyback" => {
+            let spec = flyback_spec();
+            for _ in 0..n {
+                black_box(gapwise::flyback::flyback_design(black_box(&spec)).ok());
+            }
+        }
+        "transformer" => {
+            let (scope, ast, source) = transformer_case(host);
+            for _ in 0..n {
+                let mut s = scope.clone();
+                drop(black_box(
+                    host.run(&ast, &mut s, source, "<bench>").expect("runs"),
+                ));
+            }
+        }
+        "barrier" => {
+            let spec = barrier_spec();
+            for _ in 0..n {
+                drop(black_box(
+                    gapwise::safety::barrier_requirements(black_box(&spec)).ok(),
+                ));
+            }
+        }
+        "family" => {
+            let ast = compile(host, FLYBACK_FAMILY);
+            for _ in 0..n {
+                run(host, &ast, FLYBACK_FAMILY);
+            }
+        }
+        other => {
+            eprintln!("unknown profile case `{other}` (flyback, transformer, barrier, family)")
+        }
+    }
+}
+
+/// The machine, for the README table: the CPU model and the threads available.
+fn machine() -> String {
+    let cpu = std::fs::read_to_string("/proc/cpuinfo")
+        .ok()
+        .and_then(|t| {
+            t.lines()
+                .find(|l| l.starts_with("model name"))
+                .and_then(|l| l.split(':').nth(1))
+                .map(|m| m.trim().to_string())
+        })
+        .unwrap_or_else(|| "unknown CPU".into());
+    format!("{cpu}, {} threads", rayon::current_num_threads())
+}
+
+/// Process time of `gapwise eval` on a one-line script, when a release binary is there
+/// (`cargo build --release -p gapwise-repl`): start-up, engine, one design, output.
+fn eval_process() {
+    println!("-- `gapwise eval` as a process (start-up, engine, one design, output)");
+    let exe = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("target/release/gapwise");
+    let exe = std::env::var_os("CARGO_TARGET_DIR")
+        .map(|d| std::path::PathBuf::from(d).join("release/gapwise"))
+        .filter(|p| p.exists())
+        .unwrap_or(exe);
+    if !exe.exists() {
+        row(
+            "gapwise eval (no release binary: cargo build --release -p gapwise-repl)",
+            "skipped",
+            "",
+        );
+        return;
+    }
+    let script = "flyback_summary(flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A})).efficiency";
+    let spawn = || {
+        let out = std::process::Command::new(&exe)
+            .args(["eval", script])
+            .output()
+            .expect("gapwise runs");
+        assert!(
+            out.status.success(),
+            "gapwise eval failed: {}",
+            String::from_utf8_lossy(&out.stderr)
+        );
     };
-    time_per_iteration("native barrier_requirements, reinforced, 65 kHz", 1, || {
-        drop(black_box(
-            barrier_requirements(black_box(&spec)).expect("requirements"),
-        ));
-    });
-    let source = "barrier_requirements(#{barrier: \"primary_secondary\", insulation: \"reinforced\", altitude: 3000 * m, working_voltage_peak: 600 * V, working_voltage_rms: 450 * V, working_frequency: 65 * kHz})";
-    let ast = compile(host, source);
-    time_per_iteration("script barrier_requirements, the same barrier", 1, || {
-        run(host, &ast, source)
-    });
+    let mut samples: Vec<f64> = (0..15)
+        .map(|_| {
+            let t = Instant::now();
+            spawn();
+            t.elapsed().as_secs_f64()
+        })
+        .collect();
+    samples.sort_by(f64::total_cmp);
+    row(
+        "gapwise eval, one design, whole process (median of 15)",
+        &show(samples[7]),
+        "",
+    );
 }
 
 fn regulation(host: &ScriptHost) {
@@ -280,8 +447,9 @@ fn tables() {
 }
 
 fn main() {
+    let args: Vec<String> = std::env::args().collect();
     // `cargo test --benches` passes --bench-less flags; only time under `cargo bench`.
-    if std::env::args().any(|a| a == "--list") {
+    if args.iter().any(|a| a == "--list") {
         return;
     }
     // GAPWISE_BENCH=tables runs only the table writers
@@ -290,10 +458,14 @@ fn main() {
         return;
     }
     let host = ScriptHost::new(EngineLimits::default());
-    println!(
-        "gapwise benchmarks ({} threads available)",
-        rayon::current_num_threads()
-    );
+    if let Some(i) = args.iter().position(|a| a == "--profile") {
+        let case = args.get(i + 1).map(String::as_str).unwrap_or("flyback");
+        let n = args.get(i + 2).and_then(|n| n.parse().ok()).unwrap_or(100);
+        profile(&host, case, n);
+        return;
+    }
+    println!("gapwise benchmarks on {}", machine());
+    println!("(wall-clock medians on a shared machine: compare the ratios, which are steadier)");
     call_overhead(&host);
     family(&host);
     flyback(&host);
@@ -301,4 +473,15 @@ fn main() {
     isolation(&host);
     regulation(&host);
     tables();
+    eval_process();
+    // the README table, to paste between its benchmark markers
+    println!("\n-- README table");
+    println!(
+        "| case (`cargo bench`, release build, {}) | time | ratio |",
+        machine()
+    );
+    println!("| --- | --- | --- |");
+    for line in ROWS.lock().expect("rows").iter() {
+        println!("{line}");
+    }
 }

@@ -32,6 +32,7 @@ pub mod feedback;
 pub mod flyback;
 pub mod magnetics;
 pub mod mains;
+pub(crate) mod numeric;
 pub mod passives;
 pub mod report;
 pub mod rules;

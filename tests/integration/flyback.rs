@@ -819,7 +819,13 @@ fn overload_power_stops_at_the_duty_limit_when_it_comes_first() {
     // limit against 519.3 mA + 2.7 mA), so either may end the power; it is never above the
     // highest limit's
     assert!(["current_limit", "max_duty_cycle"].contains(&d.overload[0].limited_by));
-    assert!(d.overload[0].output_power <= o.output_power);
+    // (both searches end on the same duty limit within their load tolerance, 1e-9 relative)
+    assert!(
+        d.overload[0].output_power.value <= o.output_power.value * (1.0 + 1e-6),
+        "{} > {}",
+        d.overload[0].output_power.value,
+        o.output_power.value
+    );
     // high line: far from the duty limit
     assert!(d.overload[2..]
         .iter()

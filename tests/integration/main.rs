@@ -1,6 +1,7 @@
 //! Integration tests of gapwise, one binary with a module per area.
 //! Each check of a computed value names its source beside it.
 
+mod bad_input;
 mod common;
 mod design_flow;
 mod emi;
@@ -9,6 +10,7 @@ mod flyback;
 mod magnetics;
 mod mains;
 mod passives;
+mod pinned;
 mod readme;
 mod recipes;
 mod safety;

@@ -711,7 +711,7 @@ fn more_bad_input() {
     let e = eval_err("barrier_requirements(#{barrier: \"primary_secondary\", working_voltage_peak: 100 * V, working_voltage_rms: 200 * V})");
     assert!(e.to_string().contains("working_voltage_rms"), "{e}");
     let e = eval_err("material_group_for_cti(50)");
-    assert!(e.to_string().contains("comparative_tracking_index"), "{e}");
+    assert!(e.to_string().contains("`cti`"), "{e}");
     let e =
         eval_err("barrier_checks(#{barrier: \"primary_secondary\", provided_clearance: -1 * mm})");
     assert!(e.to_string().contains("clearance"), "{e}");

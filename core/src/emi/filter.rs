@@ -268,7 +268,7 @@ pub fn filter_output_impedance_peak(
     };
     if rl == 0.0 && esr == 0.0 && !matches!(damp, Some((r, _)) if r > 0.0) {
         return Err(Error::invalid(
-            "the filter has no damping at all (zero resistances): its output impedance peak is unbounded",
+            "the filter has no damping at all (`inductor_resistance` and `capacitor_esr` are zero, and no damping branch): its output impedance peak is unbounded",
         ));
     }
     let mut best = (0.0f64, f0);

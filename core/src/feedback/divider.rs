@@ -193,6 +193,10 @@ pub struct OutputDivider {
     pub divider_power: Power,
 }
 
+/// The highest output voltage [`output_divider`] designs for (V): far above any output of a
+/// 5–75 W supply, low enough that every tolerance stack stays finite.
+pub const MAX_DIVIDER_OUTPUT_VOLTAGE: f64 = 10_000.0;
+
 /// Chooses the output divider from a preferred series, with an optional trim resistor, and
 /// works out its tolerance range.
 ///
@@ -208,12 +212,20 @@ pub struct OutputDivider {
 /// √Σ ΔV_i², ΔV_i = |V(p_i·(1 + t_i)) − V(p_i·(1 − t_i))|/2 for each tolerance alone.
 /// The reference-input current is taken at its given value (not toleranced).
 /// Valid for V_out > V_ref > 0. Errors name `output_voltage`, `reference_voltage`,
-/// `divider_current`, `resistor_tolerance`.
+/// `divider_current`, `resistor_tolerance`; an `output_voltage` above
+/// [`MAX_DIVIDER_OUTPUT_VOLTAGE`] is out of range.
 /// Reference: divider equation as in [`divider_output_voltage`]; extreme-value and
 /// root-sum-square tolerance stacks are common practice, no published source.
 pub fn output_divider(spec: &OutputDividerSpec) -> Result<OutputDivider> {
     spec.reference.validate()?;
     let target = positive("output_voltage", spec.output_voltage)?.value;
+    if target > MAX_DIVIDER_OUTPUT_VOLTAGE {
+        return Err(Error::out_of_range(format!(
+            "`output_voltage` {} is above {} V, outside what a shunt-reference divider of a small supply sets",
+            Quantity::from_typed(spec.output_voltage),
+            MAX_DIVIDER_OUTPUT_VOLTAGE
+        )));
+    }
     let vref = spec.reference.reference_voltage.value;
     let iref = spec.reference.reference_input_current.value;
     let idiv = positive("divider_current", spec.divider_current)?.value;

@@ -15,6 +15,7 @@ use super::thermal::{junction_temperatures, JunctionTemperature};
 use super::waveform::{boundary_duty, boundary_inductance_si, ConductionMode};
 use crate::error::{Error, ErrorKind, Result};
 use crate::mains::{bulk_capacitance_for_valley, hold_up_time};
+use crate::numeric::{brent, Sample, Tolerance};
 use crate::passives::e_series::at_or_above_value;
 use crate::passives::ESeries;
 use crate::report::{Field, Record, Table};
@@ -39,7 +40,7 @@ pub const RECTIFIER_DROP_PER_EFOLD: f64 = 0.05;
 /// controller's maximum, whichever comes at the lower load.
 ///
 /// Formula: the load k at which I_pk(k) = I_lim + V_valley·t_d/L (the sense-delay overshoot at
-/// the primary slope V/L), or D(k) = D_max if that is lower, by bisection on k; power k·P_out.
+/// the primary slope V/L), or D(k) = D_max if that is lower, by Brent's method on k; power k·P_out.
 /// Assumes a fixed-frequency peak-current-mode controller and outputs that stay in regulation
 /// up to that load. Reference: common practice, no published source.
 #[derive(Clone, Debug, PartialEq)]
@@ -54,7 +55,7 @@ pub struct OverloadPoint {
     /// I_lim + V_valley·t_d/L.
     pub primary_current_peak: ElectricCurrent,
     /// Output power delivered before the limit trips: the load at which the corner's peak
-    /// current equals the limit plus overshoot, found by bisection, times full-load power.
+    /// current equals the limit plus overshoot, found by Brent's method, times full-load power.
     pub output_power: Power,
     /// That power over the full-load output power.
     pub load_fraction: f64,
@@ -410,6 +411,8 @@ fn design(spec: &FlybackSpec) -> Result<FlybackDesign> {
     // on the peak current: it takes part in the iteration
     let mut clamp = fixed_clamp;
     let mut design_iterations = 0;
+    // each design step starts its efficiency iteration where the last one settled
+    let mut warm = None;
     loop {
         design_iterations += 1;
         let ctx = Context {
@@ -424,7 +427,7 @@ fn design(spec: &FlybackSpec) -> Result<FlybackDesign> {
             filter_gain: filter_gain.clone(),
             min_peak: 0.0,
         };
-        let op = match ctx.evaluate("low_line_full_load", line_lo, 1.0) {
+        let op = match ctx.evaluate_near("low_line_full_load", line_lo, 1.0, warm) {
             Ok(op) => op,
             // while sizing the bulk capacitor for a valley, a first guess from the starting
             // efficiency may be too small for the real input power: grow it and go on
@@ -440,6 +443,7 @@ fn design(spec: &FlybackSpec) -> Result<FlybackDesign> {
             }
             Err(e) => return Err(e),
         };
+        warm = Some(op.warm_start());
         let p_dc = op.converter_input_power.value;
         // a sized capacitor is rounded up to E12, and the inductance is chosen at the valley
         // the rounded capacitor really gives; after a few steps the capacitor only grows, so the
@@ -513,7 +517,7 @@ fn design(spec: &FlybackSpec) -> Result<FlybackDesign> {
     };
 
     // (2) current limit
-    let first = ctx.evaluate("low_line_full_load", line_lo, 1.0)?;
+    let first = ctx.evaluate_near("low_line_full_load", line_lo, 1.0, warm)?;
     let ipk_design = first.primary_current_peak.value;
     let ilim = match spec.current_limit {
         Some(i) => {
@@ -580,23 +584,24 @@ fn design(spec: &FlybackSpec) -> Result<FlybackDesign> {
     };
     let light = spec.light_load_fraction;
     let mut corners = vec![
-        ctx.evaluate("low_line_full_load", line_lo, 1.0)?,
+        ctx.evaluate_near("low_line_full_load", line_lo, 1.0, Some(first.warm_start()))?,
         ctx.evaluate("low_line_light_load", line_lo, light)?,
         ctx.evaluate("high_line_full_load", line_hi, 1.0)?,
         ctx.evaluate("high_line_light_load", line_hi, light)?,
     ];
     // (5) overload across line and tolerance
     let mut overload = Vec::new();
-    for (line, line_name) in [(line_lo, "low_line"), (line_hi, "high_line")] {
+    let mut at_limit = Vec::with_capacity(2);
+    for (line, line_name, full, light) in [
+        (line_lo, "low_line", &corners[0], &corners[1]),
+        (line_hi, "high_line", &corners[2], &corners[3]),
+    ] {
         for (limit, case) in [(ilim_min, "minimum"), (ilim_max, "maximum")] {
             let name = format!("current_limit_{line_name}");
-            let op = at_current_limit(&ctx, &name, line, limit, delay)?;
+            let op = at_current_limit(&ctx, &name, limit, delay, light, full)?;
             // the controller's duty limit may come first: the power then ends there
             let (at, limited_by) = if op.duty_cycle > spec.max_duty_cycle {
-                (
-                    at_duty_limit(&ctx, &name, line, op.load_fraction)?,
-                    "max_duty_cycle",
-                )
+                (at_duty_limit(&ctx, &name, light, &op)?, "max_duty_cycle")
             } else {
                 (op.clone(), "current_limit")
             };
@@ -612,10 +617,11 @@ fn design(spec: &FlybackSpec) -> Result<FlybackDesign> {
                 limited_by,
             });
             if case == "maximum" {
-                corners.push(op);
+                at_limit.push(op);
             }
         }
     }
+    corners.extend(at_limit);
     let design_op = &corners[0];
     let p_dc = design_op.converter_input_power.value;
     let dmax = spec.max_duty_cycle;
@@ -817,131 +823,156 @@ fn derived_clamp_overshoot(spec: &FlybackSpec, vr: f64, vpk_hi: f64) -> Result<(
     })
 }
 
+/// Most evaluations of one load search (the bracket is found in two or three, Brent's method
+/// takes about six more).
+const LOAD_SEARCH_MAX_EVALUATIONS: usize = 100;
+/// Relative tolerance of the load found by a search (a few orders below the precision results
+/// are reported and pinned to).
+const LOAD_SEARCH_TOLERANCE: Tolerance = Tolerance::relative(1e-9);
+/// The highest load, as a multiple of full load, a current-limit search looks at.
+const MAX_OVERLOAD_FACTOR: f64 = 50.0;
+
+/// Tracks the operating point with the highest load below a threshold (f < 0): the point a
+/// load search returns, since the load rises until f crosses zero.
+struct BelowThreshold {
+    best: OperatingPoint,
+}
+
+impl BelowThreshold {
+    fn offer(&mut self, f: f64, op: OperatingPoint) {
+        if f < 0.0 && op.load_fraction > self.best.load_fraction {
+            self.best = op;
+        }
+    }
+    fn warm(&self) -> Option<f64> {
+        Some(self.best.warm_start())
+    }
+    fn into_named(self, name: &str) -> OperatingPoint {
+        let mut op = self.best;
+        op.corner = name.to_string();
+        op
+    }
+}
+
 /// The operating point at which the peak current (with the sense-delay overshoot) reaches a
-/// current limit, found by bisection on the load.
+/// current limit, found by Brent's method on the load.
+///
+/// `light` and `full` are this line's corners at light and full load (already evaluated with
+/// the same context): they are the search's first samples, never evaluated again. The upper
+/// end of the bracket is extrapolated from the last two samples along the peak current; a load
+/// where the operating point is infeasible (the bulk capacitor gives out) counts as beyond the
+/// limit. Every evaluation starts its efficiency iteration from the nearest point below.
 fn at_current_limit(
     ctx: &Context,
     name: &str,
-    line: f64,
     limit: f64,
     delay: f64,
+    light: &OperatingPoint,
+    full: &OperatingPoint,
 ) -> Result<OperatingPoint> {
-    let g = |k: f64| -> Result<Option<(f64, OperatingPoint)>> {
-        match ctx.evaluate(name, line, k) {
+    let line = light.line_voltage.value;
+    let excess = |op: &OperatingPoint| {
+        op.primary_current_peak.value - (limit + op.bulk_valley_voltage.value * delay / ctx.l)
+    };
+    // an infeasible load counts as beyond the limit, by as much as the limit itself
+    let beyond = limit;
+    let d_light = excess(light);
+    if d_light >= 0.0 {
+        return Err(Error::infeasible(format!(
+            "corner {name}: the current limit {} is reached below light load",
+            Quantity::new(limit, Dimension::CURRENT)
+        )));
+    }
+    let mut below = BelowThreshold {
+        best: light.clone(),
+    };
+    let d_full = excess(full);
+    below.offer(d_full, full.clone());
+    let sample = |k: f64, below: &mut BelowThreshold| -> Result<f64> {
+        match ctx.evaluate_near(name, line, k, below.warm()) {
             Ok(op) => {
-                let target = limit + op.bulk_valley_voltage.value * delay / ctx.l;
-                Ok(Some((op.primary_current_peak.value - target, op)))
+                let d = excess(&op);
+                below.offer(d, op);
+                Ok(d)
             }
-            Err(e) if e.kind() == ErrorKind::Infeasible => Ok(None),
+            Err(e) if e.kind() == ErrorKind::Infeasible => Ok(beyond),
             Err(e) => Err(e),
         }
     };
-    // the limit is above the full-load peak, so the light load is below it
-    let mut lo = ctx.spec.light_load_fraction;
-    let mut best = match g(lo)? {
-        Some((d, op)) if d < 0.0 => op,
-        _ => {
+    // the bracket: [lo, hi] with the peak below the limit at lo and at or above it at hi
+    let (mut lo, mut hi) = (
+        Sample::new(light.load_fraction, d_light),
+        Sample::new(1.0, d_full),
+    );
+    while hi.f < 0.0 {
+        if hi.x >= MAX_OVERLOAD_FACTOR {
             return Err(Error::infeasible(format!(
-                "corner {name}: the current limit {} is reached below light load",
+                "corner {name}: the current limit {} allows more than {MAX_OVERLOAD_FACTOR} \
+                 times full load",
                 Quantity::new(limit, Dimension::CURRENT)
-            )))
+            )));
         }
-    };
-    let mut hi = 1.0;
-    loop {
-        match g(hi)? {
-            Some((d, op)) if d < 0.0 => {
-                lo = hi;
-                best = op;
-                hi *= 1.5;
-                if hi > 50.0 {
-                    return Err(Error::infeasible(format!(
-                        "corner {name}: the current limit {} allows more than 50 times full load",
-                        Quantity::new(limit, Dimension::CURRENT)
-                    )));
-                }
-            }
-            _ => break,
-        }
-    }
-    // Illinois (modified regula falsi) on the load: the peak current rises smoothly with load
-    let (mut flo, mut fhi) = (g(lo)?.map(|x| x.0), g(hi)?.map(|x| x.0));
-    let mut side = 0i8;
-    for _ in 0..100 {
-        let mid = match (flo, fhi) {
-            (Some(a), Some(b)) if b > a => {
-                let m = hi - b * (hi - lo) / (b - a);
-                if m > lo && m < hi {
-                    m
-                } else {
-                    0.5 * (lo + hi)
-                }
-            }
-            _ => 0.5 * (lo + hi),
+        // extrapolate the peak current linearly to the limit, a little beyond, at least 1.2×
+        let slope = (hi.f - lo.f) / (hi.x - lo.x);
+        let reach = if slope > 0.0 {
+            hi.x - hi.f / slope
+        } else {
+            f64::INFINITY
         };
-        match g(mid)? {
-            Some((d, op)) if d < 0.0 => {
-                lo = mid;
-                flo = Some(d);
-                best = op;
-                if side == -1 {
-                    fhi = fhi.map(|b| b / 2.0);
-                }
-                side = -1;
-                if d.abs() <= 1e-12 * limit {
-                    break;
-                }
-            }
-            Some((d, _)) => {
-                hi = mid;
-                fhi = Some(d);
-                if side == 1 {
-                    flo = flo.map(|a| a / 2.0);
-                }
-                side = 1;
-            }
-            None => {
-                hi = mid;
-                fhi = None;
-            }
-        }
-        if hi - lo < 1e-12 * hi {
-            break;
-        }
+        let next = (1.05 * reach).max(1.2 * hi.x).min(MAX_OVERLOAD_FACTOR);
+        let f = sample(next, &mut below)?;
+        lo = hi;
+        hi = Sample::new(next, f);
     }
-    Ok(best)
+    brent(
+        &format!("corner {name}: the load at the current limit"),
+        |k| sample(k, &mut below),
+        lo,
+        hi,
+        LOAD_SEARCH_TOLERANCE,
+        LOAD_SEARCH_MAX_EVALUATIONS,
+    )?;
+    Ok(below.into_named(name))
 }
 
 /// The operating point at which the duty cycle reaches the controller's maximum, found by
-/// bisection on the load between light load and `above` (a load whose duty exceeds it). The
-/// duty rises with load: the bulk valley falls (CCM D = V_r/(V + V_r)) and, in DCM,
-/// D = √(2·P·L·f)/V grows with P.
-fn at_duty_limit(ctx: &Context, name: &str, line: f64, above: f64) -> Result<OperatingPoint> {
+/// Brent's method on the load between light load (`light`, this line's light-load corner) and
+/// `above` (a point whose duty exceeds it). The duty rises with load: the bulk valley falls
+/// (CCM D = V_r/(V + V_r)) and, in DCM, D = √(2·P·L·f)/V grows with P. An infeasible load
+/// counts as above the limit.
+fn at_duty_limit(
+    ctx: &Context,
+    name: &str,
+    light: &OperatingPoint,
+    above: &OperatingPoint,
+) -> Result<OperatingPoint> {
     let dmax = ctx.spec.max_duty_cycle;
-    let mut lo = ctx.spec.light_load_fraction;
-    let mut best = ctx.evaluate(name, line, lo)?;
-    if best.duty_cycle >= dmax {
+    let line = light.line_voltage.value;
+    if light.duty_cycle >= dmax {
         return Err(Error::infeasible(format!(
             "corner {name}: the duty cycle reaches `max_duty_cycle` {dmax} below light load"
         )));
     }
-    let mut hi = above;
-    for _ in 0..200 {
-        let mid = 0.5 * (lo + hi);
-        match ctx.evaluate(name, line, mid) {
-            Ok(op) if op.duty_cycle < dmax => {
-                lo = mid;
-                best = op;
+    let mut below = BelowThreshold {
+        best: light.clone(),
+    };
+    brent(
+        &format!("corner {name}: the load at the duty limit"),
+        |k| match ctx.evaluate_near(name, line, k, below.warm()) {
+            Ok(op) => {
+                let f = op.duty_cycle - dmax;
+                below.offer(f, op);
+                Ok(f)
             }
-            Ok(_) => hi = mid,
-            Err(e) if e.kind() == ErrorKind::Infeasible => hi = mid,
-            Err(e) => return Err(e),
-        }
-        if hi - lo < 1e-10 * hi {
-            break;
-        }
-    }
-    Ok(best)
+            Err(e) if e.kind() == ErrorKind::Infeasible => Ok(1.0),
+            Err(e) => Err(e),
+        },
+        Sample::new(light.load_fraction, light.duty_cycle - dmax),
+        Sample::new(above.load_fraction, above.duty_cycle - dmax),
+        LOAD_SEARCH_TOLERANCE,
+        LOAD_SEARCH_MAX_EVALUATIONS,
+    )?;
+    Ok(below.into_named(name))
 }
 
 fn fold_max(xs: impl Iterator<Item = f64>) -> f64 {

@@ -7,14 +7,15 @@ use super::output::{secondary_point, SecondaryPoint, SecondaryWave};
 use super::spec::{EfficiencyModel, FlybackSpec, InputRange};
 use super::waveform::{cycle_for_power, trapezoid_avg, trapezoid_rms, ConductionMode, Cycle};
 use crate::error::{Error, Result};
-use crate::mains::{bulk_capacitor, BulkCapacitorSpec};
+use crate::mains::{bulk_capacitor_near, BulkCapacitorSpec};
 use crate::report::{Field, Record};
 use crate::units::{si, ElectricCurrent, ElectricPotential, Frequency, Power, Quantity, Time};
 
 /// Largest number of efficiency iterations before giving up.
 pub const MAX_EFFICIENCY_ITERATIONS: usize = 200;
-/// The efficiency iteration stops when the change per step falls below this.
-pub const EFFICIENCY_TOLERANCE: f64 = 1e-10;
+/// The efficiency iteration stops when the converter input power changes by less than this
+/// fraction in a step (about the precision results are reported and pinned to, with margin).
+pub const EFFICIENCY_TOLERANCE: f64 = 1e-9;
 
 /// The flyback at one corner of line and load.
 #[derive(Clone, Debug, PartialEq)]
@@ -89,7 +90,7 @@ pub struct OperatingPoint {
     pub efficiency: f64,
     /// Iterations the efficiency took to settle.
     pub efficiency_iterations: usize,
-    /// Change of efficiency in the last iteration.
+    /// Relative change of the converter input power in the last efficiency iteration.
     pub efficiency_residual: f64,
 }
 
@@ -147,6 +148,30 @@ impl Context<'_> {
 
     /// Evaluates a corner at a line voltage (RMS for AC, bus for DC) and a load fraction.
     pub fn evaluate(&self, corner: &str, line: f64, load: f64) -> Result<OperatingPoint> {
+        self.evaluate_near(corner, line, load, None)
+    }
+
+    /// [`Context::evaluate`] started from `warm`, the converter input power per watt of output
+    /// an earlier, nearby evaluation settled at (see [`OperatingPoint::warm_start`]). The result
+    /// is the same to the iteration's tolerance; only the number of iterations changes.
+    ///
+    /// Method: the loss model closes on one unknown, the converter input power x = P_dc. One
+    /// evaluation at x gives the losses and with them G(x) = P_out + P_losses(x) − P_front(x)
+    /// (computed efficiency) or P_line − P_front(x) (a fixed efficiency estimate), where
+    /// P_front are the bridge and bulk-capacitor losses ahead of the converter. The fixed point
+    /// x = G(x) is found by Wegstein's acceleration of the plain iteration x ← G(x): with the
+    /// secant slope s of G over the last two points, x ← (G − s·x)/(1 − s) (the first step takes
+    /// the losses as proportional to the power, s = (G − G(0))/x). A secant slope of
+    /// magnitude one or more means the plain iteration cannot settle (the losses rise as fast
+    /// as the power): that is reported as losses running away, as before. An accelerated step
+    /// that lands where the bulk capacitor gives out is retried as a plain step.
+    pub fn evaluate_near(
+        &self,
+        corner: &str,
+        line: f64,
+        load: f64,
+        warm: Option<f64>,
+    ) -> Result<OperatingPoint> {
         let s = self.spec;
         let lp = &s.losses;
         let pout = self.output_power(load);
@@ -160,48 +185,50 @@ impl Context<'_> {
             None => lp.controller_power.value,
         };
         let transformer = lp.transformer_loss_fraction * pout;
-        let (mut eta, fixed) = match s.efficiency {
+        let (eta_start, fixed) = match s.efficiency {
             EfficiencyModel::Estimate(x) => (x, true),
             EfficiencyModel::Computed { start } => (start, false),
         };
+        let p_line_fixed = pout / eta_start;
+        // the plain iteration's first point, P_out/η_start with no input-side losses yet
+        let x_first = pout / eta_start;
+        let mut x = warm
+            .map(|r| r * pout)
+            .filter(|x| *x > 0.0 && x.is_finite() && !fixed)
+            .unwrap_or(x_first);
         let mut front = 0.0;
         let mut iterations = 0;
         let mut residual = f64::INFINITY;
         let mut last: Option<OperatingPoint> = None;
-        let mut last_step = f64::INFINITY;
-        let mut first_p_line = None;
+        // the last point of the iteration, (x, G(x)), and whether x was an accelerated step
+        let mut previous: Option<(f64, f64)> = None;
+        let mut accelerated = false;
+        // the conduction time of the last step starts the next valley solve
+        let mut valley_hint = None;
         // losses drawn from the input outside the magnetising inductance (from the last step)
         let mut direct = 0.0;
         let bias_supplies_controller = s.bias.is_some();
         while iterations < MAX_EFFICIENCY_ITERATIONS {
             iterations += 1;
-            let p_line = pout / eta;
-            first_p_line.get_or_insert(p_line);
-            let p_dc = p_line - front;
+            let p_line = if fixed { p_line_fixed } else { x + front };
+            let p_dc = x;
             if !(p_dc > 0.0 && p_dc.is_finite()) {
                 return Err(Error::infeasible(format!(
                     "corner {corner}: the input-side losses exceed the input power; check `bridge_diode_drop` and `bulk_esr`"
                 )));
             }
-            let (vpk, vval, tc, i_lf, i_bridge_avg) = match s.input {
-                InputRange::Ac { line_frequency, .. } => {
-                    let b = bulk_capacitor(&BulkCapacitorSpec {
+            let bulk = match s.input {
+                InputRange::Ac { line_frequency, .. } => bulk_capacitor_near(
+                    &BulkCapacitorSpec {
                         line_voltage_rms: si(line),
                         line_frequency,
                         input_power: si(p_dc),
                         capacitance: si(self.bulk_capacitance),
                         bridge_diode_drop: s.bridge_diode_drop,
-                    })
-                    .map_err(|e| {
-                        // the bulk capacitor gave out while the iteration was pushing the
-                        // input power up: that is the losses running away
-                        match (&last, first_p_line) {
-                            (Some(op), Some(p0)) if !fixed && p_line > 1.5 * p0 => {
-                                runaway(corner, &op.losses, pout)
-                            }
-                            _ => e.context(&format!("corner {corner}")),
-                        }
-                    })?;
+                    },
+                    valley_hint,
+                )
+                .map(|b| {
                     (
                         b.peak_voltage.value,
                         b.valley_voltage.value,
@@ -209,9 +236,34 @@ impl Context<'_> {
                         b.ripple_current_rms.value,
                         b.bridge_current_avg.value,
                     )
-                }
-                InputRange::Dc { .. } => (line, line, 0.0, 0.0, 0.0),
+                }),
+                InputRange::Dc { .. } => Ok((line, line, 0.0, 0.0, 0.0)),
             };
+            let (vpk, vval, tc, i_lf, i_bridge_avg) = match bulk {
+                Ok(b) => b,
+                // an accelerated step overshot where the capacitor gives out: step plainly
+                Err(_) if accelerated => {
+                    if let Some((_, g)) = previous {
+                        x = g;
+                    }
+                    accelerated = false;
+                    continue;
+                }
+                // the bulk capacitor gave out while the iteration was pushing the input power
+                // up: that is the losses running away
+                Err(e) => {
+                    return Err(match &last {
+                        Some(op) if !fixed && p_dc > 1.5 * x_first => {
+                            runaway(corner, &op.losses, pout)
+                        }
+                        _ => e.context(&format!("corner {corner}")),
+                    })
+                }
+            };
+            valley_hint = Some(tc);
+            // the magnetising cycle carries the power through the inductance: the converter
+            // input less what the switch, the leakage and (without a bias winding) the
+            // controller draw outside it
             let p_mag = if fixed {
                 p_dc
             } else {
@@ -219,17 +271,26 @@ impl Context<'_> {
             };
             let f_op = self.operating_frequency(vval, p_mag);
             let cyc = cycle_for_power(self.l, vval, p_mag, self.vr, f_op);
-            let point = self.assemble(
-                corner, line, load, pout, p_line, p_dc, p_mag, vpk, vval, tc, i_lf, &cyc, f_op,
+            // the secondaries' vector of the last point is reused: no allocation per step
+            let spare = last
+                .as_mut()
+                .map(|op| std::mem::take(&mut op.secondaries))
+                .unwrap_or_default();
+            let mut op = self.assemble(
+                spare, line, load, pout, p_line, p_dc, p_mag, vpk, vval, tc, i_lf, &cyc, f_op,
             );
-            let (mut op, bridge_avg) = (point, i_bridge_avg);
             let b = &mut op.losses;
             b.output_rectifiers = si(rect_loss);
             b.controller = si(controller);
             b.transformer = si(transformer);
-            b.bridge = si(2.0 * s.bridge_diode_drop.value * bridge_avg);
+            b.bridge = si(2.0 * s.bridge_diode_drop.value * i_bridge_avg);
             b.bulk_capacitor = si(op.bulk_ripple_current_rms.value.powi(2) * lp.bulk_esr.value);
-            let front_new = b.bridge.value + b.bulk_capacitor.value;
+            front = b.bridge.value + b.bulk_capacitor.value;
+            let g = if fixed {
+                p_line_fixed - front
+            } else {
+                pout + b.modelled_losses().value - front
+            };
             let ipk = op.primary_current_peak.value;
             let direct_new = b.switch_conduction.value
                 + b.switch_capacitive.value
@@ -240,28 +301,57 @@ impl Context<'_> {
                 } else {
                     controller
                 };
-            let total = b.modelled_losses().value;
-            let eta_new = if fixed { eta } else { pout / (pout + total) };
-            // a converging iteration shrinks its steps; growing steps mean the losses rise
-            // faster than the power (no efficiency satisfies the model)
-            let step = (eta_new - eta).abs();
-            if !fixed && iterations >= 4 && step > 1.2 * last_step && step > 1e-6 {
-                return Err(runaway(corner, b, pout));
-            }
-            last_step = step;
-            residual = (eta_new - eta).abs()
-                + (front_new - front).abs() / p_line
-                + if fixed {
-                    0.0
-                } else {
-                    (direct_new - direct).abs() / p_line
-                };
-            eta = eta_new;
-            front = front_new;
+            // two unknowns settle together: the converter input power x (accelerated) and
+            // the direct losses (taken from the last step)
+            let direct_step = if fixed {
+                0.0
+            } else {
+                (direct_new - direct).abs() / x
+            };
+            residual = (g - x).abs() / x + direct_step;
             direct = direct_new;
+            let converged = residual < EFFICIENCY_TOLERANCE;
+            // while the direct losses still move, G itself moves between steps: a secant over
+            // two of its versions is no slope, so such a step is taken plainly and starts a
+            // new secant
+            let direct_moving = direct_step > 1e-6;
+            if direct_moving {
+                previous = None;
+            }
+            let slope = previous.and_then(|(x0, g0)| {
+                // a secant over a step below 1e-7 relative is round-off, not slope
+                ((x - x0).abs() > 1e-7 * x).then(|| (g - g0) / (x - x0))
+            });
+            if !fixed && !converged {
+                if let Some(sl) = slope {
+                    // |G′| ≥ 1: the plain iteration's steps grow, no efficiency satisfies
+                    // the model
+                    if sl.abs() >= 1.0 && (g - x).abs() > 1e-6 * x {
+                        return Err(runaway(corner, b, pout));
+                    }
+                }
+            }
             last = Some(op);
-            if residual < EFFICIENCY_TOLERANCE {
+            if converged {
                 break;
+            }
+            // before a secant exists, take the losses as proportional to the power drawn: the
+            // slope of G is then (G − G(0))/x, with G(0) = P_out, or P_line for a fixed estimate
+            let first_slope = (previous.is_none() && !direct_moving)
+                .then(|| (g - if fixed { p_line_fixed } else { pout }) / x);
+            previous = Some((x, g));
+            match slope
+                .or(first_slope)
+                .filter(|sl| sl.is_finite() && sl.abs() < 0.95)
+            {
+                Some(sl) => {
+                    x = (g - sl * x) / (1.0 - sl);
+                    accelerated = true;
+                }
+                None => {
+                    x = g;
+                    accelerated = false;
+                }
             }
         }
         let mut op = last.ok_or_else(|| Error::infeasible("no efficiency iteration ran"))?;
@@ -270,6 +360,7 @@ impl Context<'_> {
                 "corner {corner}: the efficiency did not settle in {MAX_EFFICIENCY_ITERATIONS} iterations (residual {residual:.2e})"
             )));
         }
+        op.corner = corner.to_string();
         let b = &mut op.losses;
         b.unaccounted = si(op.input_power.value - pout - b.modelled_losses().value);
         if !fixed {
@@ -286,7 +377,7 @@ impl Context<'_> {
     #[allow(clippy::too_many_arguments)]
     fn assemble(
         &self,
-        corner: &str,
+        spare: Vec<SecondaryPoint>,
         line: f64,
         load: f64,
         pout: f64,
@@ -334,29 +425,26 @@ impl Context<'_> {
             i_after_reset: (ipk - self.vr * t_reset / self.l).max(0.0),
             t_dem,
         };
-        let secondaries: Vec<SecondaryPoint> = s
-            .outputs
-            .iter()
-            .enumerate()
-            .map(|(k, o)| {
-                secondary_point(
-                    load * o.current.value,
-                    if all_power > 0.0 {
-                        winding_power(o) / all_power
-                    } else {
-                        0.0
-                    },
-                    &wave,
-                    f,
-                    vpk,
-                    self.turns[k],
-                    o.voltage.value,
-                    o.capacitance.value,
-                    o.esr.value,
-                    self.filter_gain[k],
-                )
-            })
-            .collect();
+        let mut secondaries = spare;
+        secondaries.clear();
+        secondaries.extend(s.outputs.iter().enumerate().map(|(k, o)| {
+            secondary_point(
+                load * o.current.value,
+                if all_power > 0.0 {
+                    winding_power(o) / all_power
+                } else {
+                    0.0
+                },
+                &wave,
+                f,
+                vpk,
+                self.turns[k],
+                o.voltage.value,
+                o.capacitance.value,
+                o.esr.value,
+                self.filter_gain[k],
+            )
+        }));
         let rds = lp.switch_on_resistance.value * lp.on_resistance_hot_factor;
         let coss = lp.switch_output_capacitance.value;
         // CCM: the switch turns on at V_in + V_r. DCM: after demagnetisation the drain rings
@@ -393,7 +481,8 @@ impl Context<'_> {
             ..LossBudget::default()
         };
         OperatingPoint {
-            corner: corner.to_string(),
+            // named once the iteration has settled (no allocation per step)
+            corner: String::new(),
             line_voltage: si(line),
             load_fraction: load,
             output_power: si(pout),
@@ -431,6 +520,14 @@ impl Context<'_> {
 }
 
 crate::serialize_as_record!(OperatingPoint);
+
+impl OperatingPoint {
+    /// Converter input power per watt of output at this point: the warm start for
+    /// `Context::evaluate_near` at a nearby corner or load.
+    pub(crate) fn warm_start(&self) -> f64 {
+        self.converter_input_power.value / self.output_power.value
+    }
+}
 
 impl Record for OperatingPoint {
     fn fields(&self) -> Vec<Field> {

@@ -3,7 +3,7 @@
 
 use super::material::SteinmetzBand;
 use crate::error::{Error, Result};
-use crate::units::validate::{non_negative, positive};
+use crate::units::validate::{finite_result, non_negative, positive};
 use crate::units::{si, Frequency, MagneticFluxDensity, Time, VolumetricPowerDensity};
 use std::f64::consts::PI;
 
@@ -19,6 +19,26 @@ pub struct FluxSegment {
 /// ∫₀^{2π} |cos θ|^α dθ by composite Simpson's rule (4000 intervals; the integrand is
 /// smooth enough for α ≥ 1 that the error is below 1e-9).
 fn cos_power_integral(alpha: f64) -> f64 {
+    // the integral depends on α alone and costs 4000 powers: keep the last few per thread
+    // (the same numbers, computed once per material band instead of once per call)
+    thread_local! {
+        static KNOWN: std::cell::Cell<[(u64, f64); 4]> =
+            const { std::cell::Cell::new([(u64::MAX, 0.0); 4]) };
+    }
+    let key = alpha.to_bits();
+    let known = KNOWN.with(|k| k.get());
+    if let Some((_, v)) = known.iter().find(|(k, _)| *k == key) {
+        return *v;
+    }
+    let v = cos_power_integral_uncached(alpha);
+    let mut next = known;
+    next.rotate_right(1);
+    next[0] = (key, v);
+    KNOWN.with(|k| k.set(next));
+    v
+}
+
+fn cos_power_integral_uncached(alpha: f64) -> f64 {
     let n = 4000;
     let h = 2.0 * PI / n as f64;
     let f = |t: f64| t.cos().abs().powf(alpha);
@@ -106,7 +126,11 @@ pub fn igse_loss_density(
         .filter(|s| s.change.value != 0.0)
         .map(|s| (s.change.value / s.duration.value).abs().powf(a) * s.duration.value)
         .sum();
-    Ok(si(ki * swing.powf(band.beta - a) * sum / period))
+    finite_result(
+        "iGSE loss density",
+        si(ki * swing.powf(band.beta - a) * sum / period),
+        "the flux swing or its rate of change are",
+    )
 }
 
 /// iGSE loss density of a uniformly sampled flux waveform covering exactly one period
@@ -149,7 +173,7 @@ pub fn flyback_flux_segments(
     fall_time: Time,
     period: Time,
 ) -> Result<Vec<FluxSegment>> {
-    let db = non_negative("flux swing", swing)?.value;
+    let db = non_negative("flux_swing", swing)?.value;
     let tr = positive("rise_time", rise_time)?.value;
     let tf = positive("fall_time", fall_time)?.value;
     let t = positive("period", period)?.value;

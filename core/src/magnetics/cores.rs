@@ -4,7 +4,7 @@
 use crate::error::{Error, Result};
 use crate::report::{Field, Record};
 use crate::units::validate::positive;
-use crate::units::{si, Area, Length, Volume};
+use crate::units::{si, Area, Length, Quantity, Volume};
 use std::f64::consts::PI;
 
 /// A core family (IEC 62317 shape families, plus toroids).
@@ -172,16 +172,16 @@ impl Core {
     /// Bobbin winding width and height use a common-practice wall allowance. Reference:
     /// IEC 60205 (calculation of the effective parameters of magnetic piece parts).
     pub fn paired(name: &str, family: CoreFamily, d: &PairedCoreDimensions) -> Result<Core> {
-        let a = positive("overall_width", d.overall_width)?.value;
-        let hh = positive("overall_height", d.overall_height)?.value;
-        let c = positive("depth", d.depth)?.value;
-        let wh = positive("window_height", d.window_height)?.value;
-        let ww = positive("window_width", d.window_width)?.value;
-        let f = positive("centre_leg_width", d.centre_leg_width)?.value;
+        let a = core_dimension("overall_width", d.overall_width)?.value;
+        let hh = core_dimension("overall_height", d.overall_height)?.value;
+        let c = core_dimension("depth", d.depth)?.value;
+        let wh = core_dimension("window_height", d.window_height)?.value;
+        let ww = core_dimension("window_width", d.window_width)?.value;
+        let f = core_dimension("centre_leg_width", d.centre_leg_width)?.value;
         let g = if d.round_centre_leg {
             f
         } else {
-            positive("centre_leg_depth", d.centre_leg_depth)?.value
+            core_dimension("centre_leg_depth", d.centre_leg_depth)?.value
         };
         if wh >= hh || ww >= a || f >= ww {
             return Err(Error::invalid(format!(
@@ -264,9 +264,9 @@ impl Core {
     /// Window = π·r1²; winding width = inner circumference; winding height r1/2 (common
     /// practice, no published source, leaves a hole for the shuttle). Reference: IEC 60205.
     pub fn toroid(name: &str, d: &ToroidDimensions) -> Result<Core> {
-        let r2 = positive("outer_diameter", d.outer_diameter)?.value / 2.0;
-        let r1 = positive("inner_diameter", d.inner_diameter)?.value / 2.0;
-        let h = positive("height", d.height)?.value;
+        let r2 = core_dimension("outer_diameter", d.outer_diameter)?.value / 2.0;
+        let r1 = core_dimension("inner_diameter", d.inner_diameter)?.value / 2.0;
+        let h = core_dimension("height", d.height)?.value;
         if r1 >= r2 {
             return Err(Error::invalid(format!(
                 "toroid `{name}`: inner_diameter ({:.3} mm) must be below outer_diameter ({:.3} mm)",
@@ -615,6 +615,19 @@ pub fn core_from_built_in_dimensions(name: &str) -> Result<Core> {
 
 /// Every built-in core, smallest effective volume first.
 pub fn core_shapes() -> Result<Vec<Core>> {
+    built_in_shapes().map(<[Core]>::to_vec)
+}
+
+/// The built-in cores, computed from their tables once per process (they are constants).
+fn built_in_shapes() -> Result<&'static [Core]> {
+    static SHAPES: std::sync::OnceLock<Result<Vec<Core>>> = std::sync::OnceLock::new();
+    match SHAPES.get_or_init(build_core_shapes) {
+        Ok(v) => Ok(v),
+        Err(e) => Err(e.clone()),
+    }
+}
+
+fn build_core_shapes() -> Result<Vec<Core>> {
     let mut out = Vec::new();
     for e in PAIRED {
         out.push(build_paired(e)?);
@@ -649,7 +662,7 @@ fn normalise(name: &str) -> String {
 /// name and lists them all.
 pub fn core_by_size(name: &str) -> Result<Core> {
     let want = normalise(name);
-    let all = core_shapes()?;
+    let all = built_in_shapes()?;
     if let Some(c) = all.iter().find(|c| normalise(&c.name) == want) {
         return Ok(c.clone());
     }
@@ -659,6 +672,22 @@ pub fn core_by_size(name: &str) -> Result<Core> {
         crate::script::suggest::did_you_mean(name, &names),
         names.join(", ")
     )))
+}
+
+/// The largest core dimension accepted: power ferrite cores are well below a fifth of this.
+const LARGEST_CORE_DIMENSION_M: f64 = 1.0;
+
+/// A core dimension: positive and at most [`LARGEST_CORE_DIMENSION_M`] (beyond it the
+/// effective parameters would describe no ferrite core, and their squares may overflow).
+fn core_dimension(name: &str, l: Length) -> Result<Length> {
+    let l = positive(name, l)?;
+    if l.value > LARGEST_CORE_DIMENSION_M {
+        return Err(Error::out_of_range(format!(
+            "`{name}` = {} is above {LARGEST_CORE_DIMENSION_M} m, outside the range of ferrite cores",
+            Quantity::from_typed(l)
+        )));
+    }
+    Ok(l)
 }
 
 #[cfg(test)]

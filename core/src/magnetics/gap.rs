@@ -5,8 +5,9 @@
 use super::conductor::VACUUM_PERMEABILITY as MU0;
 use super::cores::Core;
 use crate::error::{Error, Result};
+use crate::numeric::{brent, Sample, Tolerance};
 use crate::report::{Field, Record};
-use crate::units::validate::{non_negative, positive, positive_number};
+use crate::units::validate::{finite_result, non_negative, positive, positive_number};
 use crate::units::{si, Inductance, Length};
 
 /// Where the gap is made.
@@ -111,10 +112,10 @@ pub fn inductance_for_air_gap(
     let n = positive_number("turns", turns)?;
     let g = non_negative("gap", gap)?.value;
     let r = core_reluctance(core, relative_permeability)? + gap_reluctance(core, g, placement)?;
-    Ok(si(n * n / r))
+    finite_result("inductance", si(n * n / r), "`turns` or `gap` are")
 }
 
-/// Solves R_gap(g) = needed by bisection (R_gap rises monotonically with g).
+/// Solves R_gap(g) = needed by Brent's method to 1 pm (R_gap rises monotonically with g).
 fn solve_gap(core: &Core, needed: f64, placement: GapPlacement) -> Result<f64> {
     if !(needed.is_finite() && needed > 0.0) {
         return Err(Error::infeasible(
@@ -122,26 +123,22 @@ fn solve_gap(core: &Core, needed: f64, placement: GapPlacement) -> Result<f64> {
         ));
     }
     let hi_limit = window_height(core) * 0.5;
-    let mut lo = 0.0;
-    let mut hi = hi_limit;
-    if gap_reluctance(core, hi, placement)? < needed {
+    let at_limit = gap_reluctance(core, hi_limit, placement)?;
+    if at_limit < needed {
         return Err(Error::infeasible(format!(
             "the wanted inductance needs a gap above {:.3} mm (half the window height); use more turns or a larger core",
             hi_limit * 1e3
         )));
     }
-    for _ in 0..200 {
-        let mid = 0.5 * (lo + hi);
-        if gap_reluctance(core, mid, placement)? < needed {
-            lo = mid;
-        } else {
-            hi = mid;
-        }
-        if hi - lo < 1e-12 {
-            break;
-        }
-    }
-    Ok(0.5 * (lo + hi))
+    let root = brent(
+        "the air gap",
+        |g| Ok(gap_reluctance(core, g, placement)? - needed),
+        Sample::new(0.0, gap_reluctance(core, 0.0, placement)? - needed),
+        Sample::new(hi_limit, at_limit - needed),
+        Tolerance::absolute(1e-12),
+        200,
+    )?;
+    Ok(root.x)
 }
 
 /// The gap for a wanted inductance, with everything a bench check needs.
@@ -228,7 +225,7 @@ pub(crate) fn gap_for_given_length(
 
 /// The air gap for a target inductance with N turns: solves
 /// N²/L = le/(µ0·µr·Ae) + R_gap(lg) for lg, where R_gap includes McLyman's fringing factor,
-/// which itself depends on lg — so the solution is iterated (bisection to 1 pm).
+/// which itself depends on lg — so the solution is iterated (Brent's method to 1 pm).
 /// Assumptions and reference as [`inductance_for_air_gap`]. An error when the core alone is
 /// already below the target (no gap can raise inductance) or the gap would exceed half the
 /// window height.

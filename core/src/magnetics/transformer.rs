@@ -519,7 +519,9 @@ fn transformer_build(
         Some(GivenMagnetising::Gap(g)) => super::gap::gap_for_given_length(
             core,
             np as f64,
-            non_negative("gap", g)?,
+            positive("gap", g).map_err(|e| {
+                e.context("a flyback core stores its energy in a gap; for an ungapped core give its `measured_inductance` instead")
+            })?,
             spec.gap_placement,
             mat.working_permeability,
         )?,

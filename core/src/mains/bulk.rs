@@ -2,13 +2,14 @@
 //! bridge conduction time, ripple current, hold-up time at constant power, and sizing.
 
 use crate::error::{Error, Result};
+use crate::numeric::{newton_bracketed, Sample, Tolerance};
 use crate::report::{Field, Record};
-use crate::units::validate::{non_negative, positive};
+use crate::units::validate::{finite_result, non_negative, positive};
 use crate::units::{
     si, Capacitance, Dimension, ElectricCurrent, ElectricPotential, Frequency, Power, Quantity,
     Time,
 };
-use std::f64::consts::{PI, SQRT_2};
+use std::f64::consts::{FRAC_PI_2, PI, SQRT_2};
 
 /// What the bulk capacitor sees at one line voltage and load.
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -61,7 +62,8 @@ fn peak_of(line_rms: f64, bridge: f64) -> f64 {
 /// Formula: the capacitor gives up ½·C·(V_pk² − V_min²) while the converter draws
 /// P·(1/(2·f_line) − t_c), with the conduction time t_c = arccos(V_min/V_pk)/(2π·f_line) —
 /// the time from the valley, on the rising rectified sine, back up to the peak. The equation is
-/// solved for V_min by bisection (it is monotonic). The ripple current is that of a
+/// solved for the conduction angle ω·t_c (V_min = V_pk·cos ω·t_c) by a bracketed Newton method
+/// (it is monotonic), to 1e-11 relative. The ripple current is that of a
 /// triangular bridge-current pulse of width t_c carrying the charge of a half cycle, minus the
 /// converter's (constant) average current: I_C,rms = I_avg·√(4/(3·2·f_line·t_c) − 1).
 /// Assumes constant power, an ideal sine line, an ideal bridge with a fixed drop, and no
@@ -74,6 +76,24 @@ fn peak_of(line_rms: f64, bridge: f64) -> f64 {
 /// µF/W comparison (2–3 µF/W universal input, about 1 µF/W for 230 V only) is
 /// common practice, no published source.
 pub fn bulk_capacitor(spec: &BulkCapacitorSpec) -> Result<BulkCapacitor> {
+    bulk_capacitor_near(spec, None)
+}
+
+/// Relative tolerance of the conduction angle (the solver's last step; the error after it is
+/// of the order of its square).
+const VALLEY_TOLERANCE: Tolerance = Tolerance::relative(1e-11);
+/// Most evaluations of the energy balance one valley solve may take (a cold start takes about
+/// five, a warm one two or three).
+const VALLEY_MAX_EVALUATIONS: usize = 100;
+
+/// [`bulk_capacitor`] with a starting point for the valley solve: the conduction time an
+/// earlier, nearby solution found (another efficiency iteration of the same corner), in
+/// seconds. The result is the same to the solver's tolerance; only the number of steps
+/// changes. A guess outside the quarter line cycle is ignored.
+pub(crate) fn bulk_capacitor_near(
+    spec: &BulkCapacitorSpec,
+    conduction_guess: Option<f64>,
+) -> Result<BulkCapacitor> {
     let vrms = positive("line_voltage_rms", spec.line_voltage_rms)?.value;
     let fl = positive("line_frequency", spec.line_frequency)?.value;
     let p = positive("input_power", spec.input_power)?.value;
@@ -89,9 +109,12 @@ pub fn bulk_capacitor(spec: &BulkCapacitorSpec) -> Result<BulkCapacitor> {
     }
     let half = 0.5 / fl;
     let w = 2.0 * PI * fl;
-    let tc_of = |v: f64| (v / vpk).clamp(-1.0, 1.0).acos() / w;
-    let g = |v: f64| 0.5 * c * (vpk * vpk - v * v) - p * (half - tc_of(v));
-    if g(0.0) <= 0.0 {
+    // the energy balance in the conduction angle θ = ω·t_c, V_min = V_pk·cos θ:
+    // g(θ) = ½·C·V_pk²·sin²θ − P·(1/(2·f_line) − θ/ω), rising from g(0) = −P/(2·f_line) to
+    // g(π/2) (the valley at zero), with g′(θ) = C·V_pk²·sin θ·cos θ + P/ω > 0
+    let e_pk = 0.5 * c * vpk * vpk;
+    let at_zero_valley = e_pk - p * (half - 0.25 / fl);
+    if at_zero_valley <= 0.0 {
         return Err(Error::infeasible(format!(
             "`bulk_capacitance` {} is too small for {} at {} RMS: the capacitor would discharge \
              to zero within a half line cycle; it needs more than {}",
@@ -104,20 +127,41 @@ pub fn bulk_capacitor(spec: &BulkCapacitorSpec) -> Result<BulkCapacitor> {
             )
         )));
     }
-    let (mut lo, mut hi) = (0.0, vpk);
-    for _ in 0..100 {
-        let mid = 0.5 * (lo + hi);
-        if g(mid) > 0.0 {
-            lo = mid;
-        } else {
-            hi = mid;
-        }
-        if hi - lo <= 1e-12 * vpk {
-            break;
-        }
-    }
-    let vmin = 0.5 * (lo + hi);
-    let tc = tc_of(vmin).max(1e-9);
+    // the sine and cosine of the last angle evaluated, to finish without another one
+    let mut last = (f64::NAN, 0.0, 1.0);
+    let mut g = |theta: f64| -> Result<(f64, f64)> {
+        let (sin, cos) = theta.sin_cos();
+        last = (theta, sin, cos);
+        Ok((
+            e_pk * sin * sin - p * (half - theta / w),
+            2.0 * e_pk * sin * cos + p / w,
+        ))
+    };
+    // cold start: the valley without conduction time, sin²θ = P/(C·V_pk²·f_line), a little low
+    let guess = conduction_guess
+        .map(|t| t * w)
+        .filter(|t| *t > 0.0 && *t < FRAC_PI_2)
+        .unwrap_or_else(|| (p / (c * vpk * vpk * fl)).min(1.0).sqrt().asin());
+    let root = newton_bracketed(
+        "the bulk capacitor's valley voltage",
+        &mut g,
+        Sample::new(0.0, -p * half),
+        Sample::new(FRAC_PI_2, at_zero_valley),
+        Some(guess),
+        VALLEY_TOLERANCE,
+        VALLEY_MAX_EVALUATIONS,
+    )?;
+    // cos θ at the root from the last evaluation: the step δ is below the tolerance, so the
+    // second-order expansion is exact to round-off
+    let (theta_last, sin_last, cos_last) = last;
+    let cos_root = if theta_last.is_nan() {
+        root.x.cos()
+    } else {
+        let d = root.x - theta_last;
+        cos_last - sin_last * d - 0.5 * cos_last * d * d
+    };
+    let vmin = (vpk * cos_root).clamp(0.0, vpk);
+    let tc = (root.x / w).max(1e-9);
     let vavg = 0.5 * (vpk + vmin);
     let iavg = p / vavg;
     // a triangular pulse of width tc, repeated every half cycle, with mean iavg
@@ -195,7 +239,11 @@ pub fn hold_up_time(
             Quantity::from_typed(start_voltage)
         )));
     }
-    Ok(si(c * (v0 * v0 - v1 * v1) / (2.0 * p)))
+    finite_result(
+        "hold-up time",
+        si(c * (v0 * v0 - v1 * v1) / (2.0 * p)),
+        "`capacitance`, `start_voltage` or `power` are",
+    )
 }
 
 crate::serialize_as_record!(BulkCapacitor);

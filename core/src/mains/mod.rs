@@ -3,6 +3,7 @@
 
 mod bulk;
 
+pub(crate) use bulk::bulk_capacitor_near;
 pub use bulk::{
     bulk_capacitance_for_valley, bulk_capacitor, hold_up_time, BulkCapacitor, BulkCapacitorSpec,
 };

@@ -126,12 +126,14 @@ fn check_value(x: f64) -> Result<f64> {
     }
 }
 
-/// Candidate preferred values around `x`: the decade of x, one below and one above.
+/// Candidate preferred values around `x`: the decade of x, one below and one above, as
+/// m·10^d with binary noise left in (the caller rounds the one it picks with [`round_to`]:
+/// the noise is some 1e-16 relative, far below every comparison's 1e-9 margin).
 fn candidates(x: f64, series: ESeries) -> impl Iterator<Item = f64> {
     let decade = x.log10().floor() as i32;
     (decade - 1..=decade + 1).flat_map(move |d| {
         let p = 10f64.powi(d);
-        series.mantissas().iter().map(move |m| round_to(m * p))
+        series.mantissas().iter().map(move |m| m * p)
     })
 }
 
@@ -149,6 +151,7 @@ pub(crate) fn nearest_value(x: f64, series: ESeries) -> Result<f64> {
             let db = (b / x).ln().abs();
             da.total_cmp(&db)
         })
+        .map(round_to)
         .ok_or_else(|| Error::invalid("empty series"))
 }
 
@@ -157,6 +160,7 @@ pub(crate) fn at_or_above_value(x: f64, series: ESeries) -> Result<f64> {
     candidates(x, series)
         .filter(|c| *c >= x * (1.0 - 1e-9))
         .min_by(f64::total_cmp)
+        .map(round_to)
         .ok_or_else(|| Error::invalid("empty series"))
 }
 
@@ -165,13 +169,14 @@ pub(crate) fn at_or_below_value(x: f64, series: ESeries) -> Result<f64> {
     candidates(x, series)
         .filter(|c| *c <= x * (1.0 + 1e-9))
         .max_by(f64::total_cmp)
+        .map(round_to)
         .ok_or_else(|| Error::invalid("empty series"))
 }
 
 /// Every preferred value of a series from `low` to `high` inclusive.
 pub(crate) fn values_between(low: f64, high: f64, series: ESeries) -> Result<Vec<f64>> {
-    let low = check_value(low)?;
-    let high = check_value(high)?;
+    let low = check_value(low).map_err(|e| e.context("`low`"))?;
+    let high = check_value(high).map_err(|e| e.context("`high`"))?;
     if high < low {
         return Err(Error::invalid(format!(
             "the upper end ({}) is below the lower end ({})",

@@ -88,7 +88,7 @@ impl MaterialGroup {
     pub fn from_cti(cti: f64) -> Result<Self> {
         if !cti.is_finite() {
             return Err(Error::invalid(format!(
-                "`comparative_tracking_index` must be a finite number of volts, got {}",
+                "`cti` (comparative tracking index) must be a finite number of volts, got {}",
                 format_number(cti)
             )));
         }
@@ -98,7 +98,7 @@ impl MaterialGroup {
             }
         }
         Err(Error::out_of_range(format!(
-            "`comparative_tracking_index` = {} V is below 100 V, the lowest group (IIIb) of {}",
+            "`cti` (comparative tracking index) = {} V is below 100 V, the lowest group (IIIb) of {}",
             format_number(cti),
             MATERIAL_GROUP_SOURCE.cite()
         )))

@@ -78,7 +78,7 @@ pub fn barrier_checks(
         r,
         "clearance",
         Quantity::from_typed(r.clearance),
-        len("clearance", provided.clearance)?,
+        len("provided_clearance", provided.clearance)?,
         &r.clearance_rule,
         ISOLATION_WARN_MARGIN,
     )?;
@@ -87,7 +87,7 @@ pub fn barrier_checks(
         r,
         "creepage",
         Quantity::from_typed(r.creepage),
-        len("creepage", provided.creepage)?,
+        len("provided_creepage", provided.creepage)?,
         &r.creepage_rule,
         ISOLATION_WARN_MARGIN,
     )?;
@@ -96,7 +96,10 @@ pub fn barrier_checks(
         r,
         "creepage_printed_board",
         Quantity::from_typed(r.creepage_printed_board),
-        len("creepage_printed_board", provided.creepage_printed_board)?,
+        len(
+            "provided_creepage_printed_board",
+            provided.creepage_printed_board,
+        )?,
         &r.creepage_printed_board_rule,
         ISOLATION_WARN_MARGIN,
     )?;
@@ -106,7 +109,7 @@ pub fn barrier_checks(
         "distance_through_insulation",
         Quantity::from_typed(r.distance_through_insulation),
         len(
-            "distance_through_insulation",
+            "provided_distance_through_insulation",
             provided.distance_through_insulation,
         )?,
         &r.solid_insulation_rule,
@@ -115,7 +118,7 @@ pub fn barrier_checks(
     if let Some(n) = provided.thin_sheet_layers {
         if n < 0 {
             return Err(crate::Error::invalid(format!(
-                "`thin_sheet_layers` must be zero or more, got {n}"
+                "`provided_thin_sheet_layers` must be zero or more, got {n}"
             )));
         }
         let needed = if provided.thin_sheet_each_layer_tested {

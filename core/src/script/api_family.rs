@@ -218,7 +218,18 @@ fn run_family(
                 }
                 let vctx =
                     NativeCallContext::new_with_all_fields(engine, fn_name, source, global, pos);
-                let r = f.call_raw(&vctx, None, [v.clone()]);
+                // a panic in native code (a bug, or an embedder's function) fails this variant
+                // only: it becomes the variant's error row and the others go on
+                let call = std::panic::AssertUnwindSafe(|| f.call_raw(&vctx, None, [v.clone()]));
+                let r = match std::panic::catch_unwind(call) {
+                    Ok(r) => r,
+                    Err(payload) => {
+                        if let Some(p) = &progress {
+                            p(done.fetch_add(1, Ordering::Relaxed) + 1, total);
+                        }
+                        return Ok(Err(panic_message(payload.as_ref())));
+                    }
+                };
                 if let Some(p) = &progress {
                     p(done.fetch_add(1, Ordering::Relaxed) + 1, total);
                 }
@@ -272,6 +283,16 @@ fn run_family(
         }
     }
     Ok(table)
+}
+
+#[cold]
+fn panic_message(payload: &(dyn std::any::Any + Send)) -> String {
+    let what = payload
+        .downcast_ref::<&str>()
+        .map(|s| s.to_string())
+        .or_else(|| payload.downcast_ref::<String>().cloned())
+        .unwrap_or_else(|| "no message".to_string());
+    format!("internal error: native code panicked in this variant ({what}); please report it")
 }
 
 fn grid(axes: &Map, max_rows: usize, orders: &KeyOrders) -> crate::error::Result<Array> {

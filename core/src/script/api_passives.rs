@@ -221,8 +221,8 @@ pub(crate) fn register(api: &mut Api) {
      -> ScriptResult<Array> {
         let lo = lift(dynamic_to_quantity(&lo, "low", None))?;
         let hi = lift(dynamic_to_quantity(&hi, "high", None))?;
-        lift(lo.compare(&hi))?;
         let v = lift(values_between(lo.value(), hi.value(), series(&s)?))?;
+        lift(lo.compare(&hi))?;
         Ok(v.into_iter()
             .map(|x| quantity_to_dynamic(Quantity::new(x, lo.dimension())))
             .collect())

@@ -377,6 +377,17 @@ fn q(d: &Dynamic, name: &str) -> ScriptResult<Quantity> {
     lift(dynamic_to_quantity(d, name, None))
 }
 
+/// Refuses a non-finite quantity, naming the parameter.
+fn finite_in(v: Quantity, name: &str) -> ScriptResult<Quantity> {
+    if v.value().is_finite() {
+        Ok(v)
+    } else {
+        Err(super::convert::script_error(Error::invalid(format!(
+            "`{name}` must be finite, got {v}"
+        ))))
+    }
+}
+
 fn num(x: INT) -> Quantity {
     Quantity::number(x as f64)
 }
@@ -583,14 +594,18 @@ pub(crate) fn register(api: &mut Api, state: &std::sync::Arc<super::host::HostSt
      -> ScriptResult<FLOAT> {
         lift(q(&v, "value")?.value_in(unit.as_str()))
     });
-    def!(api, &SQRT, |v: Quantity| to_dyn(v.sqrt()));
-    def!(api, &ABS, |v: Quantity| quantity_to_dynamic(v.abs()));
+    def!(api, &SQRT, |v: Quantity| to_dyn(
+        finite_in(v, "value")?.sqrt()
+    ));
+    def!(api, &ABS, |v: Quantity| -> ScriptResult<Dynamic> {
+        Ok(quantity_to_dynamic(finite_in(v, "value")?.abs()))
+    });
     def!(api, &MIN, |a: Dynamic, b: Dynamic| to_dyn(
-        q(&a, "a")?.min(&q(&b, "b")?)
+        finite_in(q(&a, "a")?, "a")?.min(&finite_in(q(&b, "b")?, "b")?)
     )
     .map(|d| keep_temperature(d, &a, &b)));
     def!(api, &MAX, |a: Dynamic, b: Dynamic| to_dyn(
-        q(&a, "a")?.max(&q(&b, "b")?)
+        finite_in(q(&a, "a")?, "a")?.max(&finite_in(q(&b, "b")?, "b")?)
     )
     .map(|d| keep_temperature(d, &a, &b)));
     def!(api, &CELSIUS, |t: Dynamic| -> ScriptResult<Quantity> {
@@ -639,6 +654,7 @@ pub(crate) fn register(api: &mut Api, state: &std::sync::Arc<super::host::HostSt
                     f.describe()
                 ))));
             }
+            let f = finite_in(f, "frequency")?;
             Ok(Dynamic::from(Quantity::new(
                 2.0 * std::f64::consts::PI * f.value(),
                 crate::units::Dimension::ANGULAR_FREQUENCY,
@@ -660,6 +676,7 @@ pub(crate) fn register(api: &mut Api, state: &std::sync::Arc<super::host::HostSt
                     w.describe()
                 ))));
             }
+            let w = finite_in(w, "angular_frequency")?;
             Ok(Dynamic::from(Quantity::new(
                 w.value() / (2.0 * std::f64::consts::PI),
                 crate::units::Dimension::FREQUENCY,
@@ -682,7 +699,7 @@ pub(crate) fn register(api: &mut Api, state: &std::sync::Arc<super::host::HostSt
                         a.describe()
                     ))));
                 }
-                Ok(f(a.value()))
+                Ok(f(finite_in(a, "angle")?.value()))
             });
     }
     def!(api, &DIMENSION_OF, |v: Dynamic| -> ScriptResult<String> {
@@ -700,13 +717,24 @@ pub(crate) fn register(api: &mut Api, state: &std::sync::Arc<super::host::HostSt
                 "{d} is a level, not a ratio; use level_value"
             ))));
         }
-        Ok(d.amplitude_ratio())
+        let r = d.amplitude_ratio();
+        if !r.is_finite() {
+            return Err(super::convert::script_error(Error::out_of_range(format!(
+                "`decibels` must be finite and below about 6000 dB, got {d}"
+            ))));
+        }
+        Ok(r)
     });
     def!(api, &LEVEL_DB, |v: Dynamic| -> ScriptResult<Decibel> {
         lift(Decibel::level_of(&q(&v, "value")?))
     });
     def!(api, &LEVEL_VALUE, |d: Decibel| -> ScriptResult<Quantity> {
-        lift(d.to_quantity())
+        let v = lift(d.to_quantity())?;
+        finite_in(v, "level").map_err(|_| {
+            super::convert::script_error(Error::out_of_range(format!(
+                "`level` must be finite and below about 6000 dB, got {d}"
+            )))
+        })
     });
     def!(api, &FIELDS, |r: ScriptRecord| -> rhai::Array {
         r.names()
@@ -743,6 +771,14 @@ pub(crate) fn register(api: &mut Api, state: &std::sync::Arc<super::host::HostSt
         let a = q(&a, "actual")?;
         let b = q(&b, "expected")?;
         let tol = lift(super::convert::dynamic_to_number(&tol, "tolerance"))?;
+        let a = finite_in(a, "actual")?;
+        let b = finite_in(b, "expected")?;
+        if !(tol.is_finite() && tol >= 0.0) {
+            return Err(super::convert::script_error(Error::invalid(format!(
+                "`tolerance` must be a finite fraction of zero or more, got {}",
+                crate::units::format_number(tol)
+            ))));
+        }
         lift(a.compare(&b))?;
         let scale = a.value().abs().max(b.value().abs());
         if (a.value() - b.value()).abs() <= tol * scale {

@@ -356,6 +356,16 @@ pub(crate) fn register(api: &mut super::Api, state: &std::sync::Arc<super::host:
                 ProtectedNames::constant_message(&name),
             )));
         }
+        let finite = match default.read_lock::<Quantity>() {
+            Some(q) => q.value().is_finite(),
+            None => default.as_float().map_or(true, f64::is_finite),
+        };
+        if !finite {
+            return Err(script_error(Error::invalid(format!(
+                "the `default` of param `{name}` must be finite, got {}",
+                super::api_units::display_value(&default)
+            ))));
+        }
         let supported = default.is::<Quantity>()
             || default.is_bool()
             || default.is_int()

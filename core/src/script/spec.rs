@@ -11,6 +11,23 @@ use crate::error::{Error, Result};
 use crate::units::{parse_quantity, Quantity, TypedQuantity};
 use rhai::{Dynamic, Map, INT};
 
+/// A documented default parsed once per thread: the texts are `'static`, so their address
+/// identifies them (a family of designs parsed every default of every variant again).
+fn parse_default(text: &'static str) -> Result<Quantity> {
+    use std::cell::RefCell;
+    use std::collections::HashMap;
+    thread_local! {
+        static PARSED: RefCell<HashMap<(usize, usize), Quantity>> = RefCell::new(HashMap::new());
+    }
+    let key = (text.as_ptr() as usize, text.len());
+    if let Some(q) = PARSED.with(|p| p.borrow().get(&key).copied()) {
+        return Ok(q);
+    }
+    let q = parse_quantity(text, None)?;
+    PARSED.with(|p| p.borrow_mut().insert(key, q));
+    Ok(q)
+}
+
 /// A checked view of an object-map argument.
 pub struct Spec<'a> {
     function: &'static str,
@@ -75,7 +92,7 @@ impl<'a> Spec<'a> {
             ParamDefault::Optional => Ok(None),
             ParamDefault::Value(text) => Ok(Some(match d.kind {
                 ParamKind::Quantity(_) | ParamKind::Number => {
-                    let q = parse_quantity(text, None).map_err(|e| self.context(e))?;
+                    let q = parse_default(text).map_err(|e| self.context(e))?;
                     if q.is_absolute_temperature() {
                         Dynamic::from(q)
                     } else {

@@ -52,6 +52,19 @@ pub fn finite<Q: TypedQuantity>(name: &str, q: Q) -> Result<Q> {
     }
 }
 
+/// A computed result must be finite: an overflow from extreme inputs is an out-of-range error
+/// naming the result and the inputs that drive it, never an infinity or NaN in a result.
+pub fn finite_result<Q: TypedQuantity>(result: &str, q: Q, inputs: &str) -> Result<Q> {
+    if q.si_value().is_finite() {
+        Ok(q)
+    } else {
+        Err(Error::out_of_range(format!(
+            "the {result} is not finite ({}): {inputs} beyond the range of the formula",
+            show(q)
+        )))
+    }
+}
+
 /// The value must lie in `[low, high]`, both ends included; out of range is an error,
 /// never clamped.
 pub fn within<Q: TypedQuantity>(name: &str, q: Q, low: Q, high: Q) -> Result<Q> {
