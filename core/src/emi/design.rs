@@ -708,7 +708,7 @@ pub fn input_filter_report(design: &InputFilterDesign, rows: usize) -> Result<St
             c.id,
             c.value,
             c.comparison.as_str(),
-            c.limit,
+            c.limit_text(),
             c.reference
         );
     }

@@ -1276,6 +1276,10 @@ impl Record for FlybackDesign {
         ));
         v.push(Field::new("worst_status", self.worst_status().to_string()));
         v.push(Field::new("failed_checks", self.failed_checks() as i64));
+        v.push(Field::new(
+            "overridden_limits",
+            crate::rules::overridden_limits(&self.checks),
+        ));
         v
     }
 }

@@ -1,0 +1,244 @@
+//! Honest verdicts (issue 16): overridden limits are marked, limits outside physical sense are
+//! refused, checks are never dropped by a parameter, ignored keys are reported, grids expand.
+
+use super::common::{eval, eval_err, host};
+use gapwise::flyback::*;
+use gapwise::rules::{Comparison, Rule, RuleBook, Status};
+use gapwise::units::{si, Dimension, Quantity};
+use proptest::prelude::*;
+
+fn fernbank_12v() -> FlybackSpec {
+    let mut o = OutputWinding::new(si(12.0), si(1.25));
+    o.rectifier_drop = si(0.6);
+    o.rectifier_voltage_rating = Some(si(100.0));
+    o.ripple_current_rating = Some(si(2.0));
+    FlybackSpec::universal(o)
+}
+
+const LOOSE_DRAIN: &str = "let d = flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A, clamp_voltage_above_reflected: 50 * V, rule_limits: #{drain_voltage_derating: 10000 * V}}); \
+     let c = flyback_checks(d).filter(|c| c.id == \"drain_voltage_derating\")[0];";
+
+#[test]
+fn overridden_limit_is_marked_issue_16() {
+    // the loosened drain limit used to pass with the default rule's text
+    assert_eq!(eval(&format!("{LOOSE_DRAIN} c.status")), "pass");
+    assert_eq!(eval(&format!("{LOOSE_DRAIN} c.limit_overridden")), "true");
+    assert_eq!(eval(&format!("{LOOSE_DRAIN} c.limit_loosened")), "true");
+    // default: 85 % of the 650 V switch rating (common practice, no published source)
+    assert_eq!(eval(&format!("{LOOSE_DRAIN} c.default_limit")), "552.5 V");
+    let text = eval(&format!("{LOOSE_DRAIN} c.description"));
+    assert!(
+        text.contains("overridden (loosened): limit 10 kV instead of the default 552.5 V"),
+        "{text}"
+    );
+    let line = eval(&format!("{LOOSE_DRAIN} c.to_string()"));
+    assert!(
+        line.contains("10 kV (overridden and loosened, default 552.5 V)"),
+        "{line}"
+    );
+    // tables carry it as columns, the summary lists it
+    let t = eval(&format!(
+        "{LOOSE_DRAIN} let t = checks_table(flyback_checks(d)); t.to_string()"
+    ));
+    assert!(t.contains("limit_overridden"), "{t}");
+    assert!(t.contains("default_limit"), "{t}");
+    assert_eq!(
+        eval(&format!("{LOOSE_DRAIN} d.overridden_limits")),
+        "drain_voltage_derating (loosened)"
+    );
+    // the report shows it too
+    let r = eval(&format!("{LOOSE_DRAIN} flyback_report(d, \"t\")"));
+    assert!(r.contains("overridden (loosened)"), "{r}");
+    // without an override nothing is marked
+    assert_eq!(
+        eval(
+            "flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A}).overridden_limits"
+        ),
+        ""
+    );
+}
+
+#[test]
+fn set_limit_marks_the_rule_and_a_reset_clears_it_issue_16() {
+    let book = "let rules = rule_book(); rules.add_rule(#{id: \"creepage\", description: \"creepage primary to secondary\", comparison: \"at_least\", limit: 6.4 * mm});";
+    let text = eval(&format!(
+        "{book} rules.set_limit(\"creepage\", 4 * mm); rules.check(\"creepage\", 5 * mm).description"
+    ));
+    assert!(
+        text.contains("overridden (loosened): limit 4 mm instead of the default 6.4 mm"),
+        "{text}"
+    );
+    let shown = eval(&format!(
+        "{book} rules.set_limit(\"creepage\", 4 * mm); rules.to_string()"
+    ));
+    assert!(shown.contains("overridden (loosened)"), "{shown}");
+    // a tighter limit is marked overridden but not loosened
+    let text = eval(&format!(
+        "{book} rules.set_limit(\"creepage\", 8 * mm); rules.check(\"creepage\", 9 * mm).description"
+    ));
+    assert!(
+        text.contains("overridden: limit 8 mm instead of the default 6.4 mm"),
+        "{text}"
+    );
+    // twice overridden: the default stays the rule's own
+    let text = eval(&format!(
+        "{book} rules.set_limit(\"creepage\", 8 * mm); rules.set_limit(\"creepage\", 5 * mm); rules.check(\"creepage\", 9 * mm).description"
+    ));
+    assert!(text.contains("default 6.4 mm"), "{text}");
+    // set back to the default: no longer marked
+    assert_eq!(
+        eval(&format!(
+            "{book} rules.set_limit(\"creepage\", 4 * mm); rules.set_limit(\"creepage\", 6.4 * mm); rules.check(\"creepage\", 7 * mm).limit_overridden"
+        )),
+        "false"
+    );
+}
+
+#[test]
+fn regulation_rule_limits_are_marked_issue_16() {
+    let b = gapwise::feedback::regulation_rule_book(&[(
+        "phase_margin_minimum".into(),
+        Quantity::number(20.0),
+    )])
+    .unwrap();
+    let r = b.get("phase_margin_minimum").unwrap();
+    assert!(r.overridden());
+    assert!(r.text().contains("overridden (loosened)"), "{}", r.text());
+    assert!(!b.get("gain_margin_minimum").unwrap().overridden());
+}
+
+#[test]
+fn loosened_flux_limit_of_a_transformer_is_marked_issue_16() {
+    let spec = "#{core: \"EF25\", primary_inductance: 1.2 * mH, switching_frequency: 65 * kHz, primary_peak_current: 0.5 * A, duty_cycle: 0.4, secondary_conduction_fraction: 0.45, current_limit: 0.55 * A, reflected_voltage: 90 * V, output_voltage: 12 * V, margin_width: 2 * mm, required_creepage: 4 * mm, max_flux_density: 0.45 * T}";
+    let c = format!(
+        "let c = transformer_design({spec}).checks.filter(|c| c.id == \"flux_at_current_limit\")[0];"
+    );
+    assert_eq!(eval(&format!("{c} c.limit_loosened")), "true");
+    // the house default is 0.3 T (common practice, no published source)
+    assert!(eval(&format!("{c} c.description")).contains("instead of the default 300 mT"));
+    let plain = spec.replace(", max_flux_density: 0.45 * T", "");
+    assert_eq!(
+        eval(&format!(
+            "transformer_design({plain}).checks.filter(|c| c.limit_overridden).len()"
+        )),
+        "0"
+    );
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig::with_cases(12))]
+    /// Overriding one rule's limit changes that check's limit, its text (the override note
+    /// appended), its margin and verdict as the new limit implies, and nothing else.
+    #[test]
+    fn an_override_changes_only_that_verdicts_limit(limit_c in 60.0f64..200.0) {
+        let base = flyback_design(&fernbank_12v()).unwrap();
+        let mut s = fernbank_12v();
+        let limit = Quantity::celsius(limit_c);
+        s.rule_limits = vec![("switch_junction_temperature".into(), limit)];
+        let over = flyback_design(&s).unwrap();
+        prop_assert_eq!(base.checks.len(), over.checks.len());
+        for (a, b) in base.checks.iter().zip(&over.checks) {
+            if a.id != "switch_junction_temperature" {
+                prop_assert_eq!(a, b);
+                continue;
+            }
+            prop_assert_eq!(a.value, b.value);
+            prop_assert_eq!(b.limit, limit);
+            prop_assert_eq!(b.default_limit, Some(a.limit));
+            prop_assert!(b.description.starts_with(&a.description));
+            prop_assert!(b.description.contains("overridden"));
+            let fails = b.value.value() > limit.value();
+            prop_assert_eq!(b.status == Status::Fail, fails);
+        }
+    }
+}
+
+#[test]
+fn limits_outside_physical_sense_are_errors_issue_16() {
+    let e = eval_err("flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A, rule_limits: #{bulk_valley_minimum: -100 * V}})").to_string();
+    assert!(e.contains("bulk_valley_minimum"), "{e}");
+    assert!(e.contains("-100 V"), "{e}");
+    let e = eval_err("let rules = rule_book(); rules.add_rule(#{id: \"creepage\", description: \"creepage\", comparison: \"at_least\", limit: 6.4 * mm}); rules.set_limit(\"creepage\", 0 * mm)").to_string();
+    assert!(e.contains("creepage") && e.contains("got 0"), "{e}");
+    let e = eval_err("let rules = rule_book(); rules.add_rule(#{id: \"creepage\", description: \"creepage\", comparison: \"at_least\", limit: 0 * mm})").to_string();
+    assert!(e.contains("creepage") && e.contains("got 0"), "{e}");
+    // a NaN limit, natively
+    let mut b = RuleBook::new();
+    let mm = |x: f64| Quantity::new(x * 1e-3, Dimension::LENGTH);
+    b.add(
+        Rule::new(
+            "creepage",
+            "creepage",
+            "house rule",
+            Comparison::AtLeast,
+            mm(6.4),
+            0.05,
+        )
+        .unwrap(),
+    );
+    assert!(b.set_limit("creepage", mm(f64::NAN)).is_err());
+    assert!(b.set_limit("creepage", mm(-1.0)).is_err());
+    assert!(
+        !b.get("creepage").unwrap().overridden(),
+        "a refused limit leaves the rule as it was"
+    );
+    assert!(Rule::new("x", "x", "x", Comparison::AtLeast, mm(f64::NAN), 0.05).is_err());
+}
+
+const TRANSFORMER: &str = "#{core: \"EF25\", primary_inductance: 1.2 * mH, switching_frequency: 65 * kHz, primary_peak_current: 0.5 * A, duty_cycle: 0.4, secondary_conduction_fraction: 0.45, current_limit: 0.55 * A, reflected_voltage: 90 * V, output_voltage: 12 * V";
+
+#[test]
+fn construction_values_outside_physical_sense_are_errors_issue_16() {
+    let e = eval_err(&format!(
+        "transformer_design({TRANSFORMER}, margin_width: 2 * mm, tape_thickness: 0 * mm}})"
+    ))
+    .to_string();
+    assert!(e.contains("tape_thickness"), "{e}");
+    let e = eval_err(&format!(
+        "transformer_design({TRANSFORMER}, margin_width: 2 * mm, insulation_layers: 0}})"
+    ))
+    .to_string();
+    assert!(e.contains("insulation_layers"), "{e}");
+    // with a triple-insulated secondary the wire is the insulation: zero tape layers is fine
+    assert_eq!(
+        eval(&format!(
+            "transformer_design({TRANSFORMER}, insulation_layers: 0, secondary_triple_insulated: true}}).design.primary_turns > 0"
+        )),
+        "true"
+    );
+}
+
+#[test]
+fn a_check_is_never_removed_by_a_parameter_issue_16() {
+    let na = format!(
+        "let x = transformer_design({TRANSFORMER}, margin_width: 0 * mm}}); let c = x.checks.filter(|c| c.id == \"creepage_along_bobbin\");"
+    );
+    assert_eq!(eval(&format!("{na} c.len()")), "1");
+    assert_eq!(eval(&format!("{na} c[0].status")), "not_applicable");
+    let why = eval(&format!("{na} c[0].description"));
+    assert!(why.contains("no `required_creepage` given"), "{why}");
+    // not a failure, and the worst status of the rest stands
+    assert_eq!(eval(&format!("{na} c[0].passed")), "true");
+    assert_eq!(eval(&format!("{na} worst_status(c)")), "not_applicable");
+    let h = host();
+    h.eval(
+        &format!("{na} output_table(\"checks\", checks_table(x.checks));"),
+        "<test>",
+    )
+    .unwrap();
+    assert_eq!(h.take_failed_checks(), 0);
+    let t = eval(&format!("{na} checks_table(c).to_string()"));
+    assert!(t.contains("not_applicable"), "{t}");
+    // with a triple-insulated secondary it is listed too, with that reason
+    let why = eval(&format!(
+        "transformer_design({TRANSFORMER}, secondary_triple_insulated: true}}).checks.filter(|c| c.id == \"creepage_along_bobbin\")[0].description"
+    ));
+    assert!(why.contains("triple-insulated"), "{why}");
+    // given a requirement, it is checked
+    assert_eq!(
+        eval(&format!(
+            "transformer_design({TRANSFORMER}, margin_width: 0 * mm, required_creepage: 6.4 * mm}}).checks.filter(|c| c.id == \"creepage_along_bobbin\")[0].status"
+        )),
+        "fail"
+    );
+}
