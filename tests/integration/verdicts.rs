@@ -242,3 +242,23 @@ fn a_check_is_never_removed_by_a_parameter_issue_16() {
         "fail"
     );
 }
+
+#[test]
+fn grid_expands_range_axes_issue_16() {
+    // a range used to be taken as one value (one variant)
+    assert_eq!(eval("grid(#{n: 1..4}).len()"), "3");
+    assert_eq!(eval("grid(#{n: 1..=4}).len()"), "4");
+    assert_eq!(eval("grid(#{n: 1..4}).map(|m| m.n)"), "[1, 2, 3]");
+    assert_eq!(eval("grid(#{a: [1, 2], n: 0..3}).len()"), "6");
+    // an empty range has no values
+    let e = eval_err("grid(#{n: 4..1})").to_string();
+    assert!(e.contains("grid axis `n` has no values"), "{e}");
+    // a huge range is refused before it is built
+    let e = eval_err("grid(#{n: 0..1000000000000})").to_string();
+    assert!(e.contains("axis `n` is a range"), "{e}");
+    // families run over it
+    assert_eq!(
+        eval("family(|v| #{twice: v.n * 2}, grid(#{n: 1..=3})).rows"),
+        "3"
+    );
+}
