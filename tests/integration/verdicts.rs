@@ -262,3 +262,65 @@ fn grid_expands_range_axes_issue_16() {
         "3"
     );
 }
+
+const DCM_HARMONIC: &str =
+    "primary_current_harmonic(#{conduction_mode: \"dcm\", peak_current: 1 * A, duty: 0.45";
+
+#[test]
+fn ignored_keys_are_still_validated_issue_16() {
+    // in DCM the valley current is not used; it used to accept any unit and NaN
+    let e = eval_err(&format!("{DCM_HARMONIC}, valley_current: 3 * V}}, 1)")).to_string();
+    assert!(e.contains("valley_current") && e.contains("A"), "{e}");
+    let e = eval_err(&format!(
+        "{DCM_HARMONIC}, valley_current: (0.0 / 0.0) * A}}, 1)"
+    ))
+    .to_string();
+    assert!(e.contains("valley_current") && e.contains("finite"), "{e}");
+    let e = eval_err(
+        "flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A, leakage_inductance: 20 * uH, leakage_fraction: 1 * V})",
+    )
+    .to_string();
+    assert!(e.contains("leakage_fraction"), "{e}");
+}
+
+#[test]
+fn ignored_keys_are_reported_issue_16() {
+    let warned = |src: &str| -> Vec<String> {
+        let h = host();
+        h.eval(src, "<test>")
+            .unwrap_or_else(|e| panic!("{src}\n{e}"));
+        h.take_warnings()
+    };
+    let w = warned(&format!("{DCM_HARMONIC}, valley_current: 0.3 * A}}, 1)"));
+    assert_eq!(w.len(), 1, "{w:?}");
+    assert!(
+        w[0].contains("primary_current_harmonic: key `valley_current`"),
+        "{w:?}"
+    );
+    // a zero valley agrees with DCM: nothing to report
+    assert!(warned(&format!("{DCM_HARMONIC}, valley_current: 0 * A}}, 1)")).is_empty());
+    // a Zener-clamp key on an RCD clamp
+    let w = warned(
+        "flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A, zener_tolerance: 0.1})",
+    );
+    assert!(w.iter().any(|w| w.contains("`zener_tolerance`")), "{w:?}");
+    assert!(warned("flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A, clamp: \"zener\", zener_tolerance: 0.1})").is_empty());
+    // the leakage fraction when the leakage inductance is given
+    let w = warned("flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A, leakage_inductance: 20 * uH, leakage_fraction: 0.02})");
+    assert!(w.iter().any(|w| w.contains("`leakage_fraction`")), "{w:?}");
+    // in a family, once for all variants
+    let w = warned(&format!(
+        "family(|v| {DCM_HARMONIC}, valley_current: v.i}}, 1), grid(#{{i: [0.1 * A, 0.2 * A, 0.3 * A]}}))"
+    ));
+    assert_eq!(w.len(), 1, "{w:?}");
+}
+
+#[test]
+fn no_function_example_uses_an_ignored_key_issue_16() {
+    let h = host();
+    for d in h.docs() {
+        let _ = h.eval(&format!("let rules = rule_book(); rules.add_rule(#{{id: \"switch_voltage\", description: \"x\", limit: 552.5 * V}}); {}", d.example), "<example>");
+        let w = h.take_warnings();
+        assert!(w.is_empty(), "example of {}: {w:?}", d.name);
+    }
+}

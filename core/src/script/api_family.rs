@@ -219,6 +219,7 @@ fn run_family(
                 let vctx =
                     NativeCallContext::new_with_all_fields(engine, fn_name, source, global, pos);
                 let r = f.call_raw(&vctx, None, [v.clone()]);
+                state.collect_warnings();
                 if let Some(p) = &progress {
                     p(done.fetch_add(1, Ordering::Relaxed) + 1, total);
                 }

@@ -446,7 +446,7 @@ fn spec_from_map(m: &Map) -> Result<FlybackSpec> {
         }
         None => s.quantity("reflected_voltage")?,
     };
-    Ok(FlybackSpec {
+    let spec = FlybackSpec {
         input,
         bulk,
         bridge_diode_drop: s.quantity("bridge_diode_drop")?,
@@ -514,7 +514,13 @@ fn spec_from_map(m: &Map) -> Result<FlybackSpec> {
         hold_up_end_voltage: s.optional_quantity("hold_up_end_voltage")?,
         hold_up_time: s.optional_quantity("hold_up_time")?,
         rule_limits,
-    })
+    };
+    if clamp == ClampKind::Rcd {
+        // read for the record, used only by a Zener clamp: reported as ignored when given
+        s.ignore("zener_tolerance");
+        s.ignore("zener_rise_hot");
+    }
+    Ok(spec)
 }
 
 /// With a single output given by top-level keys, errors name those keys, not `outputs[0].…`.

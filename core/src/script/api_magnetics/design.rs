@@ -656,7 +656,7 @@ fn transformer_spec(s: &Spec) -> Result<TransformerSpec> {
         u32::try_from(v)
             .map_err(|_| Error::out_of_range(format!("`{k}` = {v} must be a count from 0 up")))
     };
-    Ok(TransformerSpec {
+    let spec = TransformerSpec {
         core,
         material,
         primary_inductance: s.quantity("primary_inductance")?,
@@ -703,7 +703,12 @@ fn transformer_spec(s: &Spec) -> Result<TransformerSpec> {
         thermal_resistance: s.optional_quantity("thermal_resistance")?,
         winding_order: WindingOrder::parse(&s.text("winding_order")?)?,
         insulation_class: s.text("insulation_class")?,
-    })
+    };
+    if spec.secondary_triple_insulated {
+        // no margin tape with a triple-insulated secondary: reported as ignored when given
+        s.ignore("margin_width");
+    }
+    Ok(spec)
 }
 
 fn core_loss(s: &Spec) -> Result<ScriptRecord> {
