@@ -221,11 +221,12 @@ fn a_check_is_never_removed_by_a_parameter_issue_16() {
     assert_eq!(eval(&format!("{na} c[0].passed")), "true");
     assert_eq!(eval(&format!("{na} worst_status(c)")), "not_applicable");
     let h = host();
-    h.eval(
-        &format!("{na} output_table(\"checks\", checks_table(x.checks));"),
-        "<test>",
-    )
-    .unwrap();
+    let _ = h
+        .eval(
+            &format!("{na} output_table(\"checks\", checks_table(x.checks));"),
+            "<test>",
+        )
+        .unwrap();
     assert_eq!(h.take_failed_checks(), 0);
     let t = eval(&format!("{na} checks_table(c).to_string()"));
     assert!(t.contains("not_applicable"), "{t}");
@@ -287,7 +288,8 @@ fn ignored_keys_are_still_validated_issue_16() {
 fn ignored_keys_are_reported_issue_16() {
     let warned = |src: &str| -> Vec<String> {
         let h = host();
-        h.eval(src, "<test>")
+        let _ = h
+            .eval(src, "<test>")
             .unwrap_or_else(|e| panic!("{src}\n{e}"));
         h.take_warnings()
     };
