@@ -326,3 +326,18 @@ fn no_function_example_uses_an_ignored_key_issue_16() {
         assert!(w.is_empty(), "example of {}: {w:?}", d.name);
     }
 }
+
+#[test]
+fn filter_checks_without_a_stage_or_y_capacitance_are_listed_issue_16() {
+    // no Y capacitance allowed: the touch-current check used to vanish
+    let m = "#{switching_frequency: 65 * kHz, peak_current: 1 * A, duty: 0.45, bulk_capacitance: 47 * uF, drain_voltage: 480 * V, parasitic_capacitance: 0.01 * pF, max_y_capacitance: 0 * nF, minimum_input_voltage: 100 * V, input_power: 33 * W}";
+    let c = eval(&format!(
+        "input_filter_design({m}).checks.filter(|c| c.id == \"y_capacitor_touch_current\").map(|c| c.status)"
+    ));
+    assert_eq!(c, "[\"not_applicable\"]");
+    let r = eval(&format!("input_filter_report({m})"));
+    assert!(
+        r.contains("not_applicable y_capacitor_touch_current"),
+        "{r}"
+    );
+}
