@@ -341,3 +341,27 @@ fn filter_checks_without_a_stage_or_y_capacitance_are_listed_issue_16() {
         "{r}"
     );
 }
+
+#[test]
+fn flyback_rules_without_their_input_are_listed_not_dropped_issue_16() {
+    let d = "let d = flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A});";
+    let status = |id: &str| {
+        eval(&format!(
+            "{d} flyback_checks(d).filter(|c| c.id == \"{id}\").map(|c| c.status)"
+        ))
+    };
+    for id in [
+        "hold_up_time",
+        "bulk_capacitor_ripple_current",
+        "rectifier_voltage_derating",
+        "output_capacitor_ripple_current",
+    ] {
+        assert_eq!(status(id), "[\"not_applicable\"]", "{id}");
+    }
+    // given its input, the rule is checked
+    let s = eval("flyback_checks(flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A, hold_up_time: 10 * ms})).filter(|c| c.id == \"hold_up_time\")[0].status");
+    assert_ne!(s, "not_applicable");
+    // not applicable is neither a failure nor the worst status of a design with real checks
+    assert_eq!(eval(&format!("{d} d.failed_checks")), "0");
+    assert_ne!(eval(&format!("{d} d.worst_status")), "not_applicable");
+}

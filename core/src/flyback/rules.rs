@@ -28,7 +28,9 @@ pub const RECTIFIER_DERATING: f64 = 0.8;
 /// | `rectifier_junction_temperature` | each output rectifier's junction at its worst corner | at most `rectifier_max_junction_temperature` | series thermal resistance |
 /// | `short_circuit_settles` | output shorted: shortest on-time over the balance on-time V_rs/(f·(V + V_rs)), worst line | at most 1 (above, the current climbs every cycle) | volt-second balance |
 ///
-/// `bulk_valley_needed` is the design's own minimum for `bulk_valley_minimum`.
+/// `bulk_valley_needed` is the design's own minimum for `bulk_valley_minimum`. A rule whose
+/// input is not given (a rating, a mode target, a hold-up time) is listed in the design's
+/// checks as not applicable, with the reason, never left out.
 pub fn flyback_rule_book(
     spec: &FlybackSpec,
     bulk_valley_needed: ElectricPotential,

@@ -423,6 +423,10 @@ impl RuleBook {
         r.default_limit = (limit.value() != default.value()).then_some(default);
         Ok(())
     }
+    /// The rule with an id, reported as not applicable: see [`Rule::not_applicable`].
+    pub fn not_applicable(&self, id: &str, value: Quantity, reason: &str) -> Result<CheckResult> {
+        Ok(self.get(id)?.not_applicable(value, reason))
+    }
     /// Checks a value against the rule with an id.
     pub fn check(&self, id: &str, value: Quantity) -> Result<CheckResult> {
         self.get(id)?.check(value)
