@@ -158,6 +158,18 @@ fn limits_outside_physical_sense_are_errors_issue_16() {
     let e = eval_err("flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A, rule_limits: #{bulk_valley_minimum: -100 * V}})").to_string();
     assert!(e.contains("bulk_valley_minimum"), "{e}");
     assert!(e.contains("-100 V"), "{e}");
+    let e = eval_err("flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A, rule_limits: #{drain_voltage_derating: -100 * V}})").to_string();
+    assert!(
+        e.contains("rule_limits.drain_voltage_derating") && e.contains("-100 V"),
+        "{e}"
+    );
+    let e = eval_err("flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A, rule_limits: #{duty_cycle_limit: 2}})").to_string();
+    assert!(
+        e.contains("rule_limits.duty_cycle_limit") && e.contains("below 1"),
+        "{e}"
+    );
+    let e = eval_err("flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A, rule_limits: #{hold_up_time: 0 * ms}, hold_up_time: 10 * ms})").to_string();
+    assert!(e.contains("hold_up_time"), "{e}");
     let e = eval_err("let rules = rule_book(); rules.add_rule(#{id: \"creepage\", description: \"creepage\", comparison: \"at_least\", limit: 6.4 * mm}); rules.set_limit(\"creepage\", 0 * mm)").to_string();
     assert!(e.contains("creepage") && e.contains("got 0"), "{e}");
     let e = eval_err("let rules = rule_book(); rules.add_rule(#{id: \"creepage\", description: \"creepage\", comparison: \"at_least\", limit: 0 * mm})").to_string();

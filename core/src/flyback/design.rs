@@ -747,9 +747,15 @@ fn design(spec: &FlybackSpec) -> Result<FlybackDesign> {
 fn drain_voltage_limit(spec: &FlybackSpec) -> Result<f64> {
     for (id, q) in &spec.rule_limits {
         if id == "drain_voltage_derating" {
-            return Ok(q
+            let v = q
                 .to_typed::<ElectricPotential>("rule_limits.drain_voltage_derating")?
-                .value);
+                .value;
+            if v.is_nan() || v <= 0.0 {
+                return Err(Error::out_of_range(format!(
+                    "`rule_limits.drain_voltage_derating` must be a drain voltage above zero (V), got {q}"
+                )));
+            }
+            return Ok(v);
         }
     }
     Ok(DRAIN_DERATING * spec.switch_voltage_rating.value)

@@ -148,7 +148,15 @@ pub fn flyback_rule_book(
         0.1,
     )?);
     for (id, limit) in &spec.rule_limits {
-        b.set_limit(id, *limit)?;
+        b.set_limit(id, *limit)
+            .map_err(|e| e.context(&format!("`rule_limits.{id}`")))?;
+    }
+    let duty = b.get("duty_cycle_limit")?.limit.value();
+    if duty >= 1.0 {
+        return Err(crate::Error::out_of_range(format!(
+            "`rule_limits.duty_cycle_limit` must be below 1 (a duty cycle), got {}",
+            crate::units::format_number(duty)
+        )));
     }
     Ok(b)
 }
