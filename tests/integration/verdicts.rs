@@ -377,3 +377,19 @@ fn flyback_rules_without_their_input_are_listed_not_dropped_issue_16() {
     assert_eq!(eval(&format!("{d} d.failed_checks")), "0");
     assert_ne!(eval(&format!("{d} d.worst_status")), "not_applicable");
 }
+
+#[test]
+fn a_loosened_junction_limit_of_a_flyback_is_marked_issue_16() {
+    let c = eval("flyback_checks(flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A, switch_max_junction_temperature: celsius(175)})).filter(|c| c.id == \"switch_junction_temperature\")[0].description");
+    // the house limit is 125 °C (common practice, no published source)
+    assert!(
+        c.contains("overridden (loosened): limit 175 °C instead of the default 125 °C"),
+        "{c}"
+    );
+    assert_eq!(
+        eval(
+            "flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A}).overridden_limits"
+        ),
+        ""
+    );
+}

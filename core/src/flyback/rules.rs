@@ -1,6 +1,6 @@
 //! The flyback's default design rules and their evaluation on a design.
 
-use super::spec::{FlybackSpec, ModeTarget};
+use super::spec::{FlybackSpec, ModeTarget, HOUSE_MAX_JUNCTION_CELSIUS};
 use crate::error::Result;
 use crate::rules::{Comparison, Rule, RuleBook};
 use crate::units::{Dimension, ElectricPotential, Quantity};
@@ -130,7 +130,8 @@ pub fn flyback_rule_book(
         Comparison::AtMost,
         Quantity::from_typed(spec.switch_thermal.max_junction_temperature),
         0.05,
-    )?);
+    )?
+    .with_default(Quantity::celsius(HOUSE_MAX_JUNCTION_CELSIUS)));
     b.add(Rule::new(
         "rectifier_junction_temperature",
         "output rectifier junction temperature at its worst corner, T_a + P·(R_θjc + R_θca)",
@@ -138,7 +139,8 @@ pub fn flyback_rule_book(
         Comparison::AtMost,
         Quantity::from_typed(spec.rectifier_thermal.max_junction_temperature),
         0.05,
-    )?);
+    )?
+    .with_default(Quantity::celsius(HOUSE_MAX_JUNCTION_CELSIUS)));
     b.add(Rule::new(
         "short_circuit_settles",
         "with the output shorted the shortest on-time lets the current settle at the limit",
