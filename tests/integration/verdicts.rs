@@ -153,6 +153,43 @@ proptest! {
     }
 }
 
+proptest! {
+    /// In any rule book, `set_limit` gives the verdict a fresh rule with the new limit would
+    /// give, with the same id, reference, comparison and value, and the description of the
+    /// default rule followed by the override note.
+    #[test]
+    fn set_limit_changes_only_the_limit_and_its_note(
+        default in 0.1f64..1000.0,
+        new in 0.1f64..1000.0,
+        value in 0.0f64..2000.0,
+        at_least in any::<bool>(),
+    ) {
+        prop_assume!(new != default);
+        let cmp = if at_least { Comparison::AtLeast } else { Comparison::AtMost };
+        let v = |x: f64| Quantity::new(x, Dimension::VOLTAGE);
+        let rule = |l: f64| Rule::new("r", "a rule", "house rule", cmp, v(l), 0.05).unwrap();
+        let mut book = RuleBook::new();
+        book.add(rule(default));
+        let before = book.check("r", v(value)).unwrap();
+        book.set_limit("r", v(new)).unwrap();
+        let after = book.check("r", v(value)).unwrap();
+        let fresh = rule(new).check(v(value)).unwrap();
+        prop_assert_eq!(&after.id, &before.id);
+        prop_assert_eq!(&after.reference, &before.reference);
+        prop_assert_eq!(after.comparison, before.comparison);
+        prop_assert_eq!(after.value, before.value);
+        prop_assert_eq!(after.limit, v(new));
+        prop_assert_eq!(after.status, fresh.status);
+        prop_assert_eq!(after.margin, fresh.margin);
+        prop_assert_eq!(after.default_limit, Some(v(default)));
+        prop_assert_eq!(
+            after.description.clone(),
+            format!("a rule; {}", gapwise::rules::override_note(cmp, v(new), v(default)))
+        );
+        prop_assert_eq!(after.loosened(), if at_least { new < default } else { new > default });
+    }
+}
+
 #[test]
 fn limits_outside_physical_sense_are_errors_issue_16() {
     let e = eval_err("flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A, rule_limits: #{bulk_valley_minimum: -100 * V}})").to_string();
