@@ -1193,7 +1193,8 @@ pub fn transformer_checks(
             out.push(creepage_rule(q(c))?.check(along)?);
         }
         (_, true) => out.push(creepage_rule(along)?.not_applicable(
-            along,
+            // no margin tape is wound with a triple-insulated secondary
+            q(si::<Length>(0.0)),
             "the secondary is triple-insulated wire, whose own insulation is the barrier (no margin tape is crossed)",
         )),
         (None, false) => out.push(creepage_rule(along)?.not_applicable(
