@@ -360,6 +360,9 @@ fn run_entry(session: &Rc<RefCell<Session>>, source: &str, source_name: &str) {
         Ok(None) => {}
         Err(e) => eprintln!("{e}"),
     }
+    for w in s.host.take_warnings() {
+        eprintln!("warning: {w}");
+    }
     let tables: Vec<String> = s.host.take_outputs().into_iter().map(|(n, _)| n).collect();
     let texts: Vec<String> = s
         .host

@@ -171,6 +171,9 @@ pub fn run(args: &RunArgs, limits: EngineLimits) -> Result<(), Failure> {
     if let Some(p) = &progress {
         p.finish();
     }
+    for w in host.take_warnings() {
+        eprintln!("warning: {w}");
+    }
     let outputs = host.take_outputs();
     let texts = host.take_texts();
     let provenance = Provenance::new(&source_name, &source, &args.set);
@@ -371,6 +374,9 @@ pub fn eval(args: &EvalArgs, limits: EngineLimits) -> Result<(), Failure> {
         .and_then(|ast| host.run(&ast, &mut scope, source, "<eval>"));
     if let Some(p) = &progress {
         p.finish();
+    }
+    for w in host.take_warnings() {
+        eprintln!("warning: {w}");
     }
     let value = result?;
     if let Some(text) = crate::prompt::display_result(&host, &value) {

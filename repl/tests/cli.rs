@@ -1160,3 +1160,32 @@ fn provenance_of_tables_printed_on_stdout_goes_to_a_file_on_request_issue_10() {
     );
     std::fs::remove_dir_all(&d).unwrap();
 }
+
+#[test]
+fn run_prints_ignored_keys_as_warnings_issue_16() {
+    let dir = temp_dir("ignored-keys");
+    let recipe = write_recipe(
+        &dir,
+        "ignored.rhai",
+        "let h = primary_current_harmonic(#{conduction_mode: \"dcm\", valley_current: 0.3 * A, peak_current: 1 * A, duty: 0.45}, 1);\nassert(h > 0 * A, \"a harmonic\");\n",
+    );
+    let r = gapwise(&["run", recipe.to_str().unwrap()]);
+    assert_eq!(r.code, 0, "{}", r.stderr);
+    assert!(
+        r.stderr.contains(
+            "warning: primary_current_harmonic: key `valley_current` was checked but not used"
+        ),
+        "{}",
+        r.stderr
+    );
+    let r = gapwise(&[
+        "eval",
+        "primary_current_harmonic(#{conduction_mode: \"dcm\", valley_current: 0.3 * A, peak_current: 1 * A, duty: 0.45}, 1)",
+    ]);
+    assert!(
+        r.stderr.contains("warning: primary_current_harmonic"),
+        "{}",
+        r.stderr
+    );
+    let _ = std::fs::remove_dir_all(&dir);
+}

@@ -17,4 +17,5 @@ mod safety;
 mod sandbox;
 mod script;
 mod units;
+mod verdicts;
 mod wires;

@@ -644,7 +644,8 @@ pub fn harmonic_table(design: &InputFilterDesign, rows: usize) -> Table {
 /// (`conducted_emission_margin`, at least, in dB), and the filter's peak output impedance
 /// against |R_N| reduced by the Middlebrook margin (`input_filter_damping`, at most), and the
 /// Y capacitance's touch current against the ES1 limit (`y_capacitor_touch_current`, at most;
-/// IEC 62368-1:2018, value recalled from memory, see `crate::safety::tables`).
+/// IEC 62368-1:2018, value recalled from memory, see `crate::safety::tables`). The last two
+/// are listed as not applicable, with the reason, without a filter stage or a Y capacitance.
 /// Reference: CISPR 32:2015 limits with the house margin; Middlebrook (1976).
 pub fn input_filter_checks(design: &InputFilterDesign) -> Result<Vec<CheckResult>> {
     let margin = Rule::new(
@@ -656,30 +657,43 @@ pub fn input_filter_checks(design: &InputFilterDesign) -> Result<Vec<CheckResult
         0.0,
     )?;
     let mut out = vec![margin.check(Quantity::number(design.worst_margin_filtered.value))?];
-    if let (Some(p), Some(m)) = (design.output_impedance_peak, design.middlebrook) {
-        let allowed =
-            m.negative_input_resistance.value / 10f64.powf(m.required_margin.value / 20.0);
-        let rule = Rule::new(
+    // both checks are always listed; where they do not apply they say why
+    let damping = |allowed: f64| {
+        Rule::new(
             "input_filter_damping",
             "peak filter output impedance under |R_N| with the Middlebrook margin",
             "Middlebrook, IEEE IAS 1976; Erickson & Maksimović 2020, input filter chapter",
             Comparison::AtMost,
             Quantity::from_typed::<ElectricalResistance>(si(allowed)),
             0.05,
-        )?;
-        out.push(rule.check(Quantity::from_typed(p.magnitude))?);
+        )
+    };
+    if let (Some(p), Some(m)) = (design.output_impedance_peak, design.middlebrook) {
+        let allowed =
+            m.negative_input_resistance.value / 10f64.powf(m.required_margin.value / 20.0);
+        out.push(damping(allowed)?.check(Quantity::from_typed(p.magnitude))?);
+    } else {
+        out.push(damping(0.0)?.not_applicable(
+            Quantity::from_typed::<ElectricalResistance>(si(0.0)),
+            "no differential-mode filter stage, so no filter output impedance meets the converter's negative input resistance",
+        ));
     }
+    let source = TOUCH_CURRENT_SOURCE.cite();
+    let touch = Rule::new(
+        "y_capacitor_touch_current",
+        "touch current of the Y capacitance at the highest line voltage and frequency",
+        &source,
+        Comparison::AtMost,
+        Quantity::from_typed::<ElectricCurrent>(si(TOUCH_CURRENT_ES1)),
+        0.1,
+    )?;
     if design.y_capacitance.value > 0.0 {
-        let source = TOUCH_CURRENT_SOURCE.cite();
-        let rule = Rule::new(
-            "y_capacitor_touch_current",
-            "touch current of the Y capacitance at the highest line voltage and frequency",
-            &source,
-            Comparison::AtMost,
-            Quantity::from_typed::<ElectricCurrent>(si(TOUCH_CURRENT_ES1)),
-            0.1,
-        )?;
-        out.push(rule.check(Quantity::from_typed(design.y_touch_current))?);
+        out.push(touch.check(Quantity::from_typed(design.y_touch_current))?);
+    } else {
+        out.push(touch.not_applicable(
+            Quantity::from_typed(design.y_touch_current),
+            "no Y capacitance across the barrier, so it carries no touch current",
+        ));
     }
     Ok(out)
 }
@@ -701,6 +715,10 @@ pub fn input_filter_report(design: &InputFilterDesign, rows: usize) -> Result<St
     );
     let _ = writeln!(s, "## Checks\n");
     for c in input_filter_checks(design)? {
+        if c.status == crate::rules::Status::NotApplicable {
+            let _ = writeln!(s, "- {} {}: {}", c.status, c.id, c.description);
+            continue;
+        }
         let _ = writeln!(
             s,
             "- {} {}: {} ({} {}) [{}]",
@@ -708,7 +726,7 @@ pub fn input_filter_report(design: &InputFilterDesign, rows: usize) -> Result<St
             c.id,
             c.value,
             c.comparison.as_str(),
-            c.limit,
+            c.limit_text(),
             c.reference
         );
     }

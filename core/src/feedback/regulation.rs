@@ -702,6 +702,10 @@ impl Record for Regulation {
             ));
         }
         v.push(Field::new("worst_status", self.worst_status().to_string()));
+        v.push(Field::new(
+            "overridden_limits",
+            crate::rules::overridden_limits(&self.checks),
+        ));
         v
     }
 }

@@ -753,9 +753,15 @@ fn design(spec: &FlybackSpec) -> Result<FlybackDesign> {
 fn drain_voltage_limit(spec: &FlybackSpec) -> Result<f64> {
     for (id, q) in &spec.rule_limits {
         if id == "drain_voltage_derating" {
-            return Ok(q
+            let v = q
                 .to_typed::<ElectricPotential>("rule_limits.drain_voltage_derating")?
-                .value);
+                .value;
+            if v.is_nan() || v <= 0.0 {
+                return Err(Error::out_of_range(format!(
+                    "`rule_limits.drain_voltage_derating` must be a drain voltage above zero (V), got {q}"
+                )));
+            }
+            return Ok(v);
         }
     }
     Ok(DRAIN_DERATING * spec.switch_voltage_rating.value)
@@ -1009,6 +1015,17 @@ fn evaluate_rules(
             let mut c = rules.check("rectifier_voltage_derating", n(v / r.value))?;
             c.description = format!("{} (output {})", c.description, k + 1);
             out.push(c);
+        } else {
+            let v = fold_max(
+                corners
+                    .iter()
+                    .map(|c| c.secondaries[k].rectifier_reverse_voltage.value),
+            );
+            out.push(rules.not_applicable(
+                "rectifier_voltage_derating",
+                Quantity::new(v, Dimension::VOLTAGE),
+                &format!("output {}: no rectifier voltage rating given, so its highest reverse voltage (the value) is not compared with a rating", k + 1),
+            )?);
         }
     }
     for (k, o) in spec.outputs.iter().enumerate() {
@@ -1021,23 +1038,66 @@ fn evaluate_rules(
             let mut c = rules.check("output_capacitor_ripple_current", n(v / r.value))?;
             c.description = format!("{} (output {})", c.description, k + 1);
             out.push(c);
+        } else {
+            let v = fold_max(
+                normal
+                    .iter()
+                    .map(|c| c.secondaries[k].capacitor_ripple_current_rms.value),
+            );
+            out.push(rules.not_applicable(
+                "output_capacitor_ripple_current",
+                Quantity::new(v, Dimension::CURRENT),
+                &format!("output {}: no capacitor ripple current rating given, so its capacitor ripple current (the value) is not compared with a rating", k + 1),
+            )?);
         }
     }
     if let Some(r) = spec.bulk_ripple_current_rating {
         let v = fold_max(normal.iter().map(|c| c.bulk_ripple_current_rms.value));
         out.push(rules.check("bulk_capacitor_ripple_current", n(v / r.value))?);
+    } else {
+        let v = fold_max(normal.iter().map(|c| c.bulk_ripple_current_rms.value));
+        out.push(rules.not_applicable(
+            "bulk_capacitor_ripple_current",
+            Quantity::new(v, Dimension::CURRENT),
+            "no `bulk_ripple_current_rating` given, so the bulk ripple current (the value) is not compared with a rating",
+        )?);
     }
     if spec.mode.is_some() {
         out.push(rules.check("mode_target", n(corners[0].inductance_ratio))?);
+    } else {
+        out.push(rules.not_applicable(
+            "mode_target",
+            n(corners[0].inductance_ratio),
+            "no `mode` target given, so L over the boundary inductance at low line, full load (the value) is not held to one",
+        )?);
     }
     out.push(rules.check(
         "bulk_valley_minimum",
         Quantity::from_typed(corners[0].bulk_valley_voltage),
     )?);
-    if let (Some(_), Some(t)) = (spec.hold_up_time, hold) {
-        out.push(rules.check("hold_up_time", Quantity::from_typed(t))?);
+    match (spec.hold_up_time, hold) {
+        (Some(_), Some(t)) => out.push(rules.check("hold_up_time", Quantity::from_typed(t))?),
+        (_, t) => out.push(not_applicable_hold_up(t)?),
     }
     Ok(out)
+}
+
+/// The hold-up check when no hold-up time is required: not applicable, the hold-up time
+/// found (if any) as its value.
+fn not_applicable_hold_up(t: Option<Time>) -> Result<CheckResult> {
+    let rule = crate::rules::Rule::new(
+        "hold_up_time",
+        "hold-up time from the low-line valley at full load",
+        "spec",
+        crate::rules::Comparison::AtLeast,
+        Quantity::new(0.0, Dimension::TIME),
+        0.05,
+    )?;
+    let value = Quantity::new(t.map_or(0.0, |t| t.value), Dimension::TIME);
+    Ok(rule.not_applicable(
+        value,
+        "no `hold_up_time` required, so the hold-up time is not checked",
+    ))
 }
 
 impl FlybackDesign {
@@ -1307,6 +1367,10 @@ impl Record for FlybackDesign {
         ));
         v.push(Field::new("worst_status", self.worst_status().to_string()));
         v.push(Field::new("failed_checks", self.failed_checks() as i64));
+        v.push(Field::new(
+            "overridden_limits",
+            crate::rules::overridden_limits(&self.checks),
+        ));
         v
     }
 }

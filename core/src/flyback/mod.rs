@@ -41,7 +41,7 @@ pub use short_circuit::ShortCircuitPoint;
 pub use spec::{
     BiasWinding, BulkChoice, ClampKind, EfficiencyModel, FlybackSpec, InputRange, Leakage,
     LightLoadControl, LossParameters, ModeTarget, OutputWinding, DEFAULT_CLAMP_OVERSHOOT_FRACTION,
-    DEFAULT_VALLEY_FRACTION, MIN_CLAMP_OVERSHOOT_FRACTION,
+    DEFAULT_VALLEY_FRACTION, HOUSE_MAX_JUNCTION_CELSIUS, MIN_CLAMP_OVERSHOOT_FRACTION,
 };
 pub use thermal::{JunctionTemperature, ThermalPath};
 pub use waveform::{boundary_inductance, ConductionMode};

@@ -1,6 +1,6 @@
 //! The flyback's default design rules and their evaluation on a design.
 
-use super::spec::{FlybackSpec, ModeTarget};
+use super::spec::{FlybackSpec, ModeTarget, HOUSE_MAX_JUNCTION_CELSIUS};
 use crate::error::Result;
 use crate::rules::{Comparison, Rule, RuleBook};
 use crate::units::{Dimension, ElectricPotential, Quantity};
@@ -28,7 +28,9 @@ pub const RECTIFIER_DERATING: f64 = 0.8;
 /// | `rectifier_junction_temperature` | each output rectifier's junction at its worst corner | at most `rectifier_max_junction_temperature` | series thermal resistance |
 /// | `short_circuit_settles` | output shorted: shortest on-time over the balance on-time V_rs/(f·(V + V_rs)), worst line | at most 1 (above, the current climbs every cycle) | volt-second balance |
 ///
-/// `bulk_valley_needed` is the design's own minimum for `bulk_valley_minimum`.
+/// `bulk_valley_needed` is the design's own minimum for `bulk_valley_minimum`. A rule whose
+/// input is not given (a rating, a mode target, a hold-up time) is listed in the design's
+/// checks as not applicable, with the reason, never left out.
 pub fn flyback_rule_book(
     spec: &FlybackSpec,
     bulk_valley_needed: ElectricPotential,
@@ -128,7 +130,8 @@ pub fn flyback_rule_book(
         Comparison::AtMost,
         Quantity::from_typed(spec.switch_thermal.max_junction_temperature),
         0.05,
-    )?);
+    )?
+    .with_default(Quantity::celsius(HOUSE_MAX_JUNCTION_CELSIUS)));
     b.add(Rule::new(
         "rectifier_junction_temperature",
         "output rectifier junction temperature at its worst corner, T_a + P·(R_θjc + R_θca)",
@@ -136,7 +139,8 @@ pub fn flyback_rule_book(
         Comparison::AtMost,
         Quantity::from_typed(spec.rectifier_thermal.max_junction_temperature),
         0.05,
-    )?);
+    )?
+    .with_default(Quantity::celsius(HOUSE_MAX_JUNCTION_CELSIUS)));
     b.add(Rule::new(
         "short_circuit_settles",
         "with the output shorted the shortest on-time lets the current settle at the limit",
@@ -146,7 +150,15 @@ pub fn flyback_rule_book(
         0.1,
     )?);
     for (id, limit) in &spec.rule_limits {
-        b.set_limit(id, *limit)?;
+        b.set_limit(id, *limit)
+            .map_err(|e| e.context(&format!("`rule_limits.{id}`")))?;
+    }
+    let duty = b.get("duty_cycle_limit")?.limit.value();
+    if duty >= 1.0 {
+        return Err(crate::Error::out_of_range(format!(
+            "`rule_limits.duty_cycle_limit` must be below 1 (a duty cycle), got {}",
+            crate::units::format_number(duty)
+        )));
     }
     Ok(b)
 }

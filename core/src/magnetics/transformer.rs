@@ -23,6 +23,25 @@ use crate::units::{
 use std::f64::consts::PI;
 use std::fmt::Write;
 
+/// The house limits a [`TransformerSpec`] starts from (the script defaults of
+/// `transformer_design`; common practice, no published source). A specification with another
+/// value is reported as an overridden limit (`loosened` when it lets more through) in
+/// [`transformer_checks`].
+pub mod house_limits {
+    /// Peak flux density at the worst-case current limit, hot (T).
+    pub const MAX_FLUX_DENSITY_TESLA: f64 = 0.3;
+    /// Margin below the 100 °C saturation flux density.
+    pub const SATURATION_MARGIN: f64 = 0.1;
+    /// Copper area over window area.
+    pub const MAX_WINDOW_FILL: f64 = 0.35;
+    /// RMS current density (A/m², 6 A/mm²).
+    pub const MAX_CURRENT_DENSITY_A_PER_M2: f64 = 6.0e6;
+    /// Temperature rise (K).
+    pub const MAX_TEMPERATURE_RISE_KELVIN: f64 = 40.0;
+    /// Layers per winding section.
+    pub const MAX_LAYERS: u32 = 3;
+}
+
 /// The order of windings from the centre leg outwards.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 pub enum WindingOrder {
@@ -165,7 +184,8 @@ pub struct TransformerSpec {
     /// required creepage is common); ignored with a triple-insulated secondary.
     pub margin_width: Length,
     /// Creepage required along the bobbin from primary to secondary windings (from the
-    /// safety analysis); checked against the two margins it crosses. `None`: not checked.
+    /// safety analysis); checked against the two margins it crosses. `None`: the check is
+    /// listed as not applicable, with the reason.
     pub required_creepage: Option<Length>,
     /// Thermal resistance transformer-to-ambient, when known (measured or from a maker);
     /// `None` uses McLyman's surface fit.
@@ -459,7 +479,15 @@ fn transformer_build(
     if spec.max_layers == 0 {
         return Err(Error::invalid("`max_layers` must be at least 1"));
     }
-    let tape = non_negative("tape_thickness", spec.tape_thickness)?.value;
+    let tape = positive("tape_thickness", spec.tape_thickness)?.value;
+    if spec.insulation_layers == 0 && !spec.secondary_triple_insulated {
+        return Err(Error::invalid(
+            "`insulation_layers` is 0 with an enamelled secondary: the tape is then the only \
+             insulation between primary and secondary, and basic or reinforced insulation needs \
+             at least one layer (reinforced thin-sheet insulation two or three, IEC 62368-1); \
+             give the layers the safety analysis requires, or a triple-insulated secondary",
+        ));
+    }
     let margin = non_negative("margin_width", spec.margin_width)?;
     insulation_class_limit(&spec.insulation_class)?;
 
@@ -1046,38 +1074,57 @@ fn rule(
     Rule::new(id, what, reference, cmp, limit, 0.05)?.check(value)
 }
 
+/// A rule on a house limit: marked overridden when the spec's limit is not the house default.
+fn house_rule(
+    id: &str,
+    what: &str,
+    reference: &str,
+    cmp: Comparison,
+    (limit, default): (Quantity, Quantity),
+    value: Quantity,
+) -> Result<CheckResult> {
+    Rule::new(id, what, reference, cmp, limit, 0.05)?
+        .with_default(default)
+        .check(value)
+}
+
 /// The design rules of a transformer: flux at the worst-case current limit against the
 /// house limit and against hot saturation with margin, window fill, current density,
 /// temperature rise, hot spot against the insulation class, layers per section, build
-/// height, insulation layers present.
+/// height, insulation layers present, creepage along the bobbin (listed as not applicable, with
+/// the reason, when no creepage is required or the secondary is triple-insulated). House
+/// limits other than [`house_limits`] are marked overridden.
 pub fn transformer_checks(
     spec: &TransformerSpec,
     d: &TransformerDesign,
 ) -> Result<Vec<CheckResult>> {
     let num = Quantity::number;
     let mut out = vec![
-        rule(
+        house_rule(
             "flux_at_current_limit",
             "peak flux density at the worst-case current limit, upper inductance tolerance, smallest section",
             "house rule",
             Comparison::AtMost,
-            q(spec.max_flux_density),
+            (
+                q(spec.max_flux_density),
+                Quantity::new(house_limits::MAX_FLUX_DENSITY_TESLA, q(spec.max_flux_density).dimension()),
+            ),
             q(d.flux_density_limit_peak),
         )?,
-        rule(
+        house_rule(
             "saturation_margin_hot",
             "margin of that flux density below saturation at 100 °C",
             "common practice, no published source",
             Comparison::AtLeast,
-            num(spec.saturation_margin),
+            (num(spec.saturation_margin), num(house_limits::SATURATION_MARGIN)),
             num(d.saturation_margin),
         )?,
-        rule(
+        house_rule(
             "window_fill",
             "copper area over window area",
             "McLyman 2011, window utilisation (chapter 4); limit is a house rule",
             Comparison::AtMost,
-            num(spec.max_window_fill),
+            (num(spec.max_window_fill), num(house_limits::MAX_WINDOW_FILL)),
             num(d.window_fill),
         )?,
         rule(
@@ -1088,12 +1135,18 @@ pub fn transformer_checks(
             num(1.0),
             num(d.build_fraction),
         )?,
-        rule(
+        house_rule(
             "temperature_rise",
             "temperature rise by McLyman's surface fit",
             "McLyman 2011, chapter 6; limit is a house rule",
             Comparison::AtMost,
-            q(spec.max_temperature_rise),
+            (
+                q(spec.max_temperature_rise),
+                Quantity::new(
+                    house_limits::MAX_TEMPERATURE_RISE_KELVIN,
+                    q(spec.max_temperature_rise).dimension(),
+                ),
+            ),
             q(d.temperature_rise),
         )?,
         rule(
@@ -1123,33 +1176,63 @@ pub fn transformer_checks(
             q(b),
         )?);
     }
-    if let (Some(c), false) = (spec.required_creepage, spec.secondary_triple_insulated) {
-        let c = positive("required_creepage", c)?;
-        out.push(rule(
+    // the creepage check is always listed: without a requirement, or with a
+    // triple-insulated secondary, it says why it does not apply
+    let along = q(si::<Length>(2.0 * spec.margin_width.value));
+    let creepage_rule = |limit: Quantity| {
+        Rule::new(
             "creepage_along_bobbin",
             "creepage from primary to secondary along the bobbin: the two margins it crosses",
             "required creepage from the safety analysis (IEC 62368-1 / IEC 60664-1)",
             Comparison::AtLeast,
-            q(c),
-            q(si::<Length>(2.0 * spec.margin_width.value)),
-        )?);
+            limit,
+            0.05,
+        )
+    };
+    match (spec.required_creepage, spec.secondary_triple_insulated) {
+        (Some(c), false) => {
+            let c = positive("required_creepage", c)?;
+            out.push(creepage_rule(q(c))?.check(along)?);
+        }
+        (_, true) => out.push(creepage_rule(along)?.not_applicable(
+            // no margin tape is wound with a triple-insulated secondary
+            q(si::<Length>(0.0)),
+            "the secondary is triple-insulated wire, whose own insulation is the barrier (no margin tape is crossed)",
+        )),
+        (None, false) => out.push(creepage_rule(along)?.not_applicable(
+            along,
+            &format!(
+                "no `required_creepage` given, so the {} the margins provide ({} each side) is not compared with a requirement; give the creepage the safety analysis requires",
+                along,
+                Quantity::from_typed(spec.margin_width)
+            ),
+        )),
     }
     for s in &d.sections {
         let id = s.name.replace([',', ' '], "_").replace("__", "_");
-        out.push(rule(
+        out.push(house_rule(
             &format!("current_density_{id}"),
             &format!("RMS current density in the {}", s.name),
             "house rule",
             Comparison::AtMost,
-            q(spec.max_current_density),
+            (
+                q(spec.max_current_density),
+                Quantity::new(
+                    house_limits::MAX_CURRENT_DENSITY_A_PER_M2,
+                    q(spec.max_current_density).dimension(),
+                ),
+            ),
             q(s.current_density),
         )?);
-        out.push(rule(
+        out.push(house_rule(
             &format!("layers_{id}"),
             &format!("layers of the {} (proximity loss)", s.name),
             "Dowell 1966: loss rises with layer count; limit is a house rule",
             Comparison::AtMost,
-            num(spec.max_layers as f64),
+            (
+                num(spec.max_layers as f64),
+                num(house_limits::MAX_LAYERS as f64),
+            ),
             num(s.fit.layers as f64),
         )?);
     }

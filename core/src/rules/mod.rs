@@ -38,9 +38,13 @@ impl Comparison {
     }
 }
 
-/// The verdict of a check.
+/// The verdict of a check. Ordered from best to worst; `NotApplicable` sorts below `Pass`, so
+/// [`worst_status`] of a list with any real verdict is that verdict.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, PartialOrd, Ord)]
 pub enum Status {
+    /// The check does not apply to this design (its reason is in the description); it is
+    /// reported so that nothing is dropped without a word, and it never counts as a failure.
+    NotApplicable,
     /// Within the limit with more than the warning margin to spare.
     Pass,
     /// Within the limit, but closer than the warning margin.
@@ -52,6 +56,7 @@ pub enum Status {
 impl fmt::Display for Status {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         f.write_str(match self {
+            Status::NotApplicable => "not_applicable",
             Status::Pass => "pass",
             Status::Warn => "warn",
             Status::Fail => "fail",
@@ -75,6 +80,9 @@ pub struct Rule {
     pub limit: Quantity,
     /// Relative margin below which a passing value is flagged `warn` (0.05 = 5 %).
     pub warn_margin: f64,
+    /// The rule's own (default) limit when `limit` was overridden
+    /// ([`RuleBook::set_limit`], [`Rule::with_default`]); `None` when the limit is the default.
+    pub default_limit: Option<Quantity>,
 }
 
 /// The outcome of one check.
@@ -97,6 +105,32 @@ pub struct CheckResult {
     pub margin: f64,
     /// Verdict.
     pub status: Status,
+    /// The rule's default limit when the limit used was overridden; `None` otherwise. The
+    /// description then ends with the override note ([`override_note`]).
+    pub default_limit: Option<Quantity>,
+}
+
+/// The note an overridden limit adds to a rule's text: `overridden: limit L instead of the
+/// default D` and, when the new limit lets more through than the default (higher for
+/// at-most, lower for at-least), `(loosened)`.
+pub fn override_note(comparison: Comparison, limit: Quantity, default: Quantity) -> String {
+    format!(
+        "overridden{}: limit {limit} instead of the default {default}",
+        if loosens(comparison, limit, default) {
+            " (loosened)"
+        } else {
+            ""
+        }
+    )
+}
+
+/// True when `limit` lets more through than `default`: higher for at-most rules, lower for
+/// at-least rules.
+pub fn loosens(comparison: Comparison, limit: Quantity, default: Quantity) -> bool {
+    match comparison {
+        Comparison::AtMost => limit.value() > default.value(),
+        Comparison::AtLeast => limit.value() < default.value(),
+    }
 }
 
 impl Rule {
@@ -136,7 +170,36 @@ impl Rule {
             comparison,
             limit,
             warn_margin,
+            default_limit: None,
         })
+    }
+
+    /// The rule with `default` as its own limit: when the limit it was built with differs
+    /// from `default` (a house limit given in a specification), the rule is marked
+    /// overridden, exactly as [`RuleBook::set_limit`] marks it.
+    pub fn with_default(mut self, default: Quantity) -> Self {
+        if default.dimension() == self.limit.dimension() && default.value() != self.limit.value() {
+            self.default_limit = Some(default);
+        }
+        self
+    }
+
+    /// True when the limit differs from the rule's default.
+    pub fn overridden(&self) -> bool {
+        self.default_limit.is_some()
+    }
+
+    /// The rule's text: its description and, when the limit is overridden, the
+    /// [`override_note`] with the new and the default limit.
+    pub fn text(&self) -> String {
+        match self.default_limit {
+            Some(d) => format!(
+                "{}; {}",
+                self.description,
+                override_note(self.comparison, self.limit, d)
+            ),
+            None => self.description.clone(),
+        }
     }
 
     /// Checks a value against the rule. The value must have the limit's dimension.
@@ -171,26 +234,84 @@ impl Rule {
         };
         Ok(CheckResult {
             id: self.id.clone(),
-            description: self.description.clone(),
+            description: self.text(),
             reference: self.reference.clone(),
             comparison: self.comparison,
             value,
             limit: self.limit,
             margin,
             status,
+            default_limit: self.default_limit,
         })
+    }
+
+    /// A check that does not apply, kept so that it still shows: status `not_applicable`,
+    /// `value` what the design provides, the limit zero in the value's dimension (shown
+    /// blank in tables), margin zero, and `reason` after the description.
+    pub fn not_applicable(&self, value: Quantity, reason: &str) -> CheckResult {
+        CheckResult {
+            id: self.id.clone(),
+            description: format!("{}; not applicable: {reason}", self.text()),
+            reference: self.reference.clone(),
+            comparison: self.comparison,
+            value,
+            limit: Quantity::new(0.0, value.dimension()),
+            margin: 0.0,
+            status: Status::NotApplicable,
+            default_limit: self.default_limit,
+        }
     }
 }
 
 impl CheckResult {
-    /// The result as named values for a table row.
+    /// True when the limit used was overridden (it differs from the rule's default).
+    pub fn overridden(&self) -> bool {
+        self.default_limit.is_some()
+    }
+    /// True when the overridden limit lets more through than the default.
+    pub fn loosened(&self) -> bool {
+        self.default_limit
+            .is_some_and(|d| loosens(self.comparison, self.limit, d))
+    }
+    /// The limit as text: blank for a check that does not apply, and followed by
+    /// `(overridden, default D)` or `(overridden and loosened, default D)` when overridden.
+    pub fn limit_text(&self) -> String {
+        if self.status == Status::NotApplicable {
+            return String::new();
+        }
+        match self.default_limit {
+            Some(d) => format!(
+                "{} (overridden{}, default {d})",
+                self.limit,
+                if self.loosened() { " and loosened" } else { "" }
+            ),
+            None => self.limit.to_string(),
+        }
+    }
+    /// The result as named values for a table row: `limit_overridden` and `default_limit`
+    /// (blank when not overridden) say whether the limit is the rule's own.
     pub fn fields(&self) -> Vec<Field> {
+        let na = self.status == Status::NotApplicable;
         vec![
             Field::new("id", self.id.as_str()),
             Field::new("status", self.status.to_string()),
             Field::new("value", self.value.to_string()),
             Field::new("comparison", self.comparison.as_str()),
-            Field::new("limit", self.limit.to_string()),
+            Field::new(
+                "limit",
+                if na {
+                    String::new()
+                } else {
+                    self.limit.to_string()
+                },
+            ),
+            Field::new("limit_overridden", self.overridden()),
+            Field::new(
+                "default_limit",
+                self.default_limit
+                    .map(|d| d.to_string())
+                    .unwrap_or_default(),
+            ),
             Field::new("margin_percent", (self.margin * 1000.0).round() / 10.0),
             Field::new("description", self.description.as_str()),
             Field::new("reference", self.reference.as_str()),
@@ -207,13 +328,32 @@ pub fn checks_table(results: &[CheckResult]) -> Table {
     t
 }
 
-/// The worst status of a list of checks (`pass` for none).
+/// The worst status of a list of checks: `fail` over `warn` over `pass` over
+/// `not_applicable`; `pass` for none.
 pub fn worst_status(results: &[CheckResult]) -> Status {
     results
         .iter()
         .map(|r| r.status)
         .max()
         .unwrap_or(Status::Pass)
+}
+
+/// The ids of the checks whose limit was overridden, once each, in order, `(loosened)` after
+/// those whose new limit lets more through: `drain_voltage_derating (loosened), hold_up_time`;
+/// empty when every limit is the rule's own. Summaries carry it as `overridden_limits`.
+pub fn overridden_limits(results: &[CheckResult]) -> String {
+    let mut seen: Vec<String> = Vec::new();
+    for r in results.iter().filter(|r| r.overridden()) {
+        let item = if r.loosened() {
+            format!("{} (loosened)", r.id)
+        } else {
+            r.id.clone()
+        };
+        if !seen.contains(&item) {
+            seen.push(item);
+        }
+    }
+    seen.join(", ")
 }
 
 /// An ordered set of rules, with limits a recipe may override by id.
@@ -252,7 +392,12 @@ impl RuleBook {
             crate::script::suggest::did_you_mean(id, &names)
         ))
     }
-    /// Overrides the limit of a rule; the new limit must have the old one's dimension.
+    /// Overrides the limit of a rule; the new limit must have the old one's dimension, be
+    /// finite, and keep the sign of a positive default (a positive default is a physical
+    /// minimum or maximum — a distance, a voltage, a time, a ratio — for which zero or a
+    /// negative value makes no sense). The rule keeps its default and is marked overridden
+    /// ([`Rule::text`], [`CheckResult::default_limit`]); setting the default back clears
+    /// the mark.
     pub fn set_limit(&mut self, id: &str, limit: Quantity) -> Result<()> {
         let unknown = self.unknown(id);
         let r = self.rules.iter_mut().find(|r| r.id == id).ok_or(unknown)?;
@@ -268,8 +413,19 @@ impl RuleBook {
                 "rule `{id}`: limit must be finite, got {limit}"
             )));
         }
+        let default = r.default_limit.unwrap_or(r.limit);
+        if default.value() > 0.0 && limit.value() <= 0.0 {
+            return Err(Error::out_of_range(format!(
+                "rule `{id}`: the limit must be above zero like its default {default}, got {limit}"
+            )));
+        }
         r.limit = limit;
+        r.default_limit = (limit.value() != default.value()).then_some(default);
         Ok(())
+    }
+    /// The rule with an id, reported as not applicable: see [`Rule::not_applicable`].
+    pub fn not_applicable(&self, id: &str, value: Quantity, reason: &str) -> Result<CheckResult> {
+        Ok(self.get(id)?.not_applicable(value, reason))
     }
     /// Checks a value against the rule with an id.
     pub fn check(&self, id: &str, value: Quantity) -> Result<CheckResult> {

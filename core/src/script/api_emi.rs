@@ -452,10 +452,17 @@ fn primary_current(s: &Spec) -> Result<PrimaryCurrentShape> {
             peak: s.quantity("peak_current")?,
             duty,
         }),
-        "dcm" | "discontinuous" => Ok(PrimaryCurrentShape::Discontinuous {
-            peak: s.quantity("peak_current")?,
-            duty,
-        }),
+        "dcm" | "discontinuous" => {
+            // in DCM the current starts from zero: a zero valley agrees, any other is ignored
+            let valley: crate::units::ElectricCurrent = s.quantity("valley_current")?;
+            if valley.value != 0.0 {
+                s.ignore("valley_current");
+            }
+            Ok(PrimaryCurrentShape::Discontinuous {
+                peak: s.quantity("peak_current")?,
+                duty,
+            })
+        }
         other => Err(Error::unknown(format!(
             "unknown `conduction_mode` '{other}'; expected \"ccm\" or \"dcm\""
         ))),

@@ -28,11 +28,11 @@ static FAMILY: FunctionDoc = FunctionDoc {
 static GRID: FunctionDoc = FunctionDoc {
     name: "grid",
     domain: Domain::Families,
-    summary: "Every combination of the given axes, as an array of maps (the first key as written varies slowest).",
+    summary: "Every combination of the given axes, as an array of maps (the first key as written varies slowest); an axis is an array, a range (`1..4` is 1, 2, 3; `1..=4` adds 4) or a single value.",
     params: &[ParamDoc::required(
         "axes",
         ParamKind::Map,
-        "name → array of values",
+        "name → array of values, or a range of whole numbers",
     )],
     keys: &[],
     returns: "array of maps",
@@ -230,6 +230,7 @@ fn run_family(
                         return Ok(Err(panic_message(payload.as_ref())));
                     }
                 };
+                state.collect_warnings();
                 if let Some(p) = &progress {
                     p(done.fetch_add(1, Ordering::Relaxed) + 1, total);
                 }
@@ -295,15 +296,38 @@ fn panic_message(payload: &(dyn std::any::Any + Send)) -> String {
     format!("internal error: native code panicked in this variant ({what}); please report it")
 }
 
+/// A range axis (`1..4`, `1..=4`) as its half-open bounds.
+fn axis_range(v: &Dynamic) -> Option<(INT, INT)> {
+    if let Some(r) = v.read_lock::<std::ops::Range<INT>>() {
+        return Some((r.start, r.end));
+    }
+    if let Some(r) = v.read_lock::<std::ops::RangeInclusive<INT>>() {
+        return Some((*r.start(), r.end().saturating_add(1)));
+    }
+    None
+}
+
 fn grid(axes: &Map, max_rows: usize, orders: &KeyOrders) -> crate::error::Result<Array> {
     let mut rows: Vec<Map> = vec![Map::new()];
     for name in orders.keys_of(axes) {
         let Some(values) = axes.get(name) else {
             continue;
         };
-        let list: Array = match values.read_lock::<Array>() {
-            Some(a) => a.clone(),
-            None => vec![values.clone()],
+        let list: Array = match axis_range(values) {
+            Some((start, end)) => {
+                // counted before any value is made, so a huge range is refused, not built
+                let n = usize::try_from(end.saturating_sub(start).max(0)).unwrap_or(usize::MAX);
+                if rows.len().saturating_mul(n) > max_rows {
+                    return Err(Error::out_of_range(format!(
+                        "the grid would have more than {max_rows} variants (the array size limit): axis `{name}` is a range of {n} values"
+                    )));
+                }
+                (start..end).map(Dynamic::from_int).collect()
+            }
+            None => match values.read_lock::<Array>() {
+                Some(a) => a.clone(),
+                None => vec![values.clone()],
+            },
         };
         if list.is_empty() {
             return Err(Error::invalid(format!("grid axis `{name}` has no values")));

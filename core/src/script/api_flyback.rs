@@ -37,14 +37,14 @@ static DESIGN: FunctionDoc = FunctionDoc {
         ParamDoc::optional("target_valley_voltage", Q("V"), "bulk valley at low line, full load when sizing the bulk capacitor (rounded up to E12); else 0.64 × the lowest rectified line peak (about 80 V at 90 V, 160 V at 180 V), listed in derived_defaults"),
         ParamDoc::with_default("bridge_diode_drop", Q("V"), "1 V", "drop of one bridge diode"),
         ParamDoc::with_default("bulk_esr", Q("Ω"), "1 ohm", "bulk capacitor ESR"),
-        ParamDoc::optional("bulk_ripple_current_rating", Q("A"), "bulk capacitor ripple current rating (adds its rule)"),
+        ParamDoc::optional("bulk_ripple_current_rating", Q("A"), "bulk capacitor ripple current rating (checks its rule; without it the rule is listed as not applicable)"),
         ParamDoc::optional("output_voltage", Q("V"), "single output: voltage (or use `outputs`)"),
         ParamDoc::optional("output_current", Q("A"), "single output: full-load current"),
         ParamDoc::with_default("rectifier_drop", Q("V"), "0.5 V", "single output: rectifier forward drop"),
-        ParamDoc::optional("rectifier_voltage_rating", Q("V"), "single output: rectifier reverse rating (adds its rule)"),
+        ParamDoc::optional("rectifier_voltage_rating", Q("V"), "single output: rectifier reverse rating (checks its rule; without it the rule is listed as not applicable)"),
         ParamDoc::with_default("output_capacitance", Q("F"), "1000 uF", "single output: output capacitance"),
         ParamDoc::with_default("output_esr", Q("Ω"), "30 mohm", "single output: output capacitor ESR"),
-        ParamDoc::optional("output_ripple_current_rating", Q("A"), "single output: capacitor ripple rating (adds its rule)"),
+        ParamDoc::optional("output_ripple_current_rating", Q("A"), "single output: capacitor ripple rating (checks its rule; without it the rule is listed as not applicable)"),
         ParamDoc::optional("post_filter_inductance", Q("H"), "single output: LC post filter inductance"),
         ParamDoc::optional("post_filter_capacitance", Q("F"), "single output: LC post filter capacitance"),
         ParamDoc::optional("outputs", List, "several outputs: array of maps with keys voltage, current, rectifier_drop, rectifier_voltage_rating, capacitance, esr, ripple_current_rating, post_filter_inductance, post_filter_capacitance, regulated (defaults as the single-output keys; the first output is regulated unless one says regulated: true)"),
@@ -95,7 +95,7 @@ static DESIGN: FunctionDoc = FunctionDoc {
         ParamDoc::with_default("rectifier_case_to_ambient", Q("K/W"), "60 K/W", "output rectifier case to ambient (every output)"),
         ParamDoc::with_default("rectifier_max_junction_temperature", Q("°C"), "125 °C", "house limit of the rectifier junctions"),
         ParamDoc::optional("hold_up_end_voltage", Q("V"), "bulk voltage ending hold-up; else where the duty limit is reached"),
-        ParamDoc::optional("hold_up_time", Q("s"), "required hold-up time (adds its rule)"),
+        ParamDoc::optional("hold_up_time", Q("s"), "required hold-up time (checks its rule; without it the rule is listed as not applicable)"),
         ParamDoc::optional("rule_limits", ParamKind::Map, "rule id → limit, overriding the default rule book: duty_cycle_limit (number), drain_voltage_derating (V), rectifier_voltage_derating (reverse voltage over rating), output_capacitor_ripple_current and bulk_capacitor_ripple_current (ripple over rating), mode_target (L over the boundary inductance), bulk_valley_minimum (V), hold_up_time (s), short_circuit_settles (shortest over balance on-time), switch_junction_temperature and rectifier_junction_temperature (°C)"),
     ],
     returns: "a FlybackDesign; its summary fields read as properties (d.primary_inductance)",
@@ -446,7 +446,7 @@ fn spec_from_map(m: &Map) -> Result<FlybackSpec> {
         }
         None => s.quantity("reflected_voltage")?,
     };
-    Ok(FlybackSpec {
+    let spec = FlybackSpec {
         input,
         bulk,
         bridge_diode_drop: s.quantity("bridge_diode_drop")?,
@@ -514,7 +514,13 @@ fn spec_from_map(m: &Map) -> Result<FlybackSpec> {
         hold_up_end_voltage: s.optional_quantity("hold_up_end_voltage")?,
         hold_up_time: s.optional_quantity("hold_up_time")?,
         rule_limits,
-    })
+    };
+    if clamp == ClampKind::Rcd {
+        // read for the record, used only by a Zener clamp: reported as ignored when given
+        s.ignore("zener_tolerance");
+        s.ignore("zener_rise_hot");
+    }
+    Ok(spec)
 }
 
 /// With a single output given by top-level keys, errors name those keys, not `outputs[0].…`.

@@ -41,7 +41,7 @@ static ADD_RULE: FunctionDoc = FunctionDoc {
 static SET_LIMIT: FunctionDoc = FunctionDoc {
     name: "set_limit",
     domain: Domain::Rules,
-    summary: "Overrides the limit of a rule by id; the dimension must stay the same.",
+    summary: "Overrides the limit of a rule by id; the dimension must stay the same, the limit be finite and, when the default is above zero, above zero too. The rule is marked overridden (its text and every check name the new and the default limit, `loosened` when the new one lets more through).",
     params: &[
         ParamDoc::required("book", ParamKind::Any, "the RuleBook"),
         ParamDoc::required("id", ParamKind::Text, "rule id"),
@@ -65,7 +65,7 @@ static CHECK: FunctionDoc = FunctionDoc {
         ),
     ],
     keys: &[],
-    returns: "a CheckResult with fields id, status, value, limit, margin",
+    returns: "a CheckResult with fields id, status, value, limit, margin, description, limit_overridden, limit_loosened and default_limit (() when the limit is the rule's own)",
     example: "rules.check(\"switch_voltage\", 480 * V)",
 };
 static CHECK_ALL: FunctionDoc = FunctionDoc {
@@ -108,14 +108,22 @@ static WORST: FunctionDoc = FunctionDoc {
 };
 
 /// One line describing a check, for display.
+/// An overridden limit shows `(overridden, default D)`; a check that does not apply shows
+/// its reason instead of a limit.
 pub(crate) fn check_line(c: &CheckResult) -> String {
+    if c.status == Status::NotApplicable {
+        return format!(
+            "{}  {}: {} — {} [{}]",
+            c.status, c.id, c.value, c.description, c.reference
+        );
+    }
     format!(
         "{:4}  {}: {} {} {} (margin {:.1} %) [{}]",
         c.status.to_string(),
         c.id,
         c.value,
         c.comparison.as_str(),
-        c.limit,
+        c.limit_text(),
         c.margin * 100.0,
         c.reference
     )
@@ -146,7 +154,7 @@ pub(crate) fn rule_book_text(b: &RuleBook) -> String {
                 r.id,
                 r.comparison.as_str(),
                 r.limit,
-                r.description,
+                r.text(),
                 r.reference
             )
         })
@@ -175,6 +183,15 @@ pub(crate) fn register(api: &mut Api) {
         super::convert::quantity_to_dynamic(c.limit)
     });
     e.register_get("margin", |c: &mut CheckResult| c.margin);
+    e.register_get("description", |c: &mut CheckResult| c.description.clone());
+    e.register_get("limit_overridden", |c: &mut CheckResult| c.overridden());
+    e.register_get("limit_loosened", |c: &mut CheckResult| c.loosened());
+    e.register_get("default_limit", |c: &mut CheckResult| {
+        match c.default_limit {
+            Some(d) => super::convert::quantity_to_dynamic(d),
+            None => Dynamic::UNIT,
+        }
+    });
     e.register_get("passed", |c: &mut CheckResult| c.status != Status::Fail);
 
     def!(api, &RULE_BOOK, RuleBook::new);
@@ -183,6 +200,13 @@ pub(crate) fn register(api: &mut Api) {
      -> ScriptResult<()> {
         let s = lift(Spec::new(&ADD_RULE, &m))?;
         let rule = lift((|| {
+            let limit = s.any_quantity("limit")?;
+            if limit.dimension() == crate::units::Dimension::LENGTH && limit.value() <= 0.0 {
+                return Err(Error::out_of_range(format!(
+                    "add_rule `{}`: a distance limit (`limit`, m) must be above zero, got {limit}",
+                    s.text("id")?
+                )));
+            }
             Rule::new(
                 &s.text("id")?,
                 &s.text("description")?,

@@ -79,6 +79,8 @@ pub(crate) struct HostState {
     verdict_texts: Mutex<std::collections::HashMap<u64, usize>>,
     /// Parameters the running recipe declared with `param`, in order.
     params: Mutex<Vec<super::recipe::RecipeParam>>,
+    /// Warnings for the runner (keys a configuration ignored), each once.
+    warnings: Mutex<Vec<String>>,
     /// Values `--set` gives declared parameters.
     overrides: RwLock<std::collections::HashMap<String, Dynamic>>,
 }
@@ -101,7 +103,22 @@ impl HostState {
             pool: std::sync::OnceLock::new(),
             verdict_texts: Mutex::new(std::collections::HashMap::new()),
             params: Mutex::new(Vec::new()),
+            warnings: Mutex::new(Vec::new()),
             overrides: RwLock::new(std::collections::HashMap::new()),
+        }
+    }
+    /// Collects the ignored-key warnings noted on this thread (see [`super::spec::Spec`]).
+    pub(crate) fn collect_warnings(&self) {
+        let new = super::spec::take_thread_warnings();
+        if new.is_empty() {
+            return;
+        }
+        if let Ok(mut w) = self.warnings.lock() {
+            for t in new {
+                if !w.contains(&t) {
+                    w.push(t);
+                }
+            }
         }
     }
     /// A constant of the scope the run started with.
@@ -609,6 +626,15 @@ impl ScriptHost {
             *p = f;
         }
     }
+    /// Warnings since the last call, each once: keys given to a function that the
+    /// configuration does not use (they were still checked). The runner prints them on stderr.
+    pub fn take_warnings(&self) -> Vec<String> {
+        self.state
+            .warnings
+            .lock()
+            .map(|mut w| std::mem::take(&mut *w))
+            .unwrap_or_default()
+    }
     /// Lines printed since the last call (when no print callback is set).
     pub fn take_printed(&self) -> Vec<String> {
         self.state
@@ -727,7 +753,11 @@ impl ScriptHost {
             Arc::make_mut(&mut k).learn(source, ast, self.limits.max_expr_depth);
         }
         self.state.start_clock();
-        let r = on_script_stack(|| self.engine.eval_ast_with_scope::<Dynamic>(scope, ast));
+        let r = on_script_stack(|| {
+            let r = self.engine.eval_ast_with_scope::<Dynamic>(scope, ast);
+            self.state.collect_warnings();
+            r
+        });
         self.state.stop_clock();
         r.map_err(|e| {
             self.with_signature(ScriptError::from_eval(
@@ -837,8 +867,11 @@ impl ScriptHost {
     ) -> Result<Dynamic, ScriptError> {
         self.state.start_clock();
         let r = on_script_stack(|| {
-            self.engine
-                .call_fn::<Dynamic>(&mut Scope::new(), ast, name, args)
+            let r = self
+                .engine
+                .call_fn::<Dynamic>(&mut Scope::new(), ast, name, args);
+            self.state.collect_warnings();
+            r
         });
         self.state.stop_clock();
         r.map_err(|e| self.with_signature(ScriptError::from_eval(&e, "", name, &self.limits)))

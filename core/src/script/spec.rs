@@ -28,11 +28,129 @@ fn parse_default(text: &'static str) -> Result<Quantity> {
     Ok(q)
 }
 
+thread_local! {
+    /// Ignored-key warnings of the `Spec`s read on this thread, until the host collects them.
+    static WARNINGS: std::cell::RefCell<Vec<String>> = const { std::cell::RefCell::new(Vec::new()) };
+}
+
+/// The ignored-key warnings noted on this thread since the last call (the host collects them
+/// after a script and after each family variant).
+pub(crate) fn take_thread_warnings() -> Vec<String> {
+    WARNINGS.with(|w| std::mem::take(&mut *w.borrow_mut()))
+}
+
 /// A checked view of an object-map argument.
+///
+/// Every key given is checked against its documented kind when the view is made (a quantity
+/// of the documented dimension, finite; a finite number; a whole number; a flag; text), read
+/// or not, so a key that the configuration ignores still cannot carry NaN or a wrong unit.
+/// Keys given but never read are reported when the view is dropped: a warning the runner
+/// prints (`ScriptHost::take_warnings`), naming the function and the keys.
 pub struct Spec<'a> {
     function: &'static str,
     map: &'a Map,
     keys: &'static [ParamDoc],
+    read: std::cell::RefCell<Vec<&'static str>>,
+    failed: std::cell::Cell<bool>,
+}
+
+impl Drop for Spec<'_> {
+    fn drop(&mut self) {
+        if self.failed.get() {
+            return;
+        }
+        let read = self.read.borrow();
+        let ignored: Vec<&str> = self
+            .map
+            .iter()
+            .filter(|(k, v)| !v.is_unit() && !read.contains(&k.as_str()))
+            .map(|(k, _)| k.as_str())
+            .collect();
+        if ignored.is_empty() {
+            return;
+        }
+        let list = ignored
+            .iter()
+            .map(|k| format!("`{k}`"))
+            .collect::<Vec<_>>()
+            .join(", ");
+        let text = format!(
+            "{}: {} {list} {} checked but not used by this configuration (it has no effect here)",
+            self.function,
+            if ignored.len() == 1 { "key" } else { "keys" },
+            if ignored.len() == 1 { "was" } else { "were" },
+        );
+        WARNINGS.with(|w| {
+            let mut w = w.borrow_mut();
+            if !w.contains(&text) {
+                w.push(text);
+            }
+        });
+    }
+}
+
+/// Checks a given value against its documented kind, whether or not it is read.
+fn check_given(function: &str, d: &ParamDoc, v: &Dynamic) -> Result<()> {
+    if v.is_unit() {
+        return Ok(());
+    }
+    let key = d.name;
+    let finite = |q: Quantity| -> Result<()> {
+        if q.value().is_finite() {
+            Ok(())
+        } else {
+            Err(Error::invalid(format!("`{key}` must be finite, got {q}")))
+        }
+    };
+    let r = match d.kind {
+        ParamKind::Quantity(unit) => {
+            // the documented unit gives the dimension; units the parser does not know
+            // ("any unit") are only checked for finiteness
+            let expected = parse_quantity(&format!("1 {unit}"), None)
+                .ok()
+                .map(|q| (q.dimension(), q.is_absolute_temperature()));
+            if v.is_array() || v.is_map() || v.is_fnptr() {
+                // a binding that takes a list or a map here reads it itself
+                return Ok(());
+            }
+            match expected {
+                Some((dim, _)) => {
+                    let q = dynamic_to_quantity(v, key, Some(dim))?;
+                    if q.is_dimensionless() && !dim.is_dimensionless() {
+                        Err(Error::dimension(format!(
+                            "`{key}` must be a {dim} ({unit}), got the plain number {q}; write a unit, e.g. `{q} * {}`",
+                            crate::units::unit_symbol(dim)
+                        )))
+                    } else if q.dimension() != dim {
+                        Err(Error::dimension(format!(
+                            "`{key}` must be in {unit}, got {}",
+                            q.describe()
+                        )))
+                    } else {
+                        finite(q)
+                    }
+                }
+                None => match dynamic_to_quantity(v, key, None) {
+                    Ok(q) => finite(q),
+                    Err(_) => Ok(()),
+                },
+            }
+        }
+        ParamKind::Number => {
+            if v.is_array() || v.is_map() || v.is_string() {
+                return Ok(());
+            }
+            dynamic_to_number(v, key).and_then(|x| finite(Quantity::number(x)))
+        }
+        ParamKind::Integer => {
+            if v.is_array() || v.is_map() || v.is_string() {
+                return Ok(());
+            }
+            dynamic_to_integer(v, key).map(|_| ())
+        }
+        _ => Ok(()),
+    };
+    r.map_err(|e| e.context(function))
 }
 
 impl<'a> Spec<'a> {
@@ -48,14 +166,27 @@ impl<'a> Spec<'a> {
                 )));
             }
         }
+        for d in doc.keys {
+            if let Some(v) = map.get(d.name) {
+                check_given(doc.name, d, v)?;
+            }
+        }
         Ok(Self {
             function: doc.name,
             map,
             keys: doc.keys,
+            read: std::cell::RefCell::new(Vec::new()),
+            failed: std::cell::Cell::new(false),
         })
     }
 
     fn doc(&self, key: &str) -> Result<&'static ParamDoc> {
+        if let Some(d) = self.keys.iter().find(|k| k.name == key) {
+            let mut r = self.read.borrow_mut();
+            if !r.contains(&d.name) {
+                r.push(d.name);
+            }
+        }
         self.keys.iter().find(|k| k.name == key).ok_or_else(|| {
             Error::unknown(format!(
                 "{}: key `{key}` is read but not documented (a gapwise bug; please report it)",
@@ -65,6 +196,7 @@ impl<'a> Spec<'a> {
     }
 
     fn missing(&self, d: &ParamDoc) -> Error {
+        self.failed.set(true);
         Error::missing(format!(
             "{}: missing key `{}` ({}, {})",
             self.function,
@@ -75,6 +207,7 @@ impl<'a> Spec<'a> {
     }
 
     fn context(&self, e: Error) -> Error {
+        self.failed.set(true);
         e.context(self.function)
     }
 
@@ -188,6 +321,12 @@ impl<'a> Spec<'a> {
                 )))
             }),
         }
+    }
+
+    /// Marks a key as not used by this configuration even though it was read (for a value
+    /// that only matters in another mode), so that it is reported as ignored.
+    pub fn ignore(&self, key: &str) {
+        self.read.borrow_mut().retain(|k| *k != key);
     }
 
     /// The raw script value of a key (arrays, maps, functions), if present.

@@ -341,11 +341,11 @@ static DESIGN: FunctionDoc = FunctionDoc {
         ParamDoc::with_default("max_window_fill", ParamKind::Number, "0.35", "house limit, copper over window"),
         ParamDoc::with_default("max_temperature_rise", ParamKind::Quantity("K"), "40 K", "house limit"),
         ParamDoc::with_default("max_layers", ParamKind::Integer, "3", "house limit per winding section"),
-        ParamDoc::with_default("insulation_layers", ParamKind::Integer, "3", "tape layers required primary to secondary (from the safety analysis)"),
+        ParamDoc::with_default("insulation_layers", ParamKind::Integer, "3", "tape layers required primary to secondary (from the safety analysis); at least 1 unless the secondary is triple-insulated"),
         ParamDoc::with_default("functional_tape_layers", ParamKind::Integer, "1", "tape layers between same-side windings"),
-        ParamDoc::with_default("tape_thickness", ParamKind::Quantity("m"), "0.05 mm", "one tape layer"),
+        ParamDoc::with_default("tape_thickness", ParamKind::Quantity("m"), "0.05 mm", "one tape layer (above zero)"),
         ParamDoc::with_default("margin_width", ParamKind::Quantity("m"), "2.5 mm", "margin tape each side (half the creepage)"),
-        ParamDoc::optional("required_creepage", ParamKind::Quantity("m"), "creepage along the bobbin from the safety analysis (checked against 2 × margin)"),
+        ParamDoc::optional("required_creepage", ParamKind::Quantity("m"), "creepage along the bobbin from the safety analysis (checked against 2 × margin; without it the check is listed as not applicable)"),
         ParamDoc::optional("thermal_resistance", ParamKind::Quantity("K/W"), "transformer-to-ambient (default: McLyman's surface fit)"),
         ParamDoc::with_default("winding_order", ParamKind::Text, "split_primary", "\"split_primary\" or \"primary_secondary_bias\""),
         ParamDoc::with_default("insulation_class", ParamKind::Text, "B", "thermal class A, E, B, F or H"),
@@ -656,7 +656,7 @@ fn transformer_spec(s: &Spec) -> Result<TransformerSpec> {
         u32::try_from(v)
             .map_err(|_| Error::out_of_range(format!("`{k}` = {v} must be a count from 0 up")))
     };
-    Ok(TransformerSpec {
+    let spec = TransformerSpec {
         core,
         material,
         primary_inductance: s.quantity("primary_inductance")?,
@@ -703,7 +703,12 @@ fn transformer_spec(s: &Spec) -> Result<TransformerSpec> {
         thermal_resistance: s.optional_quantity("thermal_resistance")?,
         winding_order: WindingOrder::parse(&s.text("winding_order")?)?,
         insulation_class: s.text("insulation_class")?,
-    })
+    };
+    if spec.secondary_triple_insulated {
+        // no margin tape with a triple-insulated secondary: reported as ignored when given
+        s.ignore("margin_width");
+    }
+    Ok(spec)
 }
 
 fn core_loss(s: &Spec) -> Result<ScriptRecord> {
