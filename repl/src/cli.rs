@@ -164,6 +164,13 @@ pub struct LimitArgs {
     /// Depth of nested function calls.
     #[arg(long, global = true, value_name = "N")]
     pub max_call_depth: Option<usize>,
+    /// Heap the whole process may hold while a script runs, in MiB (map keys, curried and
+    /// captured values count too).
+    #[arg(long, global = true, value_name = "MIB")]
+    pub max_memory_mib: Option<usize>,
+    /// Total bytes one run may hand to output_text and output_table.
+    #[arg(long, global = true, value_name = "BYTES")]
+    pub max_output_bytes: Option<usize>,
 }
 
 /// How `run` writes output tables.

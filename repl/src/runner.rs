@@ -167,7 +167,10 @@ pub fn run(args: &RunArgs, limits: EngineLimits) -> Result<(), Failure> {
     let overrides = recipe_overrides(&args.set, &params, &source_name)?;
     host.set_overrides(overrides);
     let progress = attach_print_and_progress(&host);
-    let result = host.run(&ast, &mut Scope::new(), &source, &source_name);
+    let mut scope = Scope::new();
+    let result = host.run(&ast, &mut scope, &source, &source_name);
+    host.release(scope);
+    let result = result.map(|v| host.release(v));
     if let Some(p) = &progress {
         p.finish();
     }
@@ -372,8 +375,11 @@ pub fn eval(args: &EvalArgs, limits: EngineLimits) -> Result<(), Failure> {
     if let Some(p) = &progress {
         p.finish();
     }
+    host.release(scope);
     let value = result?;
-    if let Some(text) = crate::prompt::display_result(&host, &value) {
+    let shown = crate::prompt::display_result(&host, &value);
+    host.release(value);
+    if let Some(text) = shown {
         println!("{text}");
     }
     for (name, table) in host.take_outputs() {

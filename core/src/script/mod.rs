@@ -19,6 +19,7 @@ pub mod convert;
 pub mod docs;
 mod host;
 pub mod key_order;
+pub mod memory;
 mod recipe;
 mod record;
 pub mod spec;
