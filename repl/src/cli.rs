@@ -165,7 +165,8 @@ pub struct LimitArgs {
     #[arg(long, global = true, value_name = "N")]
     pub max_call_depth: Option<usize>,
     /// Heap the whole process may hold while a script runs, in MiB (map keys, curried and
-    /// captured values count too).
+    /// captured values count too). Default 128, at most 4096; above the default, a script
+    /// nesting millions of closures can overflow the script stack when they are dropped.
     #[arg(long, global = true, value_name = "MIB")]
     pub max_memory_mib: Option<usize>,
     /// Total bytes one run may hand to output_text and output_table.

@@ -144,9 +144,9 @@ fn limits(args: &LimitArgs) -> anyhow::Result<EngineLimits> {
     }
     if let Some(n) = args.max_memory_mib {
         anyhow::ensure!(
-            (16..=1 << 24).contains(&n),
+            (16..=gapwise_core::script::MAX_MEMORY_MIB).contains(&n),
             "--max-memory-mib must be from 16 to {} MiB, got {n}",
-            1 << 24
+            gapwise_core::script::MAX_MEMORY_MIB
         );
         l.max_memory_bytes = n << 20;
     }

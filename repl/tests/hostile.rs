@@ -123,7 +123,7 @@ fn a_curry_bomb_meets_the_memory_budget() {
     let r = hostile_eval(s, &[]);
     assert_eq!(r.code, Some(1), "stderr: {}", r.stderr);
     assert!(
-        r.stderr.contains("memory budget of 256 MiB exceeded")
+        r.stderr.contains("memory budget of 128 MiB exceeded")
             && r.stderr.contains("--max-memory-mib"),
         "{}",
         r.stderr
@@ -202,6 +202,33 @@ fn a_chain_of_a_million_closures_is_shown_and_dropped_without_overflow() {
 }
 
 #[test]
+fn a_chain_of_ten_million_closures_meets_the_memory_budget_before_the_stack() {
+    // each level costs about 120 bytes of heap and, when dropped, about as much stack; the
+    // default budget stops the chain near a million levels, which the 256 MiB stack drops
+    for s in [
+        "let c = || 0; for i in 0..10000000 { let d = c; c = || d; } 1",
+        "let a = []; for i in 0..10000000 { let d = a; let f = || d; a = [f]; } 1",
+        "fn g() { let c = || 0; for i in 0..10000000 { let d = c; c = || d; } 1 } family(|v| g(), [1, 2])",
+    ] {
+        let r = hostile_eval(s, &["--time-budget", "30"]);
+        assert_documented_exit(s, &r);
+        assert_eq!(r.code, Some(1), "stderr: {}", r.stderr);
+        assert!(r.stderr.contains("memory budget of 128 MiB"), "{}", r.stderr);
+    }
+}
+
+/// Known gap, kept as a reproducer: one-element arrays nested inside each captured value cost
+/// less heap per level than their recursive drop costs stack, so the chain overflows the
+/// 256 MiB script stack before it reaches the memory budget (the process aborts).
+#[test]
+#[ignore = "known gap: nested arrays inside a closure chain can overflow the script stack"]
+fn arrays_nested_in_a_closure_chain_end_with_an_error() {
+    let s = "let c = || 0; for i in 0..10000000 { let d = [[c]]; c = || d; } 1";
+    let r = hostile_eval(s, &["--time-budget", "30"]);
+    assert_documented_exit(s, &r);
+}
+
+#[test]
 fn a_deep_array_is_compared_printed_and_shown() {
     let s = "let a = []; for i in 0..5000 { a = [a]; } print(a); let shown = `${a}`; shown.len() == 10002 && a == a";
     let r = hostile_eval(s, &["--time-budget", "30"]);
@@ -270,7 +297,7 @@ fn hostile_script(rng: &mut Rng, recipes: &[String]) -> String {
             body.to_string()
         }
         3 => {
-            let n = rng.size(200_000);
+            let n = rng.size(10_000_000);
             let tail = use_value(rng, "c");
             format!("let c = || 0; for i in 0..{n} {{ let d = c; c = || d; }} {tail}")
         }
