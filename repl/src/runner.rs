@@ -169,8 +169,8 @@ pub fn run(args: &RunArgs, limits: EngineLimits) -> Result<(), Failure> {
     let progress = attach_print_and_progress(&host);
     let mut scope = Scope::new();
     let result = host.run(&ast, &mut scope, &source, &source_name);
-    host.release(scope);
-    let result = result.map(|v| host.release(v));
+    host.release_scope(scope);
+    let result = result.map(|v| host.release_value(v));
     if let Some(p) = &progress {
         p.finish();
     }
@@ -375,10 +375,10 @@ pub fn eval(args: &EvalArgs, limits: EngineLimits) -> Result<(), Failure> {
     if let Some(p) = &progress {
         p.finish();
     }
-    host.release(scope);
+    host.release_scope(scope);
     let value = result?;
     let shown = crate::prompt::display_result(&host, &value);
-    host.release(value);
+    host.release_value(value);
     if let Some(text) = shown {
         println!("{text}");
     }

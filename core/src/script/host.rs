@@ -38,9 +38,10 @@ pub struct EngineLimits {
     /// [`super::memory::CountingAllocator`]. The default, 128 MiB, also bounds how deep a
     /// chain of closures can nest (about 120 bytes of heap per level, so about a million
     /// levels), which keeps its recursive drop within [`SCRIPT_STACK_BYTES`] (measured in a
-    /// debug build: 1.5 million levels drop, 2 million overflow). Known gap: arrays nested
-    /// inside each captured value (`let d = [[c]]; c = || d;`) cost less heap per level than
-    /// their drop costs stack, and can still overflow it within this budget.
+    /// debug build: 1.5 million levels drop, 2 million overflow); what a run leaves is freed
+    /// without recursion ([`ScriptHost::release_scope`]). Known gap: a chain with arrays
+    /// nested in each captured value (`let d = [[c]]; c = || d;`) that the script itself
+    /// drops part-way can still overflow the stack within this budget.
     pub max_memory_bytes: usize,
     /// Total bytes one run may hand to `output_text` and `output_table` together.
     pub max_output_bytes: usize,
@@ -320,6 +321,34 @@ pub(crate) fn on_script_stack<R: Send>(f: impl FnOnce() -> R + Send) -> R {
             Some(f) => f(),
             None => unreachable!("the job runs once"),
         },
+    }
+}
+
+/// Frees values one level at a time, with a work list instead of recursion. Destructive: a
+/// captured (shared) value is emptied through the first reference met, so every other
+/// reference to it sees `()` — only for values nothing will read again (the end of a run).
+fn dismantle(mut work: Vec<Dynamic>) {
+    while let Some(mut v) = work.pop() {
+        if v.is_shared() {
+            if let Some(mut inner) = v.write_lock::<Dynamic>() {
+                work.push(std::mem::take(&mut *inner));
+            }
+            continue;
+        }
+        if v.is_array() {
+            if let Ok(mut a) = v.as_array_mut() {
+                work.extend(std::mem::take(&mut *a));
+            }
+        } else if v.is_map() {
+            if let Ok(mut m) = v.as_map_mut() {
+                work.extend(std::mem::take(&mut *m).into_values());
+            }
+        } else if v.is_fnptr() {
+            if let Some(mut f) = v.write_lock::<rhai::FnPtr>() {
+                work.extend(f.iter_curry_mut().map(std::mem::take));
+            }
+        }
+        drop(v);
     }
 }
 
@@ -945,6 +974,22 @@ impl ScriptHost {
     /// smaller stack.
     pub fn release<T: Send>(&self, value: T) {
         on_script_stack(move || drop(value));
+    }
+
+    /// Drops a finished run's scope for good (see [`ScriptHost::release_value`]).
+    pub fn release_scope(&self, scope: Scope<'static>) {
+        let values: Vec<Dynamic> = scope.into_iter().map(|(_, v, _)| v).collect();
+        on_script_stack(move || dismantle(values));
+    }
+
+    /// Drops a finished run's value for good without recursion (on the script stack, taking
+    /// arrays, maps, curried and captured values apart one level at a time), so that a chain
+    /// of closures deeper than any stack is freed without overflowing it. Values captured by
+    /// closures are emptied in place: use it only when nothing that shares them will run
+    /// again (the end of `gapwise run` or `eval`; a prompt session keeps its values, so it
+    /// uses [`ScriptHost::release`]).
+    pub fn release_value(&self, value: Dynamic) {
+        on_script_stack(move || dismantle(vec![value]));
     }
 }
 
