@@ -155,7 +155,7 @@ impl WriteArgs {
 /// Limits for the engine; the defaults suit untrusted recipes.
 #[derive(Debug, Args)]
 pub struct LimitArgs {
-    /// Operations one evaluation may perform (each family variant counts on its own).
+    /// Operations one evaluation may perform (a family variant counts from its caller's count).
     #[arg(long, global = true, value_name = "N")]
     pub max_operations: Option<u64>,
     /// Wall-clock seconds one evaluation may take.
@@ -164,6 +164,14 @@ pub struct LimitArgs {
     /// Depth of nested function calls.
     #[arg(long, global = true, value_name = "N")]
     pub max_call_depth: Option<usize>,
+    /// Heap the whole process may hold while a script runs, in MiB (map keys, curried and
+    /// captured values count too). Default 128, at most 4096; above the default, a script
+    /// nesting millions of closures can overflow the script stack when they are dropped.
+    #[arg(long, global = true, value_name = "MIB")]
+    pub max_memory_mib: Option<usize>,
+    /// Total bytes one run may hand to output_text and output_table.
+    #[arg(long, global = true, value_name = "BYTES")]
+    pub max_output_bytes: Option<usize>,
 }
 
 /// How `run` writes output tables.

@@ -15,6 +15,11 @@ use gapwise_core::script::{EngineLimits, ScriptError};
 use std::process::ExitCode;
 use std::time::Duration;
 
+/// Counts heap bytes so that the engine can enforce the memory budget (`--max-memory-mib`).
+#[global_allocator]
+static ALLOC: gapwise_core::script::memory::CountingAllocator =
+    gapwise_core::script::memory::CountingAllocator;
+
 /// Why a command did not succeed; each maps to one exit code (documented in `--help`).
 #[derive(Debug)]
 pub enum Failure {
@@ -45,6 +50,7 @@ impl From<ScriptError> for Failure {
 }
 
 fn main() -> ExitCode {
+    gapwise_core::script::memory::CountingAllocator::activate();
     let cli = cli::parse();
     let result = limits(&cli.limits)
         .map_err(Failure::Usage)
@@ -135,6 +141,18 @@ fn limits(args: &LimitArgs) -> anyhow::Result<EngineLimits> {
             "--time-budget must be a positive number of seconds (at most 1e9 s), got {s}"
         );
         l.time_budget = Duration::from_secs_f64(s);
+    }
+    if let Some(n) = args.max_memory_mib {
+        anyhow::ensure!(
+            (16..=gapwise_core::script::MAX_MEMORY_MIB).contains(&n),
+            "--max-memory-mib must be from 16 to {} MiB, got {n}",
+            gapwise_core::script::MAX_MEMORY_MIB
+        );
+        l.max_memory_bytes = n << 20;
+    }
+    if let Some(n) = args.max_output_bytes {
+        anyhow::ensure!(n > 0, "--max-output-bytes must be at least 1, got {n}");
+        l.max_output_bytes = n;
     }
     Ok(l)
 }

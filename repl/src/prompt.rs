@@ -69,7 +69,11 @@ impl Session {
         let result = self.host.run(&merged, &mut self.scope, source, source_name);
         self.functions = merged.clone_functions_only();
         match result {
-            Ok(v) => Ok(display_result(&self.host, &v)),
+            Ok(v) => {
+                let shown = display_result(&self.host, &v);
+                self.host.release(v);
+                Ok(shown)
+            }
             Err(e) => Err(self.locate_in_earlier_entry(e, &defined)),
         }
     }

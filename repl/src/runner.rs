@@ -167,7 +167,10 @@ pub fn run(args: &RunArgs, limits: EngineLimits) -> Result<(), Failure> {
     let overrides = recipe_overrides(&args.set, &params, &source_name)?;
     host.set_overrides(overrides);
     let progress = attach_print_and_progress(&host);
-    let result = host.run(&ast, &mut Scope::new(), &source, &source_name);
+    let mut scope = Scope::new();
+    let result = host.run(&ast, &mut scope, &source, &source_name);
+    host.release_scope(scope);
+    let result = result.map(|v| host.release_value(v));
     if let Some(p) = &progress {
         p.finish();
     }
@@ -378,8 +381,11 @@ pub fn eval(args: &EvalArgs, limits: EngineLimits) -> Result<(), Failure> {
     for w in host.take_warnings() {
         eprintln!("warning: {w}");
     }
+    host.release_scope(scope);
     let value = result?;
-    if let Some(text) = crate::prompt::display_result(&host, &value) {
+    let shown = crate::prompt::display_result(&host, &value);
+    host.release_value(value);
+    if let Some(text) = shown {
         println!("{text}");
     }
     for (name, table) in host.take_outputs() {

@@ -216,3 +216,43 @@ fn errors_show_a_window_of_a_long_line() {
         "{shown}"
     );
 }
+
+#[test]
+fn outputs_of_one_run_share_the_output_size_limit() {
+    let h = ScriptHost::new(EngineLimits {
+        max_output_bytes: 1000,
+        ..EngineLimits::default()
+    });
+    // two texts of 600 bytes: the second passes the total
+    let e = h
+        .eval(
+            r#"let t = "x"; for i in 0..600 { t += "y"; } output_text("one", "txt", t); output_text("two", "txt", t);"#,
+            "<test>",
+        )
+        .unwrap_err();
+    assert!(
+        e.message.contains("output_text `two.txt`")
+            && e.message.contains("output limit of 1000 bytes")
+            && e.message.contains("--max-output-bytes"),
+        "{}",
+        e.message
+    );
+    assert_eq!(h.take_texts().len(), 1, "the first text was handed over");
+    // a new run starts from zero
+    assert!(h
+        .eval(r#"output_text("three", "txt", "short")"#, "<test>")
+        .unwrap()
+        .is_unit());
+    assert_eq!(h.take_texts().len(), 1);
+}
+
+#[test]
+fn without_the_counting_allocator_the_memory_budget_is_not_enforced() {
+    // this test binary does not install `CountingAllocator`: only the per-value limits apply
+    assert_eq!(gapwise::script::memory::allocated_bytes(), None);
+    let h = ScriptHost::new(EngineLimits {
+        max_memory_bytes: 1,
+        ..EngineLimits::default()
+    });
+    assert_eq!(h.eval("40 + 2", "<test>").unwrap().as_int(), Ok(42));
+}

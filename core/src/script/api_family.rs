@@ -427,12 +427,11 @@ pub(crate) fn register(api: &mut Api, state: &Arc<HostState>, limits: &EngineLim
                 "output extension '{extension}' must be one of md, html, svg, txt"
             ))));
         }
-        st.push_text(super::host::OutputText {
+        lift(st.push_text(super::host::OutputText {
             name: name.to_string(),
             extension: extension.to_string(),
             text: text.to_string(),
-        });
-        Ok(())
+        }))
     });
     def!(api, &COLUMN, |t: &mut Table,
                         name: ImmutableString|

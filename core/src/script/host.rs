@@ -33,6 +33,18 @@ pub struct EngineLimits {
     pub max_functions: usize,
     /// Wall-clock time one evaluation may take.
     pub time_budget: Duration,
+    /// Heap bytes the whole process may hold while a script runs, checked after every
+    /// operation (see [`super::memory`]); enforced only when the program installs
+    /// [`super::memory::CountingAllocator`]. The default, 128 MiB, also bounds how deep a
+    /// chain of closures can nest (about 120 bytes of heap per level, so about a million
+    /// levels), which keeps its recursive drop within [`SCRIPT_STACK_BYTES`] (measured in a
+    /// debug build: 1.5 million levels drop, 2 million overflow); what a run leaves is freed
+    /// without recursion ([`ScriptHost::release_scope`]). Known gap: a chain with arrays
+    /// nested in each captured value (`let d = [[c]]; c = || d;`) that the script itself
+    /// drops part-way can still overflow the stack within this budget.
+    pub max_memory_bytes: usize,
+    /// Total bytes one run may hand to `output_text` and `output_table` together.
+    pub max_output_bytes: usize,
 }
 
 impl Default for EngineLimits {
@@ -48,6 +60,8 @@ impl Default for EngineLimits {
             max_variables: 10_000,
             max_functions: 10_000,
             time_budget: Duration::from_secs(60),
+            max_memory_bytes: 128 << 20,
+            max_output_bytes: 256 << 20,
         }
     }
 }
@@ -83,11 +97,18 @@ pub(crate) struct HostState {
     warnings: Mutex<Vec<String>>,
     /// Values `--set` gives declared parameters.
     overrides: RwLock<std::collections::HashMap<String, Dynamic>>,
+    /// Bytes handed to `output_text` and `output_table` in this run (an estimate for tables:
+    /// the text of every cell and header).
+    output_bytes: AtomicU64,
+    /// The limit on `output_bytes`.
+    max_output_bytes: u64,
 }
 
 impl HostState {
-    fn new(budget: Duration) -> Self {
+    fn new(budget: Duration, max_output_bytes: usize) -> Self {
         Self {
+            output_bytes: AtomicU64::new(0),
+            max_output_bytes: u64::try_from(max_output_bytes).unwrap_or(u64::MAX),
             epoch: Instant::now(),
             deadline_nanos: AtomicU64::new(0),
             budget,
@@ -191,13 +212,18 @@ impl HostState {
                 "output_table: a table named `{name}` was already handed over; give each output table its own name"
             )));
         }
+        self.count_output(&format!("output_table `{name}`"), table_bytes(&table))?;
         self.note_failed_checks(failed_verdicts(&table));
         o.push((name, table));
         Ok(())
     }
     /// Hands a text to the runner; a report made by a gapwise function brings the failed
     /// checks it shows toward `--strict` (see [`HostState::verdict_text`]).
-    pub(crate) fn push_text(&self, text: OutputText) {
+    pub(crate) fn push_text(&self, text: OutputText) -> crate::error::Result<()> {
+        self.count_output(
+            &format!("output_text `{}.{}`", text.name, text.extension),
+            text.text.len(),
+        )?;
         let failed = self
             .verdict_texts
             .lock()
@@ -209,6 +235,22 @@ impl HostState {
             o.retain(|t| !(t.name == text.name && t.extension == text.extension));
             o.push(text);
         }
+        Ok(())
+    }
+    /// Adds `bytes` to the run's output total; an error naming the limit when the total would
+    /// pass `max_output_bytes` (nothing is counted then).
+    fn count_output(&self, what: &str, bytes: usize) -> crate::error::Result<()> {
+        let bytes = u64::try_from(bytes).unwrap_or(u64::MAX);
+        let before = self.output_bytes.fetch_add(bytes, Ordering::Relaxed);
+        let total = before.saturating_add(bytes);
+        if total > self.max_output_bytes {
+            self.output_bytes.fetch_sub(bytes, Ordering::Relaxed);
+            return Err(crate::error::Error::invalid(format!(
+                "{what}: the outputs of this run would reach {total} bytes, over the output limit of {} bytes (max_output_bytes; raise it with --max-output-bytes)",
+                self.max_output_bytes
+            )));
+        }
+        Ok(())
     }
     /// Remembers that a report text shows `failed` failed checks, so that handing it to
     /// `output_text` counts them; returns the text.
@@ -269,6 +311,9 @@ pub const SCRIPT_STACK_BYTES: usize = 256 << 20;
 /// 60,000 overflow). A larger `max_call_levels` is lowered to this.
 pub const MAX_CALL_DEPTH: usize = 5000;
 
+/// The largest memory budget, in MiB, the command line allows (4 GiB).
+pub const MAX_MEMORY_MIB: usize = 4096;
+
 /// Runs `f` on a thread with a stack of [`SCRIPT_STACK_BYTES`], so that no script can overflow
 /// the caller's (smaller, unknown) stack and abort the process. Falls back to the current
 /// thread if no thread can be started.
@@ -294,6 +339,63 @@ pub(crate) fn on_script_stack<R: Send>(f: impl FnOnce() -> R + Send) -> R {
             None => unreachable!("the job runs once"),
         },
     }
+}
+
+/// Frees values one level at a time, with a work list instead of recursion. Destructive: a
+/// captured (shared) value is emptied through the first reference met, so every other
+/// reference to it sees `()` — only for values nothing will read again (the end of a run).
+fn dismantle(mut work: Vec<Dynamic>) {
+    while let Some(mut v) = work.pop() {
+        if v.is_shared() {
+            if let Some(mut inner) = v.write_lock::<Dynamic>() {
+                work.push(std::mem::take(&mut *inner));
+            }
+            continue;
+        }
+        if v.is_array() {
+            if let Ok(mut a) = v.as_array_mut() {
+                work.extend(std::mem::take(&mut *a));
+            }
+        } else if v.is_map() {
+            if let Ok(mut m) = v.as_map_mut() {
+                work.extend(std::mem::take(&mut *m).into_values());
+            }
+        } else if v.is_fnptr() {
+            if let Some(mut f) = v.write_lock::<rhai::FnPtr>() {
+                work.extend(f.iter_curry_mut().map(std::mem::take));
+            }
+        }
+        drop(v);
+    }
+}
+
+/// The error of a run that went over the memory budget.
+pub(crate) fn memory_message(max: usize) -> String {
+    format!(
+        "script stopped: memory budget of {} MiB exceeded (values, map keys, curried and captured values all count; raise it with --max-memory-mib)",
+        max >> 20
+    )
+}
+
+/// The size of a table as text, roughly: every header and cell, numbers at 12 bytes each.
+fn table_bytes(table: &Table) -> usize {
+    let names = table.column_names();
+    let header: usize = names.iter().map(|n| n.len() + 1).sum();
+    let cells: usize = (0..table.len())
+        .map(|i| {
+            let errors = table.error(i).map_or(0, str::len);
+            errors
+                + names
+                    .iter()
+                    .map(|n| match table.get(i, n) {
+                        Some(crate::report::Value::Text(t)) => t.len() + 3,
+                        Some(_) => 12,
+                        None => 1,
+                    })
+                    .sum::<usize>()
+        })
+        .sum();
+    header + cells
 }
 
 fn text_key(text: &str) -> u64 {
@@ -544,7 +646,7 @@ impl ScriptHost {
     /// frozen. Functions added here have no help entry unless the program documents them.
     pub fn with_extensions(mut limits: EngineLimits, extend: impl FnOnce(&mut Engine)) -> Self {
         limits.max_call_levels = limits.max_call_levels.min(MAX_CALL_DEPTH);
-        let state = Arc::new(HostState::new(limits.time_budget));
+        let state = Arc::new(HostState::new(limits.time_budget, limits.max_output_bytes));
         let mut engine = Engine::new_raw();
         {
             use rhai::packages::Package;
@@ -566,7 +668,13 @@ impl ScriptHost {
         // the registered ones
         engine.set_fast_operators(false);
         let st = state.clone();
+        let max_memory = limits.max_memory_bytes;
         engine.on_progress(move |ops| {
+            if let Some(used) = super::memory::allocated_bytes() {
+                if used > max_memory {
+                    return Some(Dynamic::from(memory_message(max_memory)));
+                }
+            }
             if ops % 512 != 0 {
                 return None;
             }
@@ -749,6 +857,7 @@ impl ScriptHost {
         if let Ok(mut p) = self.state.params.lock() {
             p.clear();
         }
+        self.state.output_bytes.store(0, Ordering::Relaxed);
         if let Ok(mut k) = self.state.key_orders.write() {
             Arc::make_mut(&mut k).learn(source, ast, self.limits.max_expr_depth);
         }
@@ -889,7 +998,31 @@ impl ScriptHost {
     /// Formats a script value for display: quantities with units, records one field per
     /// line, tables aligned.
     pub fn display(&self, value: &Dynamic) -> String {
-        super::api_units::display_value(value)
+        // deep values recurse: format on the script stack, not the caller's
+        on_script_stack(|| super::api_units::display_value(value))
+    }
+
+    /// Drops values (a run's scope, its result) on a thread with the script stack: a deeply
+    /// nested value (a chain of closures) drops recursively and could overflow the caller's
+    /// smaller stack.
+    pub fn release<T: Send>(&self, value: T) {
+        on_script_stack(move || drop(value));
+    }
+
+    /// Drops a finished run's scope for good (see [`ScriptHost::release_value`]).
+    pub fn release_scope(&self, scope: Scope<'static>) {
+        let values: Vec<Dynamic> = scope.into_iter().map(|(_, v, _)| v).collect();
+        on_script_stack(move || dismantle(values));
+    }
+
+    /// Drops a finished run's value for good without recursion (on the script stack, taking
+    /// arrays, maps, curried and captured values apart one level at a time), so that a chain
+    /// of closures deeper than any stack is freed without overflowing it. Values captured by
+    /// closures are emptied in place: use it only when nothing that shares them will run
+    /// again (the end of `gapwise run` or `eval`; a prompt session keeps its values, so it
+    /// uses [`ScriptHost::release`]).
+    pub fn release_value(&self, value: Dynamic) {
+        on_script_stack(move || dismantle(vec![value]));
     }
 }
 

@@ -19,6 +19,7 @@ pub mod convert;
 pub mod docs;
 mod host;
 pub mod key_order;
+pub mod memory;
 mod recipe;
 mod record;
 pub mod spec;
@@ -27,7 +28,7 @@ pub mod suggest;
 pub use docs::{Domain, FunctionDoc, ParamDefault, ParamDoc, ParamKind};
 pub use host::{
     EngineLimits, OutputText, PrintFn, ProgressFn, ScriptError, ScriptHost, MAX_CALL_DEPTH,
-    SCRIPT_STACK_BYTES,
+    MAX_MEMORY_MIB, SCRIPT_STACK_BYTES,
 };
 pub use recipe::{value_kind, RecipeParam};
 pub use record::ScriptRecord;
