@@ -14,5 +14,6 @@ mod recipes;
 mod safety;
 mod sandbox;
 mod script;
+mod supply;
 mod units;
 mod wires;
