@@ -5,11 +5,16 @@
 //! help come from one definition ([`SUPPLY_SECTIONS`]).
 
 mod design;
+mod report;
 mod spec;
 
 pub use design::{
     consistent_power_stage, supply_design, ConsistencyStep, ConsistentStage, SupplyCheck,
     SupplyDesign, SupplySummary, LEAKAGE_TOLERANCE, LOSS_TOLERANCE, MAX_CONSISTENCY_ITERATIONS,
+};
+pub use report::{
+    html_escape, supply_report_html, supply_report_markdown, supply_report_sections, Block,
+    Section, REPORT_SECTIONS,
 };
 pub use spec::{
     check_keys, read_key, EmiFilterSection, IsolationSection, KeyDefault, KeyKind,

@@ -79,6 +79,8 @@ pub trait SpecField: Sized {
     fn absent(key: &str) -> Result<Self> {
         Err(Error::missing(format!("missing key `{key}`")))
     }
+    /// The value as a report writes it (with its unit).
+    fn show(&self) -> String;
     /// Reads a documented default.
     fn read_default(text: &str, key: &str) -> Result<Self> {
         Self::read(&Json::String(text.to_string()), key)
@@ -138,6 +140,9 @@ impl<T: TypedQuantity> SpecField for T {
         }
         q.to_typed(key)
     }
+    fn show(&self) -> String {
+        Quantity::from_typed(*self).to_string()
+    }
 }
 
 impl SpecField for f64 {
@@ -163,6 +168,9 @@ impl SpecField for f64 {
             ))),
         }
     }
+    fn show(&self) -> String {
+        crate::units::format_number(*self)
+    }
 }
 
 impl SpecField for u32 {
@@ -180,12 +188,18 @@ impl SpecField for u32 {
             Error::invalid(format!("`{key}` must be a whole number from 0 up, got {v}"))
         })
     }
+    fn show(&self) -> String {
+        self.to_string()
+    }
 }
 
 impl SpecField for bool {
     fn read(v: &Json, key: &str) -> Result<Self> {
         v.as_bool()
             .ok_or_else(|| Error::invalid(format!("`{key}` must be true or false, got {v}")))
+    }
+    fn show(&self) -> String {
+        self.to_string()
     }
 }
 
@@ -194,6 +208,9 @@ impl SpecField for String {
         v.as_str()
             .map(str::to_string)
             .ok_or_else(|| Error::invalid(format!("`{key}` must be text, got {v}")))
+    }
+    fn show(&self) -> String {
+        self.clone()
     }
 }
 
@@ -210,6 +227,9 @@ impl SpecField for Decibel {
                 "`{key}` must be a ratio in decibels written with its unit, e.g. \"6 dB\", got {v}"
             ))
         })
+    }
+    fn show(&self) -> String {
+        self.to_string()
     }
 }
 
@@ -234,6 +254,10 @@ impl SpecField for RuleLimits {
         }
         Ok(RuleLimits(out))
     }
+    fn show(&self) -> String {
+        let parts: Vec<String> = self.0.iter().map(|(k, v)| format!("{k} = {v}")).collect();
+        parts.join("; ")
+    }
 }
 
 impl<T: SpecField> SpecField for Option<T> {
@@ -245,6 +269,9 @@ impl<T: SpecField> SpecField for Option<T> {
     }
     fn absent(_key: &str) -> Result<Self> {
         Ok(None)
+    }
+    fn show(&self) -> String {
+        self.as_ref().map_or_else(|| "—".to_string(), T::show)
     }
 }
 
@@ -335,6 +362,10 @@ macro_rules! spec_section {
             pub const KEYS: &'static [SpecKey] = &[
                 $(SpecKey { name: stringify!($field), kind: $kind, default: $default, help: $help.trim_ascii() },)*
             ];
+            /// Every key with its value as a report writes it, in the order of `KEYS`.
+            pub fn values(&self) -> Vec<(&'static str, String)> {
+                vec![$((stringify!($field), SpecField::show(&self.$field)),)*]
+            }
             /// Reads the section from a map (absent keys take their defaults).
             pub fn from_map(m: &Map<String, Json>) -> Result<Self> {
                 check_keys($section, Self::KEYS, m)?;
@@ -635,6 +666,8 @@ pub struct SupplySpec {
     pub emi_filter: EmiFilterSection,
     /// Isolation barrier.
     pub isolation: IsolationSection,
+    /// The keys the specification gave, as `section.key` (the rest took their defaults).
+    pub given_keys: Vec<String>,
 }
 
 /// The sections as given, before their keys are read.
@@ -663,7 +696,24 @@ impl TryFrom<RawSupplySpec> for SupplySpec {
         let need = |m: Option<Map<String, Json>>, s: &str| {
             m.ok_or_else(|| Error::missing(format!("supply_design: missing section `{s}`")))
         };
+        let mut given_keys = Vec::new();
+        for (section, m) in [
+            ("power_stage", &r.power_stage),
+            ("transformer", &r.transformer),
+        ] {
+            if let Some(m) = m {
+                given_keys.extend(m.keys().map(|k| format!("{section}.{k}")));
+            }
+        }
+        for (section, m) in [
+            ("regulation", &r.regulation),
+            ("emi_filter", &r.emi_filter),
+            ("isolation", &r.isolation),
+        ] {
+            given_keys.extend(m.keys().map(|k| format!("{section}.{k}")));
+        }
         Ok(Self {
+            given_keys,
             name: r.name,
             power_stage: PowerStageSection::from_map(&need(r.power_stage, "power_stage")?)?,
             transformer: TransformerSection::from_map(&need(r.transformer, "transformer")?)?,
@@ -675,6 +725,27 @@ impl TryFrom<RawSupplySpec> for SupplySpec {
 }
 
 impl SupplySpec {
+    /// Every key of every section as (`section.key`, value, given), in the order of
+    /// [`SUPPLY_SECTIONS`]: what the report lists as the specification and its defaults.
+    pub fn listing(&self) -> Vec<(String, String, bool)> {
+        let sections = [
+            ("power_stage", self.power_stage.values()),
+            ("transformer", self.transformer.values()),
+            ("regulation", self.regulation.values()),
+            ("emi_filter", self.emi_filter.values()),
+            ("isolation", self.isolation.values()),
+        ];
+        let mut out = Vec::new();
+        for (section, values) in sections {
+            for (k, v) in values {
+                let key = format!("{section}.{k}");
+                let given = self.given_keys.contains(&key);
+                out.push((key, v, given));
+            }
+        }
+        out
+    }
+
     /// Reads a specification from a JSON value (the Rhai map converted, or a parsed file).
     /// Unknown sections, unknown keys, wrong kinds and missing required keys are errors naming
     /// `section.key` and the unit.
