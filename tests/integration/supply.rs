@@ -95,6 +95,15 @@ fn every_part_reports_its_checks_with_corners() {
         552.5,
         "the house rule's override reaches the rule"
     );
+    let flux = s
+        .checks
+        .iter()
+        .find(|c| c.check.id == "flux_at_current_limit")
+        .unwrap();
+    assert_eq!(
+        flux.worst_corner.as_deref(),
+        Some("current_limit_worst_case")
+    );
     let pm = s
         .checks
         .iter()

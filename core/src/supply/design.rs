@@ -32,9 +32,10 @@ use crate::units::{si, Power, Quantity};
 
 /// Largest number of power-stage/transformer passes before the consistency loop gives up.
 pub const MAX_CONSISTENCY_ITERATIONS: usize = 12;
-/// Tolerance of the transformer loss: the loss the power stage uses and the transformer's
-/// computed copper + core loss agree within this fraction of the full-load output power
-/// (0.1 %, i.e. 15 mW at 15 W; common practice, no published source).
+/// Tolerance of the transformer loss: the loss the power stage charges to the transformer at
+/// the transformer's operating corner and the transformer's computed copper + core loss agree
+/// within this fraction of the full-load output power (bias included; 0.1 %, i.e. 15 mW at
+/// 15 W; common practice, no published source).
 pub const LOSS_TOLERANCE: f64 = 1e-3;
 /// Tolerance of the leakage inductance: the value the power stage (clamp) uses and the
 /// transformer's computed leakage agree within this relative difference (1 %).
@@ -45,9 +46,9 @@ pub const LEAKAGE_TOLERANCE: f64 = 0.01;
 pub struct ConsistencyStep {
     /// Pass number, from 1.
     pub iteration: usize,
-    /// Transformer loss fraction the power stage used in this pass.
+    /// Transformer loss fraction the power stage used in this pass (of the corner's load power).
     pub loss_fraction_used: f64,
-    /// Loss fraction the transformer designed in this pass computed.
+    /// The transformer's computed loss over the load power at its operating corner.
     pub loss_fraction_computed: f64,
     /// Leakage the power stage used (H).
     pub leakage_used: crate::units::Inductance,
@@ -451,7 +452,19 @@ pub fn consistent_power_stage(
         }
         seen_turns.push(turns);
         let p_out: Power = fs.output_power();
-        let computed = t.total_loss.value / p_out.value;
+        let at = d
+            .corners
+            .iter()
+            .find(|c| c.corner == op.corner)
+            .ok_or_else(|| {
+                Error::invalid(format!(
+                    "supply_design: the transformer's corner `{}` is not a corner of the power stage",
+                    op.corner
+                ))
+            })?;
+        // the power stage charges fraction × (load power of the corner) to the transformer
+        let used_w = at.losses.transformer.value;
+        let computed = t.total_loss.value / at.output_power.value;
         let used = fs.losses.transformer_loss_fraction;
         let leak_used = d.leakage_inductance;
         let leak = t.leakage_inductance;
@@ -466,7 +479,7 @@ pub fn consistent_power_stage(
         });
         let leak_ok =
             (leak.value - leak_used.value).abs() <= LEAKAGE_TOLERANCE * leak.value.abs().max(1e-12);
-        if (computed - used).abs() <= LOSS_TOLERANCE && leak_ok {
+        if (used_w - t.total_loss.value).abs() <= LOSS_TOLERANCE * p_out.value && leak_ok {
             let l_final = d.primary_inductance;
             return Ok(ConsistentStage {
                 flyback_spec: fs,
@@ -575,17 +588,30 @@ pub fn supply_design(spec: &SupplySpec) -> Result<SupplyDesign> {
         });
     }
     for c in transformer_checks(&ts, &t)? {
+        // the flux rules are evaluated at the current limit (highest limit, upper inductance
+        // tolerance) or with the output shorted, the rest at the operating corner
+        let corner = match c.id.as_str() {
+            "flux_at_current_limit" | "saturation_margin_hot" => "current_limit_worst_case",
+            "saturation_in_short_circuit" => "output_shorted",
+            _ => t_corner,
+        };
         checks.push(SupplyCheck {
             part: "transformer",
-            worst_corner: Some(t_corner.to_string()),
+            worst_corner: Some(corner.to_string()),
             check: c,
         });
     }
     checks.extend(reg.checks.iter().cloned().map(regulation_check));
     for c in input_filter_checks(&emi)? {
+        // the touch current is taken at the highest line voltage and frequency
+        let corner = if c.id == "y_capacitor_touch_current" {
+            "highest_line".to_string()
+        } else {
+            emi_corner.clone()
+        };
         checks.push(SupplyCheck {
             part: "emi_filter",
-            worst_corner: Some(emi_corner.clone()),
+            worst_corner: Some(corner),
             check: c,
         });
     }
