@@ -253,3 +253,30 @@ proptest::proptest! {
         }
     }
 }
+
+#[test]
+fn the_script_help_lists_exactly_the_specification_keys() {
+    // the help of supply_design and the serde reader come from one definition: every
+    // `section.key` of the help is a key the reader accepts, with the same default, and back
+    let doc = host()
+        .doc("supply_design")
+        .expect("supply_design is documented");
+    let mut from_spec: Vec<String> = vec!["name".into()];
+    for (section, _, keys) in SUPPLY_SECTIONS {
+        from_spec.extend(keys.iter().map(|k| format!("{section}.{}", k.name)));
+    }
+    let from_help: Vec<String> = doc.keys.iter().map(|k| k.name.to_string()).collect();
+    assert_eq!(from_help, from_spec);
+    let demo = demo_spec();
+    // a default in the help reads to the value the reader gives when the key is left out
+    let max_layers = doc
+        .keys
+        .iter()
+        .find(|k| k.name == "transformer.max_layers")
+        .unwrap();
+    assert_eq!(
+        max_layers.default,
+        gapwise::script::docs::ParamDefault::Value("3")
+    );
+    assert_eq!(demo.transformer.max_layers, 3);
+}
