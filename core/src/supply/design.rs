@@ -417,14 +417,20 @@ pub struct ConsistentStage {
 /// Assumption: the transformer loss scales with the load power at the other corners (the
 /// power stage's model), and it is evaluated at the transformer's operating corner (the
 /// highest primary peak below the limit, in practice low line, full load).
-pub fn consistent_power_stage(
+pub fn consistent_power_stage(fs: FlybackSpec, ts: TransformerSpec) -> Result<ConsistentStage> {
+    consistent_within(fs, ts, MAX_CONSISTENCY_ITERATIONS)
+}
+
+/// [`consistent_power_stage`] with at most `passes` passes.
+fn consistent_within(
     mut fs: FlybackSpec,
     mut ts: TransformerSpec,
+    passes: usize,
 ) -> Result<ConsistentStage> {
     let mut steps = Vec::new();
     let mut seen_turns: Vec<(u32, u32, u32)> = Vec::new();
     let mut frozen: Option<GivenTransformer> = None;
-    for iteration in 1..=MAX_CONSISTENCY_ITERATIONS {
+    for iteration in 1..=passes {
         let d = flyback_design(&fs).map_err(|e| e.context("supply_design: power stage"))?;
         let op = transformer_operating_point(&fs, &d)?;
         op.apply_to(&mut ts);
@@ -505,7 +511,8 @@ pub fn consistent_power_stage(
     }
     let last = steps.last();
     Err(Error::infeasible(format!(
-        "supply_design: power stage and transformer did not agree within {MAX_CONSISTENCY_ITERATIONS} passes (loss fraction used {:.5} vs computed {:.5}, leakage used {} vs computed {}); tolerances {LOSS_TOLERANCE} of output power and {LEAKAGE_TOLERANCE} relative",
+        "supply_design: power stage and transformer did not agree within {passes} pass{} (loss fraction used {:.5} vs computed {:.5}, leakage used {} vs computed {}); tolerances {LOSS_TOLERANCE} of output power and {LEAKAGE_TOLERANCE} relative",
+        if passes == 1 { "" } else { "es" },
         last.map_or(0.0, |s| s.loss_fraction_used),
         last.map_or(0.0, |s| s.loss_fraction_computed),
         last.map_or(Quantity::number(0.0), |s| Quantity::from_typed(s.leakage_used)),
@@ -733,5 +740,36 @@ impl SupplyDesign {
             ]);
         }
         t
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn demo() -> SupplySpec {
+        SupplySpec::from_json(serde_json::json!({
+            "power_stage": {"output_voltage": "12 V", "output_current": "1.25 A"},
+            "transformer": {"core": "E30/15/7"},
+        }))
+        .unwrap()
+    }
+
+    #[test]
+    fn not_converging_is_an_error_naming_the_residuals() {
+        let s = demo();
+        let fs = flyback_spec_of(&s.power_stage).unwrap();
+        let ts = transformer_spec_of(&s.transformer).unwrap();
+        // one pass cannot agree: the starting estimate (2 % of output power) is not the
+        // transformer's computed loss
+        let e = consistent_within(fs.clone(), ts.clone(), 1).unwrap_err();
+        assert_eq!(e.kind(), crate::ErrorKind::Infeasible);
+        assert!(
+            e.to_string().contains("did not agree within 1 pass ("),
+            "{e}"
+        );
+        // with the full budget it converges, in more than one pass
+        let ok = consistent_within(fs, ts, MAX_CONSISTENCY_ITERATIONS).unwrap();
+        assert!(ok.steps.len() > 1 && ok.steps.len() <= MAX_CONSISTENCY_ITERATIONS);
     }
 }
