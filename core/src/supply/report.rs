@@ -66,11 +66,27 @@ fn fields_table(fields: &[Field]) -> Table {
 /// every check with its worst corner.
 pub fn supply_report_sections(s: &SupplyDesign) -> Result<Vec<Section>> {
     let mut spec = Table::new();
+    let (mut given_n, mut default_n, mut unset_n) = (0, 0, 0);
     for (key, value, given) in s.spec.listing() {
+        // an optional key left out has no value ("—"): the part derives or skips it
+        let source = match (given, value == "—") {
+            (true, _) => {
+                given_n += 1;
+                "given"
+            }
+            (false, false) => {
+                default_n += 1;
+                "default"
+            }
+            (false, true) => {
+                unset_n += 1;
+                "not set"
+            }
+        };
         spec.push_row(vec![
             Field::new("key", key),
             Field::new("value", value),
-            Field::new("source", if given { "given" } else { "default" }),
+            Field::new("source", source),
         ]);
     }
     let worst = s.regulation.worst_case();
@@ -97,9 +113,7 @@ pub fn supply_report_sections(s: &SupplyDesign) -> Result<Vec<Section>> {
             title: "Specification",
             blocks: vec![
                 Block::Text(format!(
-                    "{} keys given, {} defaulted (documented defaults; `gapwise help supply_design`).",
-                    s.spec.given_keys.len(),
-                    s.spec.listing().len() - s.spec.given_keys.len()
+                    "{given_n} keys given, {default_n} took their documented defaults, {unset_n} optional keys not set (`gapwise help supply_design`)."
                 )),
                 Block::Table(spec),
             ],
