@@ -38,6 +38,7 @@ pub mod report;
 pub mod rules;
 pub mod safety;
 pub mod script;
+pub mod supply;
 pub mod units;
 
 pub use error::{Error, ErrorKind, Result};

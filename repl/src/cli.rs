@@ -8,7 +8,8 @@ macro_rules! exit_codes {
     () => {
         "Exit codes:
   0  success
-  1  script error (the message, with file, line, column and a caret, goes to stderr)
+  1  script error (the message, with file, line, column and a caret, goes to stderr), or
+     for `design` a specification that is invalid or cannot be designed
   2  usage error, or a file could not be read or written
   3  with --strict: the run succeeded but at least one design-rule check failed"
     };
@@ -52,6 +53,11 @@ pub enum Command {
     /// Run a recipe file (or `-` for stdin) and write its output tables.
     #[command(after_help = exit_codes!())]
     Run(RunArgs),
+    /// Design a whole supply from a specification file (TOML or JSON, the keys of
+    /// `gapwise help supply_design`): print the summary and the checks, and with --out write
+    /// the Markdown and HTML reports, the pictures and the checks CSV.
+    #[command(after_help = exit_codes!())]
+    Design(DesignArgs),
     /// Evaluate one expression and print the result with units.
     #[command(after_help = exit_codes!())]
     Eval(EvalArgs),
@@ -108,6 +114,25 @@ pub struct RunArgs {
     /// data-table editions) to FILE, as --out does into DIR/provenance.json.
     #[arg(long, value_name = "FILE", conflicts_with = "out")]
     pub provenance: Option<PathBuf>,
+    /// Exit with code 3 when any design-rule check failed.
+    #[arg(long)]
+    pub strict: bool,
+}
+
+/// Arguments of `gapwise design`.
+#[derive(Debug, Args)]
+pub struct DesignArgs {
+    /// The specification: a `.toml` or `.json` file with the sections power_stage,
+    /// transformer, regulation, emi_filter and isolation.
+    #[arg(value_name = "SPEC")]
+    pub file: PathBuf,
+    /// Folder for STEM.md, STEM.html (self-contained, inline SVG), STEM_bode.svg,
+    /// STEM_emi_spectrum.svg, STEM_checks.csv and provenance.json (STEM: the spec's file
+    /// name without extension); created if missing. Without it, only stdout.
+    #[arg(long, value_name = "DIR")]
+    pub out: Option<PathBuf>,
+    #[command(flatten)]
+    pub write: WriteArgs,
     /// Exit with code 3 when any design-rule check failed.
     #[arg(long)]
     pub strict: bool,

@@ -5,6 +5,7 @@
 
 mod cli;
 mod complete;
+mod design_cmd;
 mod docs_cmd;
 mod output;
 mod prompt;
@@ -25,6 +26,8 @@ static ALLOC: gapwise_core::script::memory::CountingAllocator =
 pub enum Failure {
     /// The script failed (exit code 1).
     Script(ScriptError),
+    /// A specification that is invalid or cannot be designed (exit code 1).
+    Design(anyhow::Error),
     /// Bad usage or an IO error (exit code 2).
     Usage(anyhow::Error),
     /// `--strict`: design-rule checks in the outputs failed, or variants became error rows
@@ -58,6 +61,7 @@ fn main() -> ExitCode {
             None => prompt::run(limits).map_err(Failure::Usage),
             Some(Command::Run(args)) => runner::run(&args, limits),
             Some(Command::Eval(args)) => runner::eval(&args, limits),
+            Some(Command::Design(args)) => design_cmd::design(&args),
             Some(Command::Help { name }) => help(name.as_deref(), limits),
             Some(Command::Completions { shell }) => {
                 let mut cmd = cli::command();
@@ -71,6 +75,10 @@ fn main() -> ExitCode {
         Ok(()) => ExitCode::SUCCESS,
         Err(Failure::Script(e)) => {
             eprintln!("{e}");
+            ExitCode::from(1)
+        }
+        Err(Failure::Design(e)) => {
+            eprintln!("error: {e:#}");
             ExitCode::from(1)
         }
         Err(Failure::Usage(e)) => {

@@ -1189,3 +1189,208 @@ fn run_prints_ignored_keys_as_warnings_issue_16() {
     );
     let _ = std::fs::remove_dir_all(&dir);
 }
+
+// ---- gapwise design: the whole supply from a TOML or JSON specification ----
+
+const DEMO_SPEC: &str = "scripts/fernbank_12v.toml";
+
+/// Checks that the HTML's tags are balanced (void elements and `/>` aside) and returns the
+/// number of `<svg>` elements, each of which must close.
+fn html_tags_balanced(html: &str) -> Result<usize, String> {
+    const VOID: &[&str] = &["meta", "br", "hr", "img", "link", "input"];
+    let mut stack: Vec<String> = Vec::new();
+    let mut svgs = 0;
+    let mut rest = html;
+    while let Some(start) = rest.find('<') {
+        let after = &rest[start + 1..];
+        let end = after
+            .find('>')
+            .ok_or_else(|| format!("unclosed tag near {:?}", &after[..after.len().min(40)]))?;
+        let tag = &after[..end];
+        rest = &after[end + 1..];
+        if tag.starts_with('!') || tag.starts_with('?') {
+            continue;
+        }
+        if let Some(name) = tag.strip_prefix('/') {
+            let name = name.trim().to_ascii_lowercase();
+            match stack.pop() {
+                Some(open) if open == name => {}
+                other => return Err(format!("</{name}> closes {other:?}")),
+            }
+            continue;
+        }
+        let name: String = tag
+            .chars()
+            .take_while(|c| c.is_ascii_alphanumeric() || *c == '-' || *c == ':')
+            .collect::<String>()
+            .to_ascii_lowercase();
+        if name.is_empty() {
+            return Err(format!("a '<' that starts no tag: {tag:?}"));
+        }
+        if name == "svg" {
+            svgs += 1;
+        }
+        if tag.ends_with('/') || VOID.contains(&name.as_str()) {
+            continue;
+        }
+        stack.push(name);
+    }
+    if stack.is_empty() {
+        Ok(svgs)
+    } else {
+        Err(format!("never closed: {stack:?}"))
+    }
+}
+
+#[test]
+fn the_tag_checker_catches_unbalanced_html() {
+    assert_eq!(html_tags_balanced("<p><svg><g/></svg></p>"), Ok(1));
+    assert!(html_tags_balanced("<p><svg><g></svg></p>").is_err());
+    assert!(html_tags_balanced("<section><svg>").is_err());
+}
+
+#[test]
+fn design_writes_the_reports_the_pictures_and_the_checks() {
+    let dir = temp_dir("design");
+    let r = gapwise(&[
+        "design",
+        DEMO_SPEC,
+        "--out",
+        dir.to_str().unwrap(),
+        "--strict",
+    ]);
+    assert_eq!(r.code, 0, "{}", r.stderr);
+    assert!(
+        r.stdout.contains("summary:") && r.stdout.contains("checks:"),
+        "{}",
+        r.stdout
+    );
+    assert!(r.stdout.contains(gapwise_core::SAFETY_CAUTION));
+    assert_eq!(
+        file_names(&dir),
+        [
+            "fernbank_12v.html",
+            "fernbank_12v.md",
+            "fernbank_12v_bode.svg",
+            "fernbank_12v_checks.csv",
+            "fernbank_12v_emi_spectrum.svg",
+            "provenance.json",
+        ]
+    );
+    let md = std::fs::read_to_string(dir.join("fernbank_12v.md")).unwrap();
+    let html = std::fs::read_to_string(dir.join("fernbank_12v.html")).unwrap();
+    assert!(md.contains(gapwise_core::SAFETY_CAUTION));
+    let caution = gapwise_core::supply::html_escape(gapwise_core::SAFETY_CAUTION);
+    assert!(html.contains(&caution));
+    for title in [
+        "Specification",
+        "Summary",
+        "Power stage",
+        "Transformer",
+        "Power stage and transformer consistency",
+        "Regulation and loop",
+        "EMI input filter",
+        "Primary–secondary isolation",
+        "Checks",
+    ] {
+        assert!(
+            md.contains(&format!("\n## {title}\n")),
+            "Markdown lacks {title}"
+        );
+    }
+    for id in gapwise_core::supply::REPORT_SECTIONS {
+        assert!(
+            html.contains(&format!("<section id=\"{id}\">")),
+            "HTML lacks {id}"
+        );
+    }
+    assert!(
+        md.contains("(fernbank_12v_bode.svg)") && md.contains("(fernbank_12v_emi_spectrum.svg)")
+    );
+    // self-contained: no external resources, no scripts (the SVG namespace is a name, not
+    // a resource)
+    let without_ns = html.replace("xmlns=\"http://www.w3.org/2000/svg\"", "");
+    for bad in [
+        "<script",
+        "<link",
+        "src=",
+        "href=\"http",
+        "url(",
+        "http://",
+        "https://",
+    ] {
+        assert!(!without_ns.contains(bad), "the HTML has {bad}");
+    }
+    let svgs = html_tags_balanced(&html).unwrap_or_else(|e| panic!("{e}"));
+    assert_eq!(svgs, 2, "the Bode plot and the conducted spectrum, inline");
+    assert_eq!(html.matches("</svg>").count(), 2);
+    for svg in ["fernbank_12v_bode.svg", "fernbank_12v_emi_spectrum.svg"] {
+        let text = std::fs::read_to_string(dir.join(svg)).unwrap();
+        html_tags_balanced(&text).unwrap_or_else(|e| panic!("{svg}: {e}"));
+    }
+    let csv = std::fs::read_to_string(dir.join("fernbank_12v_checks.csv")).unwrap();
+    let mut rows = csv::Reader::from_reader(csv.as_bytes());
+    let headers = rows.headers().unwrap().clone();
+    assert_eq!(&headers[0], "part");
+    assert_eq!(&headers[1], "worst_corner");
+    let parts: Vec<String> = rows.records().map(|r| r.unwrap()[0].to_string()).collect();
+    for part in [
+        "power_stage",
+        "transformer",
+        "regulation",
+        "emi_filter",
+        "isolation",
+    ] {
+        assert!(parts.iter().any(|p| p == part), "no {part} rows");
+    }
+    let prov = std::fs::read_to_string(dir.join("provenance.json")).unwrap();
+    assert!(prov.contains("fernbank_12v.toml") && prov.contains("fernbank_12v_checks.csv"));
+}
+
+#[test]
+fn design_reads_json_with_the_same_names() {
+    let dir = temp_dir("design-json");
+    let toml_text = std::fs::read_to_string(workspace_root().join(DEMO_SPEC)).unwrap();
+    let value: serde_json::Value = toml::from_str(&toml_text).unwrap();
+    let json = dir.join("fernbank_12v.json");
+    std::fs::write(&json, serde_json::to_string_pretty(&value).unwrap()).unwrap();
+    let from_json = gapwise(&["design", json.to_str().unwrap()]);
+    let from_toml = gapwise(&["design", DEMO_SPEC]);
+    assert_eq!(from_json.code, 0, "{}", from_json.stderr);
+    assert_eq!(from_json.stdout, from_toml.stdout);
+}
+
+#[test]
+fn design_exit_codes() {
+    let dir = temp_dir("design-codes");
+    let demo = std::fs::read_to_string(workspace_root().join(DEMO_SPEC)).unwrap();
+    // an unknown key is a specification error (1), naming the key and the nearest one
+    let bad = write_recipe(
+        &dir,
+        "bad.toml",
+        &demo.replace("output_current =", "output_curent ="),
+    );
+    let r = gapwise(&["design", bad.to_str().unwrap()]);
+    assert_eq!(r.code, 1, "{}", r.stderr);
+    assert!(
+        r.stderr.contains("output_curent") && r.stderr.contains("output_current"),
+        "{}",
+        r.stderr
+    );
+    // a missing file or a file that is neither TOML nor JSON is a usage error (2)
+    assert_eq!(gapwise(&["design", "no/such/spec.toml"]).code, 2);
+    let txt = write_recipe(&dir, "spec.txt", &demo);
+    assert_eq!(gapwise(&["design", txt.to_str().unwrap()]).code, 2);
+    // a design with a failed check: 0 without --strict, 3 with it
+    let small = write_recipe(
+        &dir,
+        "small.toml",
+        &demo.replace("core = \"E30/15/7\"", "core = \"EF25\""),
+    );
+    let r = gapwise(&["design", small.to_str().unwrap()]);
+    assert_eq!(r.code, 0, "{}", r.stderr);
+    assert!(r.stdout.contains("fail"), "{}", r.stdout);
+    let r = gapwise(&["design", small.to_str().unwrap(), "--strict"]);
+    assert_eq!(r.code, 3, "{}", r.stderr);
+    assert!(r.stderr.contains("failed (--strict)"), "{}", r.stderr);
+}

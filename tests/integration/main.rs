@@ -16,6 +16,7 @@ mod recipes;
 mod safety;
 mod sandbox;
 mod script;
+mod supply;
 mod units;
 mod verdicts;
 mod wires;

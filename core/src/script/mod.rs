@@ -14,6 +14,7 @@ mod api_mains;
 mod api_passives;
 mod api_rules;
 mod api_safety;
+mod api_supply;
 mod api_units;
 pub mod convert;
 pub mod docs;
@@ -116,4 +117,5 @@ pub(crate) fn register_all(
     api_flyback::register(&mut api, state);
     api_feedback::register(&mut api, state);
     api_design_flow::register(&mut api);
+    api_supply::register(&mut api);
 }
