@@ -15,11 +15,7 @@ const BOTTOM: f64 = 450.0;
 const F_MIN: f64 = 150e3;
 const F_MAX: f64 = 30e6;
 
-fn escape(s: &str) -> String {
-    s.replace('&', "&amp;")
-        .replace('<', "&lt;")
-        .replace('>', "&gt;")
-}
+use crate::report::xml_escape as escape;
 
 fn x_of(f: f64) -> f64 {
     LEFT + (RIGHT - LEFT) * (f / F_MIN).log10() / (F_MAX / F_MIN).log10()
@@ -179,27 +175,7 @@ pub fn spectrum_svg(design: &InputFilterDesign) -> String {
              filtered levels above a few MHz are optimistic; confirm with a scan.",
         )
     );
-    // the caution, wrapped by words so that it fits the width of the plot
-    let mut lines: Vec<String> = vec![String::new()];
-    for word in SAFETY_CAUTION.split_whitespace() {
-        let last = lines.last_mut().expect("one line at least");
-        if !last.is_empty() && last.len() + 1 + word.len() > 130 {
-            lines.push(word.to_string());
-        } else {
-            if !last.is_empty() {
-                last.push(' ');
-            }
-            last.push_str(word);
-        }
-    }
-    for (k, line) in lines.iter().enumerate() {
-        let _ = writeln!(
-            s,
-            r#"<text x="{LEFT}" y="{:.1}" font-size="9">{}</text>"#,
-            HEIGHT - 26.0 + 11.0 * k as f64,
-            escape(line)
-        );
-    }
+    s.push_str(&crate::report::svg_caution(LEFT, HEIGHT - 26.0));
     s.push_str("</svg>\n");
     s
 }

@@ -103,11 +103,7 @@ pub fn bode_table(points: &[BodePoint]) -> Table {
     t
 }
 
-fn escape(s: &str) -> String {
-    s.replace('&', "&amp;")
-        .replace('<', "&lt;")
-        .replace('>', "&gt;")
-}
+use crate::report::xml_escape as escape;
 
 fn freq_label(f: f64) -> String {
     if f >= 1e3 {
@@ -338,26 +334,7 @@ pub fn bode_svg(points: &[BodePoint], margins: &LoopMargins, title: &str) -> Str
             "Small-signal model (Ridley's sampling double pole; valid to f_s/2); network phase boost at least {MIN_PHASE_BOOST_DEG}°. Confirm on the bench with a loop analyser."
         ))
     );
-    let mut lines: Vec<String> = vec![String::new()];
-    for word in SAFETY_CAUTION.split_whitespace() {
-        let last = lines.last_mut().expect("one line at least");
-        if !last.is_empty() && last.len() + 1 + word.len() > 130 {
-            lines.push(word.to_string());
-        } else {
-            if !last.is_empty() {
-                last.push(' ');
-            }
-            last.push_str(word);
-        }
-    }
-    for (k, line) in lines.iter().enumerate() {
-        let _ = writeln!(
-            s,
-            r#"<text x="{L}" y="{:.1}" font-size="9">{}</text>"#,
-            H - 34.0 + 11.0 * k as f64,
-            escape(line)
-        );
-    }
+    s.push_str(&crate::report::svg_caution(L, H - 34.0));
     s.push_str("</svg>\n");
     s
 }

@@ -1,9 +1,11 @@
 //! Results leaving the calculation layer: named values, records and tables, written as
 //! aligned text, CSV (units in the headers) or JSON. Writing files is the runner's job.
 
+mod svg;
 mod table;
 mod value;
 
+pub use svg::{svg_caution, xml_escape};
 pub use table::{Column, ColumnKind, Table, WriteOptions};
 pub use value::{serialize_record, Field, Record, Value};
 
