@@ -256,3 +256,27 @@ fn without_the_counting_allocator_the_memory_budget_is_not_enforced() {
     });
     assert_eq!(h.eval("40 + 2", "<test>").unwrap().as_int(), Ok(42));
 }
+
+#[test]
+fn a_second_output_text_under_the_same_name_is_an_error_issue_16() {
+    // issue 16: a second output with the same name replaced the first without a word
+    let h = small_host();
+    let e = h
+        .eval(
+            "output_text(\"notes\", \"md\", \"# one\"); output_text(\"notes\", \"md\", \"# two\");",
+            "<test>",
+        )
+        .unwrap_err();
+    assert!(
+        e.message.contains("`notes.md` was already handed over"),
+        "{}",
+        e.message
+    );
+    // another extension is another file
+    assert!(h
+        .eval(
+            "output_text(\"plot\", \"md\", \"# a\"); output_text(\"plot\", \"svg\", \"<svg></svg>\");",
+            "<test>",
+        )
+        .is_ok());
+}

@@ -220,6 +220,17 @@ impl HostState {
     /// Hands a text to the runner; a report made by a gapwise function brings the failed
     /// checks it shows toward `--strict` (see [`HostState::verdict_text`]).
     pub(crate) fn push_text(&self, text: OutputText) -> crate::error::Result<()> {
+        let duplicate = self.texts.lock().is_ok_and(|o| {
+            o.iter()
+                .any(|t| t.name == text.name && t.extension == text.extension)
+        });
+        if duplicate {
+            // a second text under the same file name would replace the first without a word
+            return Err(crate::error::Error::invalid(format!(
+                "output_text: `{}.{}` was already handed over; give each output text its own name",
+                text.name, text.extension
+            )));
+        }
         self.count_output(
             &format!("output_text `{}.{}`", text.name, text.extension),
             text.text.len(),
@@ -232,7 +243,6 @@ impl HostState {
             .unwrap_or(0);
         self.note_failed_checks(failed);
         if let Ok(mut o) = self.texts.lock() {
-            o.retain(|t| !(t.name == text.name && t.extension == text.extension));
             o.push(text);
         }
         Ok(())
