@@ -114,6 +114,9 @@ pub struct Provenance {
     pub data_tables: Vec<String>,
     /// True when the recipe failed after handing over these outputs.
     pub incomplete: bool,
+    /// The warnings the run printed (ignored keys, stringified fields, ...), in order, so
+    /// a reviewer of the output folder sees them without the terminal log.
+    pub warnings: Vec<String>,
 }
 
 impl Provenance {
@@ -143,6 +146,7 @@ impl Provenance {
                 .map(|s| s.to_string())
                 .collect(),
             incomplete: false,
+            warnings: Vec::new(),
         }
     }
 
@@ -163,6 +167,7 @@ impl Provenance {
             units: if options.si { "si" } else { "preferred" },
             exact: options.exact,
             complete: !self.incomplete,
+            warnings: &self.warnings,
             files: files
                 .iter()
                 .map(|(name, bytes)| FileJson {
@@ -187,6 +192,7 @@ struct ProvenanceJson<'a> {
     units: &'a str,
     exact: bool,
     complete: bool,
+    warnings: &'a [String],
     files: Vec<FileJson<'a>>,
 }
 

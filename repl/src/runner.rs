@@ -174,12 +174,14 @@ pub fn run(args: &RunArgs, limits: EngineLimits) -> Result<(), Failure> {
     if let Some(p) = &progress {
         p.finish();
     }
-    for w in host.take_warnings() {
+    let warnings = host.take_warnings();
+    for w in &warnings {
         eprintln!("warning: {w}");
     }
     let outputs = host.take_outputs();
     let texts = host.take_texts();
-    let provenance = Provenance::new(&source_name, &source, &args.set);
+    let mut provenance = Provenance::new(&source_name, &source, &args.set);
+    provenance.warnings = warnings;
     if let Err(e) = result {
         if args.out.is_some() && (!outputs.is_empty() || !texts.is_empty()) {
             let note = format!(
