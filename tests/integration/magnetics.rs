@@ -1101,3 +1101,27 @@ fn the_core_does_not_saturate_with_the_output_shorted() {
     ));
     assert_eq!(ids, "true");
 }
+
+#[test]
+fn extreme_core_dimensions_are_errors_not_nan() {
+    // issue 16: a 1e-300 mm toroid height once gave NaN effective parameters with exit 0
+    let e = eval_err(
+        "core_from_dimensions(#{family: \"toroid\", outer_diameter: 25 * mm, inner_diameter: 15 * mm, height: 1e-300 * mm})",
+    )
+    .to_string();
+    assert!(e.contains("`height`") && e.contains("below 0.1 mm"), "{e}");
+    let e = eval_err(
+        "core_from_dimensions(#{family: \"toroid\", outer_diameter: 25 * mm, inner_diameter: 1e-300 * mm, height: 10 * mm})",
+    )
+    .to_string();
+    assert!(e.contains("`inner_diameter`"), "{e}");
+    // an outer-leg area larger than the whole footprint is named, not turned into numbers
+    let e = eval_err(
+        "core_from_dimensions(#{family: \"E\", overall_width: 30 * mm, overall_height: 30 * mm, depth: 10 * mm, window_height: 20 * mm, window_width: 20 * mm, centre_leg_width: 10 * mm, outer_leg_area: 1e300 * m2})",
+    )
+    .to_string();
+    assert!(
+        e.contains("`outer_leg_area`") && e.contains("overall_width × depth"),
+        "{e}"
+    );
+}

@@ -196,7 +196,16 @@ impl Core {
             f * g
         };
         let ao = match d.outer_leg_area {
-            Some(x) => positive("outer_leg_area", x)?.value,
+            Some(x) => {
+                let x = positive("outer_leg_area", x)?.value;
+                if x > a * c {
+                    return Err(Error::out_of_range(format!(
+                        "core `{name}`: `outer_leg_area` = {x:e} m² is more than overall_width × depth ({:e} m²), which no pair of halves can have",
+                        a * c
+                    )));
+                }
+                x
+            }
             None => (a - ww) * c,
         };
         let ay = 2.0 * h * c;
@@ -238,7 +247,7 @@ impl Core {
         };
         let depth_wound = c.max(g + 2.0 * half_ww);
         let surface = 2.0 * (a * hh + a * depth_wound + hh * depth_wound);
-        Ok(Core {
+        finite_core(Core {
             name: name.to_string(),
             family,
             effective_area: si(ae),
@@ -284,7 +293,7 @@ impl Core {
         let od = 2.0 * r2 + 2.0 * bh;
         let hw = h + 2.0 * bh;
         let surface = 2.0 * PI * od * od / 4.0 + PI * od * hw;
-        Ok(Core {
+        finite_core(Core {
             name: name.to_string(),
             family: CoreFamily::Toroid,
             effective_area: si(ae),
@@ -674,13 +683,67 @@ pub fn core_by_size(name: &str) -> Result<Core> {
     )))
 }
 
+/// `core` when every computed parameter is finite and its effective area, length, volume
+/// and minimum area are above zero; otherwise an error naming the first parameter that is
+/// not (extreme but accepted combinations of dimensions could still overflow or underflow the
+/// IEC 60205 sums; a silent NaN would reach every design built on the core).
+fn finite_core(core: Core) -> Result<Core> {
+    let areas = [
+        ("effective_area", core.effective_area, true),
+        ("minimum_area", core.minimum_area, true),
+        ("centre_leg_area", core.centre_leg_area, true),
+        ("outer_leg_area", core.outer_leg_area, true),
+        ("window_area", core.window_area, false),
+        ("surface_area", core.surface_area, false),
+    ];
+    let lengths = [
+        ("effective_length", core.effective_length, true),
+        ("window_height", core.window_height, false),
+        ("winding_width", core.winding_width, false),
+        ("winding_height", core.winding_height, false),
+        ("mean_turn_length", core.mean_turn_length, false),
+    ];
+    let values = areas
+        .iter()
+        .map(|(n, a, p)| (*n, a.value, *p, "m²"))
+        .chain(lengths.iter().map(|(n, l, p)| (*n, l.value, *p, "m")))
+        .chain(std::iter::once((
+            "effective_volume",
+            core.effective_volume.value,
+            true,
+            "m³",
+        )));
+    for (n, v, must_be_positive, unit) in values {
+        if !v.is_finite() || v < 0.0 || (must_be_positive && v == 0.0) {
+            return Err(Error::out_of_range(format!(
+                "core `{}`: its dimensions give {n} = {v} {unit}, not a usable core (check the dimensions for extreme values)",
+                core.name
+            )));
+        }
+    }
+    Ok(core)
+}
+
 /// The largest core dimension accepted: power ferrite cores are well below a fifth of this.
 const LARGEST_CORE_DIMENSION_M: f64 = 1.0;
 
-/// A core dimension: positive and at most [`LARGEST_CORE_DIMENSION_M`] (beyond it the
-/// effective parameters would describe no ferrite core, and their squares may overflow).
+/// The smallest core dimension accepted, 0.1 mm: the smallest power ferrite parts are
+/// several times larger (common practice, no published source); below it the IEC 60205
+/// sums (areas squared, then squared again in C2) lose their precision and underflow.
+const SMALLEST_CORE_DIMENSION_M: f64 = 1e-4;
+
+/// A core dimension: between [`SMALLEST_CORE_DIMENSION_M`] and [`LARGEST_CORE_DIMENSION_M`]
+/// (outside, the effective parameters would describe no ferrite core, and their squares may
+/// overflow or underflow).
 fn core_dimension(name: &str, l: Length) -> Result<Length> {
     let l = positive(name, l)?;
+    if l.value < SMALLEST_CORE_DIMENSION_M {
+        return Err(Error::out_of_range(format!(
+            "`{name}` = {} is below {} mm, outside the range of ferrite cores",
+            Quantity::from_typed(l),
+            SMALLEST_CORE_DIMENSION_M * 1e3
+        )));
+    }
     if l.value > LARGEST_CORE_DIMENSION_M {
         return Err(Error::out_of_range(format!(
             "`{name}` = {} is above {LARGEST_CORE_DIMENSION_M} m, outside the range of ferrite cores",
@@ -693,6 +756,20 @@ fn core_dimension(name: &str, l: Length) -> Result<Length> {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn a_core_with_a_non_finite_parameter_is_refused_by_name() {
+        let good = core_shapes().unwrap().into_iter().next().unwrap();
+        assert!(finite_core(good.clone()).is_ok());
+        let mut bad = good.clone();
+        bad.effective_length = si(f64::NAN);
+        let e = finite_core(bad).unwrap_err().to_string();
+        assert!(e.contains("effective_length"), "{e}");
+        let mut zero = good;
+        zero.effective_area = si(0.0);
+        let e = finite_core(zero).unwrap_err().to_string();
+        assert!(e.contains("effective_area"), "{e}");
+    }
 
     #[test]
     fn every_built_in_core_is_finite_and_positive() {
