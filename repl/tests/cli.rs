@@ -457,6 +457,30 @@ fn limit_flags_reach_the_engine() {
 }
 
 #[test]
+fn the_operation_budget_covers_the_whole_run_across_family_variants() {
+    // each variant alone stays well within the budget; five of them together do not (issue
+    // 16: each variant used to count from its caller's count, not from one whole-run total)
+    let s = "fn busy(v) { let x = 0; for i in 0..150000 { x += i; } #{v: v} } family(|v| busy(v), [1, 2, 3, 4, 5])";
+    let one = gapwise(&[
+        "eval",
+        "--max-operations",
+        "1000000",
+        "busy(1); fn busy(v) { let x = 0; for i in 0..150000 { x += i; } #{v: v} }",
+    ]);
+    assert_eq!(one.code, 0, "{}", one.stderr);
+    let r = gapwise(&["eval", "--max-operations", "1000000", s]);
+    assert_eq!(r.code, 1, "{}", r.stdout);
+    assert!(
+        r.stderr
+            .contains("more than 1000000 operations in the whole run"),
+        "{}",
+        r.stderr
+    );
+    let r = gapwise(&["eval", "--max-operations", "5000000", s]);
+    assert_eq!(r.code, 0, "{}", r.stderr);
+}
+
+#[test]
 fn help_shows_a_function_and_suggests_for_typos() {
     let r = gapwise(&["help", "skin_depth"]);
     assert_eq!(r.code, 0, "{}", r.stderr);
@@ -1393,4 +1417,50 @@ fn design_exit_codes() {
     let r = gapwise(&["design", small.to_str().unwrap(), "--strict"]);
     assert_eq!(r.code, 3, "{}", r.stderr);
     assert!(r.stderr.contains("failed (--strict)"), "{}", r.stderr);
+}
+
+#[test]
+fn ignored_key_warnings_go_into_provenance() {
+    let d = temp_dir("prov_warnings");
+    let recipe = r#"
+let d = flyback_design(#{output_voltage: 12 * V, output_current: 1.25 * A, zener_tolerance: 0.1});
+output_table("one", table([#{ output_voltage: 12 * V }]));
+"#;
+    let path = write_recipe(&d, "w.rhai", recipe);
+    let out = d.join("out");
+    let r = gapwise(&[
+        "run",
+        path.to_str().unwrap(),
+        "--out",
+        out.to_str().unwrap(),
+    ]);
+    assert_eq!(r.code, 0, "{}", r.stderr);
+    assert!(r.stderr.contains("`zener_tolerance`"), "{}", r.stderr);
+    let p: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(out.join("provenance.json")).unwrap())
+            .unwrap();
+    let w = p["warnings"].as_array().expect("a warnings array");
+    assert!(
+        w.iter()
+            .any(|w| w.as_str().unwrap().contains("`zener_tolerance`")),
+        "{p}"
+    );
+    // a recipe without ignored keys has an empty list
+    let clean = write_recipe(
+        &d,
+        "c.rhai",
+        "output_table(\"one\", table([#{ v: 12 * V }]));\n",
+    );
+    let r = gapwise(&[
+        "run",
+        clean.to_str().unwrap(),
+        "--out",
+        out.to_str().unwrap(),
+    ]);
+    assert_eq!(r.code, 0, "{}", r.stderr);
+    let q: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(out.join("provenance.json")).unwrap())
+            .unwrap();
+    assert_eq!(q["warnings"].as_array().map(|a| a.len()), Some(0), "{q}");
+    std::fs::remove_dir_all(&d).unwrap();
 }

@@ -37,11 +37,10 @@ pub struct EngineLimits {
     /// operation (see [`super::memory`]); enforced only when the program installs
     /// [`super::memory::CountingAllocator`]. The default, 128 MiB, also bounds how deep a
     /// chain of closures can nest (about 120 bytes of heap per level, so about a million
-    /// levels), which keeps its recursive drop within [`SCRIPT_STACK_BYTES`] (measured in a
-    /// debug build: 1.5 million levels drop, 2 million overflow); what a run leaves is freed
-    /// without recursion ([`ScriptHost::release_scope`]). Known gap: a chain with arrays
-    /// nested in each captured value (`let d = [[c]]; c = || d;`) that the script itself
-    /// drops part-way can still overflow the stack within this budget.
+    /// levels), and sizes the script stack ([`script_stack_bytes`]: eight bytes of stack per byte of
+    /// budget) so that whatever the script builds within it, even a chain with arrays nested
+    /// in each captured value that the script itself drops, is dropped without overflow;
+    /// what a run leaves is freed without recursion ([`ScriptHost::release_scope`]).
     pub max_memory_bytes: usize,
     /// Total bytes one run may hand to `output_text` and `output_table` together.
     pub max_output_bytes: usize,
@@ -102,11 +101,27 @@ pub(crate) struct HostState {
     output_bytes: AtomicU64,
     /// The limit on `output_bytes`.
     max_output_bytes: u64,
+    /// Stack of the script thread and of each family worker ([`script_stack_bytes`]).
+    stack_bytes: usize,
+    /// Operations of the whole run, the recipe's and every family variant's together,
+    /// counted in steps of [`OPERATION_STEP`] (each context adds a step when its own count
+    /// passes a multiple of it).
+    operations: AtomicU64,
+    /// The limit on `operations` (0: none).
+    max_operations: u64,
 }
 
+/// Operations between two checks of the clock, the interrupt flag and the whole-run
+/// operation count.
+const OPERATION_STEP: u64 = 512;
+
 impl HostState {
-    fn new(budget: Duration, max_output_bytes: usize) -> Self {
+    fn new(limits: &EngineLimits) -> Self {
+        let (budget, max_output_bytes) = (limits.time_budget, limits.max_output_bytes);
         Self {
+            stack_bytes: script_stack_bytes(limits.max_memory_bytes),
+            operations: AtomicU64::new(0),
+            max_operations: limits.max_operations,
             output_bytes: AtomicU64::new(0),
             max_output_bytes: u64::try_from(max_output_bytes).unwrap_or(u64::MAX),
             epoch: Instant::now(),
@@ -181,11 +196,27 @@ impl HostState {
     }
     fn start_clock(&self) {
         self.interrupt.store(false, Ordering::Relaxed);
+        self.operations.store(0, Ordering::Relaxed);
         let deadline = self.epoch.elapsed() + self.budget;
         let nanos = u64::try_from(deadline.as_nanos())
             .unwrap_or(u64::MAX)
             .max(1);
         self.deadline_nanos.store(nanos, Ordering::Relaxed);
+    }
+    /// Adds one [`OPERATION_STEP`] to the whole run's count; the error once it passes the
+    /// limit. Each context (the recipe, every family variant) counts from where its caller
+    /// was, so the engine's own limit bounds one chain of calls; this bounds their sum.
+    fn count_operations(&self) -> Option<String> {
+        if self.max_operations == 0 {
+            return None;
+        }
+        let total = self.operations.fetch_add(OPERATION_STEP, Ordering::Relaxed) + OPERATION_STEP;
+        (total > self.max_operations).then(|| {
+            format!(
+                "script stopped: more than {} operations in the whole run, family variants included (raise the limit with --max-operations)",
+                self.max_operations
+            )
+        })
     }
     fn stop_clock(&self) {
         self.deadline_nanos.store(0, Ordering::Relaxed);
@@ -276,14 +307,19 @@ impl HostState {
         self.failed_checks.fetch_add(n, Ordering::Relaxed);
     }
     /// The thread pool family variants run on: one worker per core, each with a stack of
-    /// [`SCRIPT_STACK_BYTES`] (built on first use; the global pool if that fails).
+    /// [`script_stack_bytes`] (built on first use; with [`SCRIPT_STACK_BYTES`] when the
+    /// address space cannot hold that; the global pool if that fails too).
     pub(crate) fn family_pool(&self) -> Option<&rayon::ThreadPool> {
         self.pool
             .get_or_init(|| {
-                rayon::ThreadPoolBuilder::new()
-                    .thread_name(|i| format!("gapwise-family-{i}"))
-                    .stack_size(SCRIPT_STACK_BYTES)
-                    .build()
+                let build = |bytes: usize| {
+                    rayon::ThreadPoolBuilder::new()
+                        .thread_name(|i| format!("gapwise-family-{i}"))
+                        .stack_size(bytes)
+                        .build()
+                };
+                build(self.stack_bytes)
+                    .or_else(|_| build(SCRIPT_STACK_BYTES.min(self.stack_bytes)))
                     .ok()
             })
             .as_ref()
@@ -311,10 +347,33 @@ impl HostState {
     }
 }
 
-/// Stack of the thread every script is parsed and run on, and of each family worker. Deep
-/// nesting (calls, expressions, values) ends with a clear error long before it fills this; the
-/// memory is reserved, not used, until a script goes deep.
+/// The smallest stack of the thread every script is parsed and run on, and of each family
+/// worker (see [`script_stack_bytes`]). Deep nesting (calls, expressions) ends with a clear
+/// error long before it fills this; the memory is reserved, not used, until a script goes deep.
 pub const SCRIPT_STACK_BYTES: usize = 256 << 20;
+
+/// The largest script stack [`script_stack_bytes`] reserves per thread (2 GiB).
+pub const MAX_SCRIPT_STACK_BYTES: usize = 2 << 30;
+
+/// Stack bytes reserved per unit of the memory budget. A chain of closures costs heap and,
+/// when it is dropped (by Rhai, recursively), stack; measured in a debug build here, the
+/// worst shapes cost at most about 3 bytes of stack per byte of heap (`let d = [[c]]; c = || d`:
+/// about 190 B of heap and 470 B of stack per level; six arrays per level: about 340 B and
+/// 1 KB). Eight leaves more than twice that as margin.
+const STACK_PER_BUDGET_BYTE: usize = 8;
+
+/// The stack of the script thread and of each family worker for a memory budget of
+/// `max_memory_bytes`: eight bytes per byte of budget, at least [`SCRIPT_STACK_BYTES`] and at
+/// most [`MAX_SCRIPT_STACK_BYTES`]. Whatever a script can build within the budget, Rhai can
+/// then drop recursively without overflowing the stack, for budgets up to 256 MiB (the
+/// default is 128 MiB: a 1 GiB stack). Above 256 MiB the stack stays at 2 GiB and a script
+/// that nests closures over more than about 600 MiB may still overflow it (documented in
+/// README, Reliability). The memory is reserved, not used, until a script goes deep.
+pub fn script_stack_bytes(max_memory_bytes: usize) -> usize {
+    max_memory_bytes
+        .saturating_mul(STACK_PER_BUDGET_BYTE)
+        .clamp(SCRIPT_STACK_BYTES, MAX_SCRIPT_STACK_BYTES)
+}
 
 /// The deepest call nesting the limits may allow: what [`SCRIPT_STACK_BYTES`] holds with a wide
 /// margin in a debug build (measured here: 20,000 levels of a one-line recursive function run,
@@ -324,17 +383,23 @@ pub const MAX_CALL_DEPTH: usize = 5000;
 /// The largest memory budget, in MiB, the command line allows (4 GiB).
 pub const MAX_MEMORY_MIB: usize = 4096;
 
-/// Runs `f` on a thread with a stack of [`SCRIPT_STACK_BYTES`], so that no script can overflow
-/// the caller's (smaller, unknown) stack and abort the process. Falls back to the current
-/// thread if no thread can be started.
-pub(crate) fn on_script_stack<R: Send>(f: impl FnOnce() -> R + Send) -> R {
+/// Runs `f` on a thread with a stack of `stack_bytes` ([`script_stack_bytes`]), so that no
+/// script can overflow the caller's (smaller, unknown) stack and abort the process. Retries
+/// with [`SCRIPT_STACK_BYTES`] when the address space cannot hold the full stack, and falls
+/// back to the current thread if no thread can be started at all.
+pub(crate) fn on_script_stack<R: Send>(stack_bytes: usize, f: impl FnOnce() -> R + Send) -> R {
     let job = Mutex::new(Some(f));
     let take = || job.lock().ok().and_then(|mut j| j.take());
     let spawned = std::thread::scope(|scope| {
-        let handle = std::thread::Builder::new()
-            .name("gapwise-script".into())
-            .stack_size(SCRIPT_STACK_BYTES)
-            .spawn_scoped(scope, || take().map(|f| f()))
+        // the full stack first; if the address space is short (a `ulimit -v`), the smallest
+        let spawn = |bytes: usize| {
+            std::thread::Builder::new()
+                .name("gapwise-script".into())
+                .stack_size(bytes)
+                .spawn_scoped(scope, || take().map(|f| f()))
+        };
+        let handle = spawn(stack_bytes)
+            .or_else(|_| spawn(SCRIPT_STACK_BYTES.min(stack_bytes)))
             .ok()?;
         match handle.join() {
             Ok(r) => r,
@@ -656,7 +721,7 @@ impl ScriptHost {
     /// frozen. Functions added here have no help entry unless the program documents them.
     pub fn with_extensions(mut limits: EngineLimits, extend: impl FnOnce(&mut Engine)) -> Self {
         limits.max_call_levels = limits.max_call_levels.min(MAX_CALL_DEPTH);
-        let state = Arc::new(HostState::new(limits.time_budget, limits.max_output_bytes));
+        let state = Arc::new(HostState::new(&limits));
         let mut engine = Engine::new_raw();
         {
             use rhai::packages::Package;
@@ -685,10 +750,12 @@ impl ScriptHost {
                     return Some(Dynamic::from(memory_message(max_memory)));
                 }
             }
-            if ops % 512 != 0 {
+            if ops % OPERATION_STEP != 0 {
                 return None;
             }
-            st.should_stop().map(Dynamic::from)
+            st.count_operations()
+                .or_else(|| st.should_stop())
+                .map(Dynamic::from)
         });
         let st = state.clone();
         engine.on_print(move |s| st.print(s));
@@ -788,7 +855,7 @@ impl ScriptHost {
     /// Compiles a script; `source_name` appears in error messages. A script that redefines
     /// a built-in function or names a variable like a unit constant is refused here.
     pub fn compile(&self, source: &str, source_name: &str) -> Result<AST, ScriptError> {
-        let ast = on_script_stack(|| self.engine.compile(source))
+        let ast = on_script_stack(self.state.stack_bytes, || self.engine.compile(source))
             .map_err(|e| ScriptError::from_parse(&e, source, source_name))?;
         self.protected.check(&ast, source, source_name)?;
         Ok(ast)
@@ -841,8 +908,10 @@ impl ScriptHost {
         source: &str,
         source_name: &str,
     ) -> Result<AST, ScriptError> {
-        let ast = on_script_stack(|| self.engine.compile_with_scope(scope, source))
-            .map_err(|e| ScriptError::from_parse(&e, source, source_name))?;
+        let ast = on_script_stack(self.state.stack_bytes, || {
+            self.engine.compile_with_scope(scope, source)
+        })
+        .map_err(|e| ScriptError::from_parse(&e, source, source_name))?;
         self.protected.check(&ast, source, source_name)?;
         Ok(ast)
     }
@@ -872,7 +941,7 @@ impl ScriptHost {
             Arc::make_mut(&mut k).learn(source, ast, self.limits.max_expr_depth);
         }
         self.state.start_clock();
-        let r = on_script_stack(|| {
+        let r = on_script_stack(self.state.stack_bytes, || {
             let r = self.engine.eval_ast_with_scope::<Dynamic>(scope, ast);
             self.state.collect_warnings();
             r
@@ -985,7 +1054,7 @@ impl ScriptHost {
         args: impl rhai::FuncArgs + Send,
     ) -> Result<Dynamic, ScriptError> {
         self.state.start_clock();
-        let r = on_script_stack(|| {
+        let r = on_script_stack(self.state.stack_bytes, || {
             let r = self
                 .engine
                 .call_fn::<Dynamic>(&mut Scope::new(), ast, name, args);
@@ -1009,20 +1078,22 @@ impl ScriptHost {
     /// line, tables aligned.
     pub fn display(&self, value: &Dynamic) -> String {
         // deep values recurse: format on the script stack, not the caller's
-        on_script_stack(|| super::api_units::display_value(value))
+        on_script_stack(self.state.stack_bytes, || {
+            super::api_units::display_value(value)
+        })
     }
 
     /// Drops values (a run's scope, its result) on a thread with the script stack: a deeply
     /// nested value (a chain of closures) drops recursively and could overflow the caller's
     /// smaller stack.
     pub fn release<T: Send>(&self, value: T) {
-        on_script_stack(move || drop(value));
+        on_script_stack(self.state.stack_bytes, move || drop(value));
     }
 
     /// Drops a finished run's scope for good (see [`ScriptHost::release_value`]).
     pub fn release_scope(&self, scope: Scope<'static>) {
         let values: Vec<Dynamic> = scope.into_iter().map(|(_, v, _)| v).collect();
-        on_script_stack(move || dismantle(values));
+        on_script_stack(self.state.stack_bytes, move || dismantle(values));
     }
 
     /// Drops a finished run's value for good without recursion (on the script stack, taking
@@ -1032,7 +1103,7 @@ impl ScriptHost {
     /// again (the end of `gapwise run` or `eval`; a prompt session keeps its values, so it
     /// uses [`ScriptHost::release`]).
     pub fn release_value(&self, value: Dynamic) {
-        on_script_stack(move || dismantle(vec![value]));
+        on_script_stack(self.state.stack_bytes, move || dismantle(vec![value]));
     }
 }
 

@@ -28,8 +28,8 @@ pub mod suggest;
 
 pub use docs::{Domain, FunctionDoc, ParamDefault, ParamDoc, ParamKind};
 pub use host::{
-    EngineLimits, OutputText, PrintFn, ProgressFn, ScriptError, ScriptHost, MAX_CALL_DEPTH,
-    MAX_MEMORY_MIB, SCRIPT_STACK_BYTES,
+    script_stack_bytes, EngineLimits, OutputText, PrintFn, ProgressFn, ScriptError, ScriptHost,
+    MAX_CALL_DEPTH, MAX_MEMORY_MIB, MAX_SCRIPT_STACK_BYTES, SCRIPT_STACK_BYTES,
 };
 pub use recipe::{value_kind, RecipeParam};
 pub use record::ScriptRecord;
