@@ -7,6 +7,7 @@ mod design_flow;
 mod emi;
 mod feedback;
 mod flyback;
+mod fuzz;
 mod magnetics;
 mod mains;
 mod passives;
